@@ -1,0 +1,5 @@
+"""Reading site files: discovery, safe YAML parsing, schema and semantic validation."""
+from tracker.loading.errors import InputError, LoadWarning
+from tracker.loading.estate import Estate, load_estate, load_site
+
+__all__ = ["InputError", "LoadWarning", "Estate", "load_estate", "load_site"]

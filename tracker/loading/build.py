@@ -1,0 +1,156 @@
+"""Parsed, schema-valid documents → model objects, with the schema's defaults applied.
+
+Also finds what a schema cannot: numbers that are not finite (``.nan``, ``.inf``) and keys
+that look like misspellings of known ones (a warning: unknown keys are allowed).
+"""
+from __future__ import annotations
+
+import difflib
+import math
+
+from tracker.model import Board, Cable, Circuit, Device, Environment, Load, Src, Supply
+from tracker.schemas_access import schema_json
+
+
+class Problems:
+    """Collects (file, path, message) errors and warnings while building."""
+
+    def __init__(self, file: str):
+        self.file = file
+        self.errors: list[tuple[str, tuple, str]] = []
+        self.warnings: list[tuple[str, tuple, str]] = []
+
+    def error(self, path: tuple, message: str) -> None:
+        self.errors.append((self.file, path, message))
+
+    def warn(self, path: tuple, message: str) -> None:
+        self.warnings.append((self.file, path, message))
+
+
+def _known_keys() -> dict[str, frozenset]:
+    defs = schema_json("site.schema.json")["$defs"]
+    return {name: frozenset(d.get("properties", {})) for name, d in defs.items()}
+
+
+_KNOWN = _known_keys()
+_TOP = frozenset(schema_json("site.schema.json")["properties"])
+
+
+def _check_keys(d: dict, known: frozenset, path: tuple, p: Problems) -> None:
+    extra = d.keys() - known
+    for key in extra:
+        if not isinstance(key, str):
+            continue
+        close = difflib.get_close_matches(key, known, n=1, cutoff=0.6)
+        if close:
+            p.warn(path + (key,), f"unknown key, ignored (did you mean '{close[0]}'?)")
+
+
+def _num(d: dict, key: str, path: tuple, p: Problems, default=None):
+    value = d.get(key, default)
+    if value is None or isinstance(value, bool):
+        return value
+    if isinstance(value, float) and not math.isfinite(value):
+        p.error(path + (key,), f"{value} is not a finite number")
+        return default
+    return float(value)
+
+
+def _text(value) -> str:
+    return value if isinstance(value, str) else str(value)
+
+
+def build_top(doc: dict, p: Problems) -> None:
+    _check_keys(doc, _TOP, (), p)
+
+
+def build_supply(d: dict, p: Problems) -> Supply:
+    path = ("supply",)
+    _check_keys(d, _KNOWN["supply"], path, p)
+    return Supply(
+        system=d["system"],
+        u0_v=_num(d, "u0_v", path, p, 230.0),
+        ze_ohm=_num(d, "ze_ohm", path, p),
+        pfc_ka=_num(d, "pfc_ka", path, p),
+        service_fuse_a=_num(d, "service_fuse_a", path, p),
+        electrode_ohm=_num(d, "electrode_ohm", path, p),
+        private=bool(d.get("private", False)),
+        src=Src(p.file, path),
+    )
+
+
+def build_board(d: dict, index: int, p: Problems) -> Board:
+    path = ("boards", index)
+    _check_keys(d, _KNOWN["board"], path, p)
+    return Board(
+        id=_text(d["id"]),
+        fed_by=d["fed_by"],
+        name=d.get("name", ""),
+        main_switch_a=_num(d, "main_switch_a", path, p),
+        conditional_rating_ka=_num(d, "conditional_rating_ka", path, p),
+        rcd_ma=_num(d, "rcd_ma", path, p),
+        src=Src(p.file, path),
+    )
+
+
+def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
+    path = ("circuits", index)
+    _check_keys(d, _KNOWN["circuit"], path, p)
+    dev, cab = d["device"], d["cable"]
+    _check_keys(dev, _KNOWN["device"], path + ("device",), p)
+    _check_keys(cab, _KNOWN["cable"], path + ("cable",), p)
+    env = d.get("environment") or {}
+    _check_keys(env, _KNOWN["environment"], path + ("environment",), p)
+    device = Device(
+        kind=dev["kind"],
+        rating_a=_num(dev, "rating_a", path + ("device",), p),
+        curve=dev.get("curve"),
+        breaking_ka=_num(dev, "breaking_ka", path + ("device",), p),
+        max_zs_ohm=_num(dev, "max_zs_ohm", path + ("device",), p),
+        let_through_a2s=_num(dev, "let_through_a2s", path + ("device",), p),
+    )
+    cable = Cable(
+        kind=cab["kind"],
+        csa_mm2=_num(cab, "csa_mm2", path + ("cable",), p),
+        length_m=_num(cab, "length_m", path + ("cable",), p),
+        method=_text(cab["method"]),
+        cpc_mm2=_num(cab, "cpc_mm2", path + ("cable",), p),
+    )
+    environment = Environment(
+        ambient_c=_num(env, "ambient_c", path + ("environment",), p),
+        grouped_with=int(env.get("grouped_with", 1)),
+        arrangement=env.get("arrangement", "bunched"),
+        insulation_mm=_num(env, "insulation_mm", path + ("environment",), p, 0.0),
+    )
+    loads = tuple(build_load(ld, index, j, p) for j, ld in enumerate(d.get("loads") or ()))
+    feeds = d.get("feeds")
+    return Circuit(
+        id=_text(d["id"]),
+        board=_text(d["board"]),
+        device=device,
+        cable=cable,
+        name=d.get("name", ""),
+        topology=d.get("topology", "radial"),
+        feeds=None if feeds is None else _text(feeds),
+        design_current_a=_num(d, "design_current_a", path, p),
+        overload_exempt=bool(d.get("overload_exempt", False)),
+        rcd_ma=_num(d, "rcd_ma", path, p),
+        environment=environment,
+        loads=loads,
+        src=Src(p.file, path),
+    )
+
+
+def build_load(d: dict, circuit_index: int, index: int, p: Problems) -> Load:
+    path = ("circuits", circuit_index, "loads", index)
+    _check_keys(d, _KNOWN["load"], path, p)
+    return Load(
+        id=_text(d["id"]),
+        kind=d["kind"],
+        name=d.get("name", ""),
+        power_kw=_num(d, "power_kw", path, p),
+        current_a=_num(d, "current_a", path, p),
+        power_factor=_num(d, "power_factor", path, p, 1.0),
+        location=d.get("location"),
+        src=Src(p.file, path),
+    )

@@ -1,0 +1,280 @@
+"""Finding and loading sites: an estate folder of site folders, or one site folder.
+
+A site folder holds `site.yaml` and optionally more `*.yaml` files adding boards and circuits.
+Loading a site either gives a complete, valid :class:`Site` or its errors: a site with any
+error is not half-loaded. Per-file results are cached by content hash, so a watcher re-reads
+only what changed.
+"""
+from __future__ import annotations
+
+import hashlib
+import os
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from tracker.loading import build, schema_check, semantic, yamlread
+from tracker.loading.errors import InputError, LoadWarning, sort_problems
+from tracker.model import Site
+
+SITE_FILE = "site.yaml"
+SITE_ID = re.compile(r"^[a-z0-9][a-z0-9._-]*$")
+STATE_DIR = ".izwatch"
+
+
+class EstateError(Exception):
+    """The path itself is unusable (missing, not a folder, holds no site)."""
+
+
+@dataclass(slots=True)
+class FileResult:
+    """One file read and checked on its own."""
+
+    rel: str
+    sha256: str | None
+    text: str | None = None
+    doc: dict | None = None
+    supply: object = None
+    site_meta: dict | None = None
+    boards: list = field(default_factory=list)
+    circuits: list = field(default_factory=list)
+    errors: list = field(default_factory=list)    # InputError
+    warnings: list = field(default_factory=list)  # LoadWarning
+    broken: set = field(default_factory=set)      # ids of elements not built (schema errors)
+
+
+@dataclass(slots=True)
+class SiteLoad:
+    folder: str                     # relative folder ('' for a single site)
+    site: Site | None
+    files: dict[str, str | None]    # rel file -> sha256 of its content
+    errors: list[InputError]
+    warnings: list[LoadWarning]
+
+
+@dataclass
+class Estate:
+    root: Path
+    single_site: bool
+    sites: dict[str, Site] = field(default_factory=dict)
+    loads: dict[str, SiteLoad] = field(default_factory=dict)   # by folder
+    errors: list[InputError] = field(default_factory=list)
+    warnings: list[LoadWarning] = field(default_factory=list)
+
+
+def sha256_hex(raw: bytes) -> str:
+    return hashlib.sha256(raw).hexdigest()
+
+
+def _inside(root: Path, path: Path) -> bool:
+    try:
+        path.resolve().relative_to(root.resolve())
+    except (ValueError, OSError):
+        return False
+    return True
+
+
+def site_folders(root: Path) -> tuple[bool, list[tuple[Path, str]], list[LoadWarning]]:
+    """(single_site, [(folder, rel)], warnings) for the path the user gave."""
+    if not root.exists():
+        raise EstateError(f"{root}: no such folder")
+    if not root.is_dir():
+        raise EstateError(f"{root}: not a folder (give the estate folder or a site folder)")
+    if (root / SITE_FILE).is_file():
+        return True, [(root, "")], []
+    found, warnings = [], []
+    try:
+        entries = sorted(os.scandir(root), key=lambda e: e.name)
+    except OSError as exc:
+        raise EstateError(f"{root}: cannot be read ({exc.strerror})") from None
+    for entry in entries:
+        if entry.name.startswith(".") or not entry.is_dir():
+            continue
+        path = Path(entry.path)
+        if entry.is_symlink() and not _inside(root, path):
+            warnings.append(LoadWarning(f"{entry.name}/", 1, 1, "not followed: the link points outside the estate"))
+            continue
+        if (path / SITE_FILE).is_file():
+            found.append((path, entry.name))
+        elif any(path.glob("*.yaml")):
+            first = sorted(path.glob("*.yaml"))[0].name
+            warnings.append(LoadWarning(f"{entry.name}/{first}", 1, 1,
+                                        f"not read: folder {entry.name}/ has no {SITE_FILE}, so it is not a site"))
+    if not found:
+        raise EstateError(f"{root}: no {SITE_FILE} here or in the folders below it")
+    return False, found, warnings
+
+
+def site_files(folder: Path, root: Path) -> tuple[list[Path], list[LoadWarning]]:
+    """The site's *.yaml files, site.yaml first, links out of the estate left out."""
+    files, warnings = [], []
+    for path in sorted(folder.glob("*.yaml")):
+        if path.name.startswith(".") or not path.is_file():
+            continue
+        if path.is_symlink() and not _inside(root, path):
+            warnings.append(LoadWarning(_rel(path, root), 1, 1, "not followed: the link points outside the estate"))
+            continue
+        files.append(path)
+    files.sort(key=lambda p: (p.name != SITE_FILE, p.name))
+    return files, warnings
+
+
+def _rel(path: Path, root: Path) -> str:
+    try:
+        return path.relative_to(root).as_posix()
+    except ValueError:
+        return path.as_posix()
+
+
+def read_file(path: Path, rel: str, cache: dict | None = None) -> FileResult:
+    """Read, parse, validate and build one file (cached by content hash)."""
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        return FileResult(rel, None, errors=[InputError(rel, 1, 1, f"cannot be read ({exc.strerror})")])
+    digest = sha256_hex(raw)
+    if cache is not None:
+        hit = cache.get(rel)
+        if hit is not None and hit.sha256 == digest:
+            return hit
+    result = _read_text(raw, rel, digest)
+    if cache is not None:
+        cache[rel] = result
+    return result
+
+
+def _read_text(raw: bytes, rel: str, digest: str) -> FileResult:
+    text, errors = yamlread.decode(raw, rel)
+    result = FileResult(rel, digest, text=text)
+    if errors:
+        result.errors = errors
+        return result
+    doc, errors = yamlread.parse(text, rel)
+    if errors:
+        result.errors = errors
+        return result
+    result.doc = doc
+    locator = None
+    bad: set[tuple] = set()
+    if not schema_check.is_valid(doc):
+        # Report every schema problem, then build the elements that have none, so that the
+        # site-wide checks can report their problems in the same run.
+        locator = yamlread.Locator(text)
+        found = schema_check.problems(doc)
+        result.errors = [InputError(rel, *locator.locate(path), message, path) for path, message in found]
+        bad = {path[:2] for path, _ in found}
+        result.broken = _broken_ids(doc, bad)
+    p = build.Problems(rel)
+    build.build_top(doc, p)
+    if isinstance(doc.get("site"), dict) and ("site",) not in bad:
+        result.site_meta = doc["site"]
+    if "supply" in doc and ("supply",) not in bad and not any(b[:1] == ("supply",) for b in bad):
+        result.supply = build.build_supply(doc["supply"], p)
+    elif "supply" in doc:
+        result.broken.add("supply")
+    result.boards = [build.build_board(b, i, p) for i, b in _good(doc, "boards", bad)]
+    result.circuits = [build.build_circuit(c, i, p) for i, c in _good(doc, "circuits", bad)]
+    if p.errors or p.warnings:
+        locator = locator or yamlread.Locator(text)
+        result.errors += [InputError(f, *locator.locate(path), m, path) for f, path, m in p.errors]
+        result.warnings = [LoadWarning(f, *locator.locate(path), m, path) for f, path, m in p.warnings]
+    return result
+
+
+def _good(doc: dict, key: str, bad: set[tuple]):
+    items = doc.get(key) or ()
+    if (key,) in bad or not isinstance(items, list):
+        return
+    for i, item in enumerate(items):
+        if (key, i) not in bad:
+            yield i, item
+
+
+def _broken_ids(doc: dict, bad: set[tuple]) -> set:
+    """Ids of elements left unbuilt, so references to them draw no second error."""
+    broken: set = set()
+    for key, index in (b for b in bad if len(b) == 2):
+        items = doc.get(key)
+        if not isinstance(items, list) or not isinstance(index, int):
+            continue
+        item = items[index]
+        if not isinstance(item, dict):
+            continue
+        if key == "boards":
+            broken.add(("board", str(item.get("id"))))
+        else:
+            broken.add(("circuit", f"{item.get('board')}/{item.get('id')}"))
+            if item.get("feeds") is not None:
+                broken.add(("feeder-of", str(item.get("feeds"))))
+    return broken
+
+
+def load_site(folder: Path, rel_folder: str, root: Path, cache: dict | None = None) -> SiteLoad:
+    files, warnings = site_files(folder, root)
+    results = [read_file(path, _rel(path, root), cache) for path in files]
+    errors: list[InputError] = []
+    for r in results:
+        errors.extend(r.errors)
+        warnings.extend(r.warnings)
+    hashes = {r.rel: r.sha256 for r in results}
+    if any(r.doc is None for r in results):  # unreadable or unparsable: nothing more to check
+        return SiteLoad(rel_folder, None, hashes, sort_problems(errors), sort_problems(warnings))
+
+    main = results[0]
+    broken = set().union(*(r.broken for r in results))
+    for r in results[1:]:
+        for key in ("site", "supply"):
+            if key in r.doc:
+                errors.append(InputError(r.rel, *yamlread.Locator(r.text).locate((key,)),
+                                         f"'{key}' belongs in {SITE_FILE}, not in a board file", (key,)))
+    if main.supply is None and "supply" not in broken:
+        errors.append(InputError(main.rel, 1, 1, f"{SITE_FILE} needs a 'supply' section (system, ze_ohm, ...)"))
+    meta = main.site_meta or {}
+    site_id = meta.get("id") or (folder.resolve().name if rel_folder == "" else rel_folder)
+    if not SITE_ID.match(site_id):
+        errors.append(InputError(main.rel, 1, 1, f"the folder name '{site_id}' is not a valid site id "
+                                                 "(lower-case letters, digits, '.', '_', '-'); give site.id"))
+    boards = [b for r in results for b in r.boards]
+    circuits = [c for r in results for c in r.circuits]
+    text_of = {r.rel: r.text for r in results}
+    locators: dict[str, yamlread.Locator] = {}
+    for file, path, message in semantic.check_site(boards, circuits, broken):
+        loc = locators.setdefault(file, yamlread.Locator(text_of[file]))
+        errors.append(InputError(file, *loc.locate(path), message, path))
+    if errors:
+        return SiteLoad(rel_folder, None, hashes, sort_problems(errors), sort_problems(warnings))
+    site = Site(
+        id=site_id,
+        supply=main.supply,
+        name=meta.get("name", ""),
+        rules=meta.get("rules", "bs7671"),
+        premises=meta.get("premises", "domestic"),
+        boards=tuple(boards),
+        circuits=tuple(circuits),
+        folder=rel_folder,
+        files=tuple(r.rel for r in results),
+    )
+    return SiteLoad(rel_folder, site, hashes, [], sort_problems(warnings))
+
+
+def load_estate(root: Path | str, cache: dict | None = None) -> Estate:
+    """Load every site under `root`. Raises EstateError when the path itself is unusable."""
+    root = Path(root)
+    single, folders, warnings = site_folders(root)
+    estate = Estate(root=root, single_site=single, warnings=list(warnings))
+    for folder, rel in folders:
+        sl = load_site(folder, rel, root, cache)
+        estate.loads[rel] = sl
+        estate.errors.extend(sl.errors)
+        estate.warnings.extend(sl.warnings)
+        if sl.site is None:
+            continue
+        if sl.site.id in estate.sites:
+            other = estate.sites[sl.site.id]
+            estate.errors.append(InputError(sl.site.files[0], 1, 1, f"site id '{sl.site.id}' is already used by "
+                                                                   f"{other.files[0]}; site ids must be unique"))
+            continue
+        estate.sites[sl.site.id] = sl.site
+    estate.errors = sort_problems(estate.errors)
+    estate.warnings = sort_problems(estate.warnings)
+    return estate

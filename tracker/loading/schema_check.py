@@ -1,0 +1,94 @@
+"""Validation of one parsed site file against `schema/site.schema.json`.
+
+The happy path runs a compiled validator (fastjsonschema, generated Python code); the schema
+keeps to the part of JSON Schema 2020-12 whose meaning is the same in draft 7, so both
+validators agree (tests/test_schema.py holds them to it). Only when that fails does the full
+2020-12 validator (jsonschema) run, to report every problem, in practitioner's words.
+"""
+from __future__ import annotations
+
+from functools import lru_cache
+
+from tracker.schemas_access import schema_json
+
+SCHEMA_FILE = "site.schema.json"
+
+
+@lru_cache(maxsize=1)
+def _fast():
+    import fastjsonschema
+    return fastjsonschema.compile(schema_json(SCHEMA_FILE))
+
+
+@lru_cache(maxsize=1)
+def _full():
+    import jsonschema
+    schema = schema_json(SCHEMA_FILE)
+    jsonschema.Draft202012Validator.check_schema(schema)
+    return jsonschema.Draft202012Validator(schema)
+
+
+def is_valid(data) -> bool:
+    import fastjsonschema
+    try:
+        _fast()(data)
+    except fastjsonschema.JsonSchemaException:
+        return False
+    return True
+
+
+def problems(data) -> list[tuple[tuple, str]]:
+    """Every schema problem of `data` as (path, message)."""
+    out = []
+    for err in _full().iter_errors(data):
+        out.extend(_explain(err))
+    return out
+
+
+_TYPE_WORDS = {"number": "a number", "integer": "a whole number", "string": "text",
+               "boolean": "true or false", "object": "a mapping (key: value lines)",
+               "array": "a list (lines starting with '- ')"}
+
+
+def _show(value) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, str):
+        return repr(value)
+    if isinstance(value, dict):
+        return "a mapping"
+    if isinstance(value, list):
+        return "a list"
+    if value is None:
+        return "an empty value"
+    return f"{value:g}" if isinstance(value, float) else str(value)
+
+
+def _explain(err) -> list[tuple[tuple, str]]:
+    path = tuple(err.absolute_path)
+    hint = err.schema.get("x-hint") if isinstance(err.schema, dict) else None
+    v = err.validator
+    if v == "required":
+        missing = err.message.split("'")[1] if "'" in err.message else err.message
+        if hint:
+            return [(path, hint)]
+        return [(path, f"missing required key '{missing}'")]
+    if v == "type":
+        want = err.validator_value
+        wants = want if isinstance(want, list) else [want]
+        words = " or ".join(_TYPE_WORDS.get(w, w) for w in wants)
+        return [(path, f"expected {words}, got {_show(err.instance)}")]
+    if v in ("enum", "pattern", "const"):
+        if hint:
+            return [(path, f"{_show(err.instance)} {hint}")]
+        return [(path, err.message)]
+    if v == "exclusiveMinimum":
+        return [(path, f"{_show(err.instance)} must be more than {_show(err.validator_value)}")]
+    if v == "minimum":
+        return [(path, f"{_show(err.instance)} is below the lowest accepted value {_show(err.validator_value)}")]
+    if v == "maximum":
+        return [(path, f"{_show(err.instance)} is above the highest accepted value "
+                       f"{_show(err.validator_value)} (check the unit the key names)")]
+    if hint:
+        return [(path, hint)]
+    return [(path, err.message)]

@@ -1,0 +1,130 @@
+"""Checks of a site that a schema of one file cannot make.
+
+Ids unique in their scope; every `board`, `fed_by` and `feeds` resolves and they agree; every
+board has exactly one path to the supply; cable kinds, methods and device ratings are in the
+catalogue; loads say how big they are.
+"""
+from __future__ import annotations
+
+from tracker import catalogue
+from tracker.model import SUPPLY, Board, Circuit
+
+
+def _fmt_rating(value: float) -> str:
+    return f"{value:g}"
+
+
+def check_site(boards: list[Board], circuits: list[Circuit], broken: set = frozenset()):
+    """Yield (file, path, message) for every problem found.
+
+    `broken` names elements that failed the schema and were not built: references to them
+    are not reported again.
+    """
+    yield from _check_boards(boards)
+    by_id = {b.id: b for b in boards}
+    yield from _check_circuits(circuits, by_id, broken)
+    yield from _check_feeding(boards, circuits, by_id, broken)
+
+
+def _err(obj, sub: tuple, message: str):
+    return (obj.src.file, obj.src.path + sub, message)
+
+
+def _check_boards(boards: list[Board]):
+    seen: dict[str, Board] = {}
+    for b in boards:
+        if b.id == SUPPLY:
+            yield _err(b, ("id",), "'supply' is reserved (it names the origin in fed_by); choose another board id")
+        if b.id in seen:
+            first = seen[b.id].src
+            yield _err(b, ("id",), f"board id '{b.id}' is already used ({first.file}, boards[{first.path[1]}])")
+        else:
+            seen[b.id] = b
+
+
+def _check_circuits(circuits: list[Circuit], boards: dict[str, Board], broken):
+    seen: dict[tuple[str, str], Circuit] = {}
+    kinds = catalogue.cable_kinds()
+    for c in circuits:
+        key = (c.board, c.id)
+        if key in seen:
+            first = seen[key].src
+            yield _err(c, ("id",), f"circuit id '{c.id}' is already used on board {c.board} "
+                                   f"({first.file}, circuits[{first.path[1]}])")
+        else:
+            seen[key] = c
+        if c.board not in boards and ("board", c.board) not in broken:
+            known = ", ".join(sorted(boards)) or "none"
+            yield _err(c, ("board",), f"board '{c.board}' is not defined in this site (boards: {known})")
+        kind = kinds.get(c.cable.kind)
+        if kind is None:
+            yield _err(c, ("cable", "kind"), f"'{c.cable.kind}' is not a cable kind of the catalogue "
+                                             f"({', '.join(sorted(kinds))})")
+        elif c.cable.method not in kind.methods:
+            yield _err(c, ("cable", "method"), f"'{c.cable.method}' is not an installation method of "
+                                               f"{kind.kind} ({', '.join(kind.methods)})")
+        ratings = catalogue.standard_ratings(c.device.kind)
+        if ratings and c.device.rating_a not in ratings:
+            title = catalogue.device_info(c.device.kind)["title"]
+            yield _err(c, ("device", "rating_a"), f"{_fmt_rating(c.device.rating_a)} A is not a standard rating "
+                                                  f"({title}: {', '.join(map(_fmt_rating, ratings))})")
+        if c.is_ring and c.is_submain:
+            yield _err(c, ("topology",), "a sub-main (feeds) cannot be a ring")
+        if c.is_submain and c.loads:
+            yield _err(c, ("loads",), f"a sub-main feeding {c.feeds} carries that board's load; "
+                                      "list loads on the circuits of that board instead")
+        load_ids: set[str] = set()
+        for j, ld in enumerate(c.loads):
+            if ld.id in load_ids:
+                yield _err(ld, ("id",), f"load id '{ld.id}' is already used in this circuit")
+            load_ids.add(ld.id)
+            if ld.power_kw is not None and ld.current_a is not None:
+                yield _err(ld, ("current_a",), "give power_kw or current_a, not both")
+            elif ld.power_kw is None and ld.current_a is None and ld.kind != "socket-outlets":
+                yield _err(ld, (), f"a {ld.kind} load needs power_kw or current_a")
+
+
+def _check_feeding(boards: list[Board], circuits: list[Circuit], by_id: dict[str, Board], broken):
+    by_ref = {f"{c.board}/{c.id}": c for c in circuits}
+    feeders: dict[str, list[Circuit]] = {}
+    for c in circuits:
+        if c.feeds is None:
+            continue
+        feeders.setdefault(c.feeds, []).append(c)
+        target = by_id.get(c.feeds)
+        if target is None:
+            if ("board", c.feeds) not in broken:
+                yield _err(c, ("feeds",), f"board '{c.feeds}' is not defined in this site")
+        elif c.feeds == c.board:
+            yield _err(c, ("feeds",), "a circuit cannot feed the board it leaves from")
+        elif target.fed_by != f"{c.board}/{c.id}":
+            yield _err(c, ("feeds",), f"board {c.feeds} says it is fed by '{target.fed_by}', "
+                                      f"not by this circuit ({c.board}/{c.id})")
+    for b in boards:
+        if b.fed_by == SUPPLY:
+            continue
+        feeder = by_ref.get(b.fed_by)
+        if feeder is None:
+            if ("circuit", b.fed_by) not in broken:
+                yield _err(b, ("fed_by",), f"no circuit '{b.fed_by}' in this site to feed this board")
+        elif feeder.feeds != b.id:
+            said = f"says it feeds '{feeder.feeds}'" if feeder.feeds else "has no 'feeds: " + b.id + "'"
+            yield _err(b, ("fed_by",), f"circuit {b.fed_by} {said}; fed_by and feeds must agree")
+    # Exactly one path to the supply: fed_by is single-valued, so only a loop can break it.
+    for b in boards:
+        chain, cur = [b.id], b
+        while cur is not None and cur.fed_by != SUPPLY:
+            feeder = by_ref.get(cur.fed_by)
+            if feeder is None:
+                break
+            nxt = by_id.get(feeder.board)
+            if nxt is None:
+                break
+            if nxt.id in chain:
+                if nxt.id == b.id:
+                    loop = " → ".join(chain + [b.id])
+                    yield _err(b, ("fed_by",), f"boards feed each other in a loop ({loop}); "
+                                               "every board needs one path to the supply")
+                break
+            chain.append(nxt.id)
+            cur = nxt

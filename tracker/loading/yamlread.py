@@ -1,0 +1,190 @@
+"""Safe, bounded YAML reading with exact locations for errors.
+
+The happy path parses with libyaml (PyYAML's ``CSafeLoader``): safe construction only, so a
+``!!python/...`` tag is an error and nothing runs. Locations are computed only when an error
+needs them, by composing the file into nodes (which carry line and column marks).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import yaml
+
+from tracker.loading.errors import InputError
+
+MAX_FILE_BYTES = 8 * 1024 * 1024  # a board file of 1,000 circuits is about 0.6 MiB
+MAX_EXPANDED_NODES = 200_000      # bound on the size of a document once aliases are expanded
+MAX_DEPTH = 64                    # for documents with anchors; libyaml itself stops at 1,000 levels
+
+
+class _Refused(Exception):
+    def __init__(self, message: str, line: int = 1, col: int = 1):
+        super().__init__(message)
+        self.message, self.line, self.col = message, line, col
+
+
+class _Loader(yaml.CSafeLoader):
+    """Safe loader that also refuses duplicate keys in one mapping."""
+
+    def construct_mapping(self, node, deep=False):
+        seen = set()
+        for key_node, _ in node.value:
+            if isinstance(key_node, yaml.ScalarNode) and key_node.tag != "tag:yaml.org,2002:merge":
+                if key_node.value in seen:
+                    m = key_node.start_mark
+                    raise _Refused(f"duplicate key '{key_node.value}' (the later one would silently win)",
+                                   m.line + 1, m.column + 1)
+                seen.add(key_node.value)
+        return super().construct_mapping(node, deep=deep)
+
+
+@dataclass(slots=True)
+class ParsedFile:
+    rel: str            # file name relative to the user's path
+    text: str
+    data: object        # the parsed document (a dict when valid)
+    sha256: str
+
+
+def decode(raw: bytes, rel: str) -> tuple[str | None, list[InputError]]:
+    """Bytes → text, refusing oversized, binary and non-UTF-8 files."""
+    if len(raw) > MAX_FILE_BYTES:
+        return None, [InputError(rel, 1, 1, f"file is {len(raw):,} bytes; site files are limited to "
+                                             f"{MAX_FILE_BYTES:,} bytes (split the site into one file per board)")]
+    if b"\x00" in raw:
+        off = raw.index(b"\x00")
+        line, col = _line_col_of_offset(raw, off)
+        return None, [InputError(rel, line, col, "binary content (NUL byte): not a YAML text file")]
+    if raw.startswith(b"\xef\xbb\xbf"):
+        raw = raw[3:]
+    try:
+        return raw.decode("utf-8"), []
+    except UnicodeDecodeError as exc:
+        line, col = _line_col_of_offset(raw, exc.start)
+        return None, [InputError(rel, line, col, f"not valid UTF-8 (byte 0x{raw[exc.start]:02x}); "
+                                                 "save the file as UTF-8")]
+
+
+def _line_col_of_offset(raw: bytes, offset: int) -> tuple[int, int]:
+    line = raw.count(b"\n", 0, offset) + 1
+    start = raw.rfind(b"\n", 0, offset) + 1
+    return line, offset - start + 1
+
+
+def parse(text: str, rel: str) -> tuple[object, list[InputError]]:
+    """Text → document. Errors carry the file, line and column libyaml reports."""
+    if not text.strip():
+        return None, [InputError(rel, 1, 1, "file is empty; a site file is a YAML mapping "
+                                            "(site, supply, boards, circuits)")]
+    try:
+        data = yaml.load(text, Loader=_Loader)  # noqa: S506 - _Loader is a safe loader
+    except _Refused as exc:
+        return None, [InputError(rel, exc.line, exc.col, exc.message)]
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
+        what = exc.problem or exc.context or "not valid YAML"
+        if "maximum nesting depth" in str(exc):
+            what = "nested too deeply (libyaml's nesting limit); site files nest a few levels only"
+        if "could not determine a constructor" in str(exc):
+            what = f"tag {_tag_of(exc)} is not allowed (site files are plain data)"
+        return None, [InputError(rel, line, col, f"YAML: {what}")]
+    except yaml.YAMLError as exc:
+        return None, [InputError(rel, 1, 1, f"YAML: {exc}")]
+    except RecursionError:
+        return None, [InputError(rel, 1, 1, f"nested too deeply (more than {MAX_DEPTH} levels)")]
+    if data is None:
+        return None, [InputError(rel, 1, 1, "file holds only comments; a site file is a YAML mapping "
+                                            "(site, supply, boards, circuits)")]
+    if "&" in text:  # anchors present: bound what aliases expand to
+        problem = _expansion_problem(data)
+        if problem:
+            return None, [InputError(rel, 1, 1, problem)]
+    if not isinstance(data, dict):
+        kind = {list: "a list", str: "a single text value"}.get(type(data), f"a single {type(data).__name__}")
+        return None, [InputError(rel, 1, 1, f"the top level is {kind}; a site file is a mapping with the keys "
+                                            "site, supply, boards, circuits")]
+    return data, []
+
+
+def _tag_of(exc: yaml.MarkedYAMLError) -> str:
+    text = str(exc.problem or "")
+    return text.rsplit(" ", 1)[-1] if "tag" in text else "(unknown)"
+
+
+def _expansion_problem(data) -> str | None:
+    """Size of the document with every alias expanded, computed without expanding it."""
+    sizes: dict[int, int] = {}
+
+    def size(obj, depth: int) -> int:
+        if depth > MAX_DEPTH:
+            raise _Refused(f"nested too deeply (more than {MAX_DEPTH} levels)")
+        if not isinstance(obj, (dict, list)):
+            return 1
+        key = id(obj)
+        if key in sizes:
+            return sizes[key]
+        children = obj.values() if isinstance(obj, dict) else obj
+        total = 1
+        for child in children:
+            total += size(child, depth + 1)
+            if total > MAX_EXPANDED_NODES:
+                raise _Refused("aliases expand to more than "
+                               f"{MAX_EXPANDED_NODES:,} values (an alias bomb?); refused")
+        sizes[key] = total
+        return total
+
+    try:
+        size(data, 1)
+    except _Refused as exc:
+        return exc.message
+    return None
+
+
+def is_finite_number(value) -> bool:
+    return not isinstance(value, float) or math.isfinite(value)
+
+
+class Locator:
+    """Maps element paths of one file to (line, col) of the key or item at fault."""
+
+    def __init__(self, text: str):
+        self._text = text
+        self._root = None
+        self._done = False
+
+    def _tree(self):
+        if not self._done:
+            self._done = True
+            try:
+                self._root = yaml.compose(self._text, Loader=yaml.CSafeLoader)
+            except (yaml.YAMLError, RecursionError):
+                self._root = None
+        return self._root
+
+    def locate(self, path: tuple) -> tuple[int, int]:
+        """Line and column (from 1) of the deepest node of `path` found in the file.
+
+        For a mapping key the key itself is reported (``csa_mm2: 7`` → the ``c``); for a
+        list item, the start of the item.
+        """
+        node = self._tree()
+        if node is None:
+            return 1, 1
+        mark = node.start_mark
+        for part in path:
+            if isinstance(node, yaml.MappingNode) and isinstance(part, str):
+                found = None
+                for key_node, value_node in node.value:
+                    if isinstance(key_node, yaml.ScalarNode) and key_node.value == part:
+                        found = (key_node, value_node)
+                if found is None:
+                    break
+                mark, node = found[0].start_mark, found[1]
+            elif isinstance(node, yaml.SequenceNode) and isinstance(part, int) and 0 <= part < len(node.value):
+                node = node.value[part]
+                mark = node.start_mark
+            else:
+                break
+        return mark.line + 1, mark.column + 1

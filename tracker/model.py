@@ -1,0 +1,152 @@
+"""The estate model: plain, immutable data read from the site files.
+
+Every quantity carries its unit in its name. Objects compare by their data only
+(the `src` field saying where an element was read from is left out of equality), so
+two loads of the same file compare equal when nothing that matters changed.
+
+Refs (SPEC §2): board ``SITE/BOARD``, circuit ``SITE/BOARD/CIRCUIT``, load
+``SITE/BOARD/CIRCUIT/LOAD``. The origin of a site (its supply) is the node ``SITE``.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field, fields
+
+SUPPLY = "supply"  # the reserved value of `fed_by` for a board at the origin
+
+
+@dataclass(frozen=True, slots=True)
+class Src:
+    """Where an element was read: a file (relative to the path the user gave) and the
+    element's path inside it, as a tuple of keys and indices."""
+
+    file: str
+    path: tuple = ()
+
+
+@dataclass(frozen=True, slots=True)
+class Supply:
+    system: str
+    u0_v: float = 230.0
+    ze_ohm: float | None = None
+    pfc_ka: float | None = None
+    service_fuse_a: float | None = None
+    electrode_ohm: float | None = None
+    private: bool = False
+    src: Src | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True, slots=True)
+class Board:
+    id: str
+    fed_by: str
+    name: str = ""
+    main_switch_a: float | None = None
+    conditional_rating_ka: float | None = None
+    rcd_ma: float | None = None
+    src: Src | None = field(default=None, compare=False)
+
+    @property
+    def at_origin(self) -> bool:
+        return self.fed_by == SUPPLY
+
+
+@dataclass(frozen=True, slots=True)
+class Device:
+    kind: str
+    rating_a: float
+    curve: str | None = None
+    breaking_ka: float | None = None
+    max_zs_ohm: float | None = None
+    let_through_a2s: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Cable:
+    kind: str
+    csa_mm2: float
+    length_m: float
+    method: str
+    cpc_mm2: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Environment:
+    ambient_c: float | None = None   # None: 30 °C in air, the 20 °C reference in the ground (method D)
+    grouped_with: int = 1
+    arrangement: str = "bunched"
+    insulation_mm: float = 0.0
+
+
+@dataclass(frozen=True, slots=True)
+class Load:
+    id: str
+    kind: str
+    name: str = ""
+    power_kw: float | None = None
+    current_a: float | None = None
+    power_factor: float = 1.0
+    location: str | None = None
+    src: Src | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True, slots=True)
+class Circuit:
+    id: str
+    board: str
+    device: Device
+    cable: Cable
+    name: str = ""
+    topology: str = "radial"
+    feeds: str | None = None
+    design_current_a: float | None = None
+    overload_exempt: bool = False
+    rcd_ma: float | None = None
+    environment: Environment = Environment()
+    loads: tuple[Load, ...] = ()
+    src: Src | None = field(default=None, compare=False)
+
+    @property
+    def is_ring(self) -> bool:
+        return self.topology == "ring"
+
+    @property
+    def is_submain(self) -> bool:
+        return self.feeds is not None
+
+
+@dataclass(frozen=True, slots=True)
+class Site:
+    id: str
+    supply: Supply
+    name: str = ""
+    rules: str = "bs7671"
+    premises: str = "domestic"
+    boards: tuple[Board, ...] = ()
+    circuits: tuple[Circuit, ...] = ()
+    folder: str = ""  # relative to the path the user gave ('' for a single site)
+    files: tuple[str, ...] = ()  # every site file read, relative to the user's path
+
+    def board(self, board_id: str) -> Board | None:
+        for b in self.boards:
+            if b.id == board_id:
+                return b
+        return None
+
+
+# -- refs ---------------------------------------------------------------------------
+
+def board_ref(site_id: str, board_id: str) -> str:
+    return f"{site_id}/{board_id}"
+
+
+def circuit_ref(site_id: str, circuit: Circuit) -> str:
+    return f"{site_id}/{circuit.board}/{circuit.id}"
+
+
+def load_ref(site_id: str, circuit: Circuit, load: Load) -> str:
+    return f"{site_id}/{circuit.board}/{circuit.id}/{load.id}"
+
+
+def data_fields(obj) -> list[str]:
+    """Names of the fields of a model object that take part in equality."""
+    return [f.name for f in fields(obj) if f.compare]
