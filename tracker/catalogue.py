@@ -1,0 +1,135 @@
+"""The catalogue: cable, conductor, device, factor and diversity tables from `tracker/data/`.
+
+Every value is kept with its confirmation status (see `tracker/data/README.md`). Lookups
+return a :class:`Value` (number + status) or ``None`` where the catalogue holds nothing: the
+checks turn ``None`` into ``not-assessed``.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+
+import yaml
+
+DATA = Path(__file__).parent / "data"
+
+
+@dataclass(frozen=True, slots=True)
+class Value:
+    value: float
+    status: str  # seen | code | derived | recalled
+
+    @property
+    def confirmed(self) -> bool:
+        return self.status == "seen"
+
+
+def _value(pair) -> Value:
+    number, status = pair
+    return Value(float(number), str(status))
+
+
+def _size_key(csa_mm2: float) -> float:
+    return float(csa_mm2)
+
+
+@dataclass(frozen=True)
+class CableKind:
+    kind: str
+    title: str
+    conductor_c: float
+    fault_final_c: float
+    cpc: str                      # incorporated | separate
+    resistance_multiplier: float
+    methods: dict                 # method -> description
+    ratings: dict                 # csa -> {method: Value}
+    mv_per_a_m: dict              # csa -> Value
+    cpc_sizes: dict               # csa -> Value (standard construction), may be empty
+    cpc_default: str | None       # 'equal' where a core equal to the line conductor is the cpc
+    ground_reference_c: float | None
+    sources: dict
+
+    def rating(self, csa_mm2: float, method: str) -> Value | None:
+        return self.ratings.get(_size_key(csa_mm2), {}).get(method)
+
+    def voltage_drop(self, csa_mm2: float) -> Value | None:
+        return self.mv_per_a_m.get(_size_key(csa_mm2))
+
+    def sizes(self, method: str) -> list[float]:
+        return sorted(c for c, row in self.ratings.items() if method in row)
+
+    def default_cpc_mm2(self, csa_mm2: float) -> float | None:
+        if self.cpc_default == "equal":
+            return float(csa_mm2)
+        v = self.cpc_sizes.get(_size_key(csa_mm2))
+        return v.value if v else None
+
+
+@lru_cache(maxsize=None)
+def _load(name: str) -> dict:
+    with open(DATA / name, encoding="utf-8") as fh:
+        return yaml.load(fh, Loader=yaml.CSafeLoader)
+
+
+@lru_cache(maxsize=None)
+def cable_kinds() -> dict[str, CableKind]:
+    kinds = {}
+    for path in sorted((DATA / "cables").glob("*.yaml")):
+        raw = _load(f"cables/{path.name}")
+        kinds[raw["kind"]] = CableKind(
+            kind=raw["kind"],
+            title=raw["title"],
+            conductor_c=float(raw["conductor_c"]),
+            fault_final_c=float(raw["fault_final_c"]),
+            cpc=raw["cpc"],
+            resistance_multiplier=float(raw["resistance_multiplier"]),
+            methods={str(k): v for k, v in raw["methods"].items()},
+            ratings={_size_key(c): {str(m): _value(v) for m, v in row.items()}
+                     for c, row in raw["ratings_a"].items()},
+            mv_per_a_m={_size_key(c): _value(v) for c, v in raw["mv_per_a_m"].items()},
+            cpc_sizes={_size_key(c): _value(v) for c, v in raw.get("cpc_mm2", {}).items()},
+            cpc_default=raw.get("cpc_default"),
+            ground_reference_c=raw.get("ground_reference_c"),
+            sources=raw["sources"],
+        )
+    return kinds
+
+
+def cable_kind(kind: str) -> CableKind | None:
+    return cable_kinds().get(kind)
+
+
+@lru_cache(maxsize=None)
+def conductor_resistances() -> dict[float, Value]:
+    raw = _load("conductors.yaml")
+    return {_size_key(c): _value(v) for c, v in raw["resistance_mohm_per_m"].items()}
+
+
+def conductor_resistance(csa_mm2: float) -> Value | None:
+    """Resistance of a copper conductor at 20 °C, mohm/m (IEC 60228)."""
+    return conductor_resistances().get(_size_key(csa_mm2))
+
+
+@lru_cache(maxsize=None)
+def devices() -> dict:
+    return _load("devices.yaml")
+
+
+def device_info(kind: str) -> dict | None:
+    return devices().get(kind)
+
+
+def standard_ratings(kind: str) -> list[float]:
+    info = device_info(kind)
+    return [float(r) for r in info["ratings_a"]] if info else []
+
+
+@lru_cache(maxsize=None)
+def factors() -> dict:
+    return _load("factors.yaml")
+
+
+@lru_cache(maxsize=None)
+def diversity() -> dict:
+    return _load("diversity.yaml")
