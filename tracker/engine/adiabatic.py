@@ -1,0 +1,42 @@
+"""The adiabatic equation: conductor size to withstand a fault for the disconnection time."""
+from __future__ import annotations
+
+import math
+
+# Copper constants of IEC 60364-5-54:2011 Annex A (Table A.1): volumetric heat capacity Qc,
+# reciprocal of the temperature coefficient of resistivity at 0 °C β, resistivity at 20 °C ρ20.
+COPPER_QC_J_PER_C_MM3 = 3.45e-3
+COPPER_BETA_C = 234.5
+COPPER_RHO20_OHM_MM = 17.241e-6
+
+
+def k_factor(initial_c: float, final_c: float, qc: float = COPPER_QC_J_PER_C_MM3,
+             beta_c: float = COPPER_BETA_C, rho20: float = COPPER_RHO20_OHM_MM) -> float:
+    """Factor k of the adiabatic equation for a conductor heated from θi to θf.
+
+    k = sqrt(Qc (β + 20) / ρ20 · ln((β + θf) / (β + θi)))
+
+    IEC 60364-5-54:2011 Annex A, equation A.1. For copper: 70 → 160 °C gives 115 (thermoplastic
+    insulation, cpc in the cable or line conductor: BS 7671 Tables 43.1, 54.3); 30 → 160 °C
+    gives 143 (separate thermoplastic-insulated cpc, Table 54.2); 90 → 250 °C gives 143
+    (thermosetting); 30 → 250 °C gives 176.
+    """
+    return math.sqrt(qc * (beta_c + 20.0) / rho20 * math.log((beta_c + final_c) / (beta_c + initial_c)))
+
+
+def min_csa_mm2(fault_current_a: float, time_s: float, k: float) -> float:
+    """Minimum conductor cross-section: S = sqrt(I² t) / k.
+
+    BS 7671:2018 Regulation 543.1.3 (protective conductors) and 434.5.2 (live conductors).
+    """
+    return math.sqrt(fault_current_a ** 2 * time_s) / k
+
+
+def min_csa_from_energy_mm2(energy_a2s: float, k: float) -> float:
+    """Minimum cross-section for a let-through energy I²t (A²s): S = sqrt(I²t) / k (as above)."""
+    return math.sqrt(energy_a2s) / k
+
+
+def fault_current_a(u0_v: float, loop_ohm: float) -> float:
+    """Fault current through a loop of impedance Z at U0: I = U0 / Z (BS 7671 543.1.3)."""
+    return u0_v / loop_ohm
