@@ -1,0 +1,36 @@
+"""`breaking-capacity`: the device can break the prospective fault current at its board
+(BS 7671:2018 434.5.1), or the board assembly's conditional rating covers it (536.4.202)."""
+from __future__ import annotations
+
+from tracker.checks.context import Facts
+from tracker.checks.result import CheckResult, not_assessed, verdict
+
+ID = "breaking-capacity"
+
+
+def run(f: Facts, w: dict) -> CheckResult:
+    ctx, dev = f.ctx, f.circuit.device
+    pfc = ctx.pfc_ka
+    if ctx.fed_via:
+        where = f"{pfc:.2f} kA at {ctx.board_id} (reduced through {ctx.fed_via.split('/', 1)[1]})"
+    elif ctx.supply.pfc_declared:
+        where = f"{pfc:g} kA at the origin (pfc_ka)"
+    else:
+        where = f"{pfc:g} kA assumed at the origin (no pfc_ka: the usual maximum declared for a public supply)"
+    w["pfc_ka"] = pfc
+    device_ka, device_how = dev.breaking_ka, "(breaking_ka)"
+    if device_ka is None:
+        default = (f.device_info or {}).get("breaking_ka")
+        if default is not None:
+            device_ka, device_how = float(default[0]), f"(usual for a {f.label}, {default[1]}; give breaking_ka if marked)"
+    cond = ctx.conditional_rating_ka
+    if device_ka is None and cond is None:
+        return not_assessed(ID, "kA", "<=", f"prospective fault current {where}; the {f.label}'s breaking "
+                                            "capacity is not given (device.breaking_ka)", value=pfc)
+    if cond is not None and (device_ka is None or cond > device_ka):
+        limit, limit_how = cond, f"{cond:g} kA rated conditional short-circuit current of board {ctx.board_id} (536.4.202)"
+    else:
+        limit, limit_how = device_ka, f"{device_ka:g} kA breaking capacity of the {f.label} {device_how}"
+    ok = pfc <= limit
+    detail = f"PFC {where} {'≤' if ok else '>'} {limit_how} — 434.5.1"
+    return CheckResult(ID, verdict(ok), pfc, limit, "kA", "<=", detail)

@@ -1,0 +1,125 @@
+"""`capacity`: the cable can carry the current its protection lets through.
+
+Iz = It × Ca × Cg (and, over a length surrounded by insulation, It(C) × Ca × Cg × Ci) must be
+at least In (433.1.1(ii)); 20 A for a qualifying ring final circuit (433.1.204); Ib where the
+designer relied on a load that cannot overload (433.3.1(ii)), provided fault protection holds
+(both adiabatic checks pass); In / 0.725 behind a semi-enclosed fuse (433.1.202).
+"""
+from __future__ import annotations
+
+from tracker import catalogue
+from tracker.checks import rules
+from tracker.checks.context import Facts
+from tracker.checks.result import FAIL, NOT_ASSESSED, CheckResult, fmt, not_assessed, verdict
+from tracker.engine import factors as F
+
+ID = "capacity"
+DEVICE, RING, DESIGN = "device-rating", "ring", "design-current"
+
+
+def _status_note(value: catalogue.Value) -> str:
+    return "" if value.confirmed else f" [{value.status}]"
+
+
+def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
+    """(Iz, how, factors) for the circuit's cable where it is installed."""
+    c, env = f.circuit, f.circuit.environment
+    kind = f.kind
+    it = kind.rating(c.cable.csa_mm2, c.cable.method)
+    if it is None:
+        return None, (f"no rating held for {c.cable.csa_mm2:g} mm² {kind.kind} by method {c.cable.method}"), {}
+    ftab = catalogue.factors()
+    method_d = c.cable.method == "D"
+    if method_d:
+        ref = kind.ground_reference_c
+        theta = env.ambient_c if env.ambient_c is not None else ref
+        ca = F.ambient_factor_formula(theta, kind.conductor_c, ref)
+        ca_how = f"Ca {ca:.2f} (ground {theta:g} °C against the {ref:g} °C of the table, Table 4B2 basis)"
+    else:
+        theta = env.ambient_c if env.ambient_c is not None else 30.0
+        table = {float(t): v[0] for t, v in ftab["ambient"]["table"][int(kind.conductor_c)].items()}
+        ca = F.ambient_factor_bs7671(theta, kind.conductor_c, table)
+        ca_how = f"Ca {ca:.2f} ({theta:g} °C, Table 4B1)"
+    if ca <= 0:
+        return 0.0, f"ambient {theta:g} °C is at or above the conductor limit {kind.conductor_c:g} °C", {"ca": 0.0}
+    if env.grouped_with > 1 and method_d:
+        return None, "grouping of buried cables (Tables 4B4/4B5) is not in the catalogue", {}
+    gtab = ftab["grouping"]
+    rows = {int(n): v[0] for n, v in gtab[env.arrangement].items()}
+    cg = F.grouping_factor(env.grouped_with, rows, env.arrangement in gtab.get("open_ended", ()))
+    if cg is None:
+        return None, (f"{env.grouped_with} circuits {env.arrangement} is beyond Table 4C1 "
+                      f"(up to {max(rows)})"), {}
+    factors = {"it_a": it.value, "ca": round(ca, 3), "cg": cg}
+    iz = it.value * ca * cg
+    how = f"It {fmt(it.value)} A{_status_note(it)} (Table for {kind.kind}, method {c.cable.method}) × {ca_how}"
+    how += f" × Cg {cg:.2f} ({env.grouped_with} {env.arrangement})" if env.grouped_with > 1 else ""
+    if env.insulation_mm > 0:
+        itab = ftab["insulation"]
+        it_c = kind.rating(c.cable.csa_mm2, "C")
+        if it_c is None:
+            return None, f"no method C rating held for {c.cable.csa_mm2:g} mm² {kind.kind} (needed for insulation)", {}
+        if c.cable.csa_mm2 > itab["max_csa_mm2"]:
+            ci, ci_how = 0.5, "Ci 0.50 (523.9: over 10 mm² surrounded by insulation)"
+        else:
+            ci = F.insulation_factor(env.insulation_mm, {float(k): v[0] for k, v in itab["table"].items()})
+            ci_how = f"Ci {ci:.2f} ({env.insulation_mm:g} mm surrounded, Table 52.2)"
+        iz_ins = it_c.value * ca * cg * ci
+        factors["ci"] = ci
+        if iz_ins < iz:
+            iz = iz_ins
+            how = (f"where surrounded by insulation: It(C) {fmt(it_c.value)} A × Ca {ca:.2f}"
+                   + (f" × Cg {cg:.2f}" if env.grouped_with > 1 else "") + f" × {ci_how}")
+    return iz, how, factors
+
+
+def run(f: Facts, w: dict, adiabatic: tuple[CheckResult, CheckResult]) -> tuple[CheckResult, str, float | None]:
+    """(result, basis, Iz)."""
+    c = f.circuit
+    if f.kind is None:
+        return not_assessed(ID, "A", ">=", f"cable kind {c.cable.kind} not in the catalogue"), DEVICE, None
+    iz, how, fac = rated_capacity(f)
+    w.update(fac)
+    w["iz_a"] = iz
+    basis, required, why = DEVICE, f.in_a, f"In {f.in_a:g} A ({f.label}) — 433.1.1(ii)"
+    semi = c.device.kind == "fuse-semi-enclosed"
+    if semi:
+        factor = catalogue.factors()["semi_enclosed_fuse"]["factor"][0]
+        required = f.in_a / factor
+        why = f"In / {factor:g} = {f.in_a:g} / {factor:g} = {required:.2f} A (semi-enclosed fuse, 433.1.202)"
+    ring_ok, ring_why = rules.qualifies_as_ring(c)
+    exempt_note = ""
+    if ring_ok:
+        basis, required = RING, rules.RING_MIN_IZ_A
+        why = "20 A (ring final circuit on a 30/32 A device, 433.1.204)"
+    elif c.is_ring:
+        exempt_note = f"; not a qualifying ring ({ring_why}), so Iz must reach the device rating"
+    if c.overload_exempt and not ring_ok:
+        problem = rules.exemption_problem(c)
+        cpc, line = adiabatic
+        if problem:
+            exempt_note = f"; overload_exempt set but cannot be relied on: {problem} (433.3.1(ii))"
+        elif f.ib_a is None:
+            exempt_note = "; overload_exempt set but Ib is unknown"
+        elif FAIL in (cpc.status, line.status):
+            failing = " and ".join(r.id for r in adiabatic if r.status == FAIL)
+            exempt_note = (f"; sizing on Ib (433.3.1(ii)) needs fault protection shown, but {failing} fails, "
+                           "so the cable must carry In")
+        elif iz is not None and iz < f.in_a and NOT_ASSESSED in (cpc.status, line.status):
+            w["basis"] = DESIGN
+            return (not_assessed(ID, "A", ">=", f"cable sized on Ib {f.ib_a:.2f} A under 433.3.1(ii) "
+                                 f"(Iz {iz:.2f} A < In {f.in_a:g} A), which needs both adiabatic checks to pass; "
+                                 "they could not be assessed", value=iz, limit=f.ib_a), DESIGN, iz)
+        else:
+            basis, required = DESIGN, f.ib_a
+            why = (f"Ib {f.ib_a:.2f} A — cable sized on the design current, not on In {f.in_a:g} A "
+                   "(433.3.1(ii): load cannot overload; fault protection shown by both adiabatic checks)")
+    w["basis"] = basis
+    if iz is None:
+        return not_assessed(ID, "A", ">=", how, limit=required), basis, None
+    ok = iz >= required
+    detail = f"Iz = {how} = {iz:.2f} A {'≥' if ok else '<'} {why}{exempt_note}"
+    status = verdict(ok)
+    ib_limit = iz if basis == DESIGN else None
+    return CheckResult(ID, status, iz, required, "A", ">=", detail, ib_limit_a=ib_limit), basis, iz
+

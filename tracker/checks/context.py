@@ -1,0 +1,230 @@
+"""What a circuit's checks need from upstream, and the facts derived once per circuit."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from tracker import catalogue
+from tracker.checks import rules
+from tracker.engine import disconnection, fault_level, impedance
+from tracker.model import Circuit, Site, Supply
+
+
+@dataclass(frozen=True, slots=True)
+class SupplyContext:
+    system: str
+    u0_v: float
+    ze_ohm: float | None
+    pfc_ka: float
+    pfc_declared: bool
+    private: bool
+    electrode_ohm: float | None
+    z_ln_source_ohm: float | None   # line-neutral source impedance, for minimum short-circuit current
+    z_ln_source_how: str
+    domestic: bool = True
+
+
+def supply_context(supply: Supply, domestic: bool = True) -> SupplyContext:
+    u0 = supply.u0_v
+    pfc = supply.pfc_ka if supply.pfc_ka is not None else fault_level.ASSUMED_PUBLIC_PFC_KA
+    candidates = []
+    if supply.system != "TT" and supply.ze_ohm is not None:
+        candidates.append((supply.ze_ohm, f"Ze {supply.ze_ohm:g} Ω (line-neutral loop taken as the earth loop "
+                                          "on TN, common practice)"))
+    if supply.pfc_ka is not None:
+        z = u0 / (supply.pfc_ka * 1000.0)
+        candidates.append((z, f"U0 / PFC = {u0:g} / {supply.pfc_ka:g} kA = {z:.3f} Ω"))
+    # The minimum short-circuit current comes from the largest plausible source impedance.
+    z_ln, how = max(candidates, default=(None, "TT supply without pfc_ka: line-neutral source impedance unknown"))
+    return SupplyContext(
+        system=supply.system, u0_v=u0, ze_ohm=supply.ze_ohm, pfc_ka=pfc,
+        pfc_declared=supply.pfc_ka is not None, private=supply.private,
+        electrode_ohm=supply.electrode_ohm, z_ln_source_ohm=z_ln, z_ln_source_how=how, domestic=domestic,
+    )
+
+
+@dataclass(frozen=True, slots=True)
+class BoardContext:
+    """Conditions at a board's busbars, from the origin through every sub-main above it."""
+
+    site_id: str
+    board_id: str
+    supply: SupplyContext
+    z_ext_ohm: float | None     # earth fault loop impedance at the board (Ze + sub-mains' R1+R2)
+    z_ln_ohm: float | None      # line-neutral loop impedance at the board
+    vd_v: float | None          # voltage drop from the origin to the board, V
+    v_per_a: float              # volts dropped upstream per extra ampere drawn below (sub-mains)
+    pfc_ka: float               # prospective fault current at the board, kA
+    rcd_ma: float | None        # smallest IΔn of an RCD upstream of the board's circuits
+    conditional_rating_ka: float | None
+    fed_via: str | None = None  # ref of the sub-main feeding the board
+    unknown_vd: str = ""        # why vd_v is unknown
+    unknown_z: str = ""         # why z_ext_ohm is unknown
+
+
+def origin_context(site: Site, board_id: str, supply: SupplyContext) -> BoardContext:
+    board = site.board(board_id)
+    return BoardContext(
+        site_id=site.id, board_id=board_id, supply=supply,
+        z_ext_ohm=supply.ze_ohm, z_ln_ohm=supply.z_ln_source_ohm, vd_v=0.0, v_per_a=0.0,
+        pfc_ka=supply.pfc_ka, rcd_ma=board.rcd_ma, conditional_rating_ka=board.conditional_rating_ka,
+        unknown_z="" if supply.ze_ohm is not None else "Ze is not given (supply.ze_ohm)",
+    )
+
+
+def _min_rcd(*values):
+    known = [v for v in values if v is not None]
+    return min(known) if known else None
+
+
+def device_label(device) -> str:
+    r = f"{device.rating_a:g}"
+    return {
+        "mcb": f"{device.curve}{r} MCB",
+        "rcbo": f"{device.curve}{r} RCBO",
+        "fuse-gg": f"{r} A BS 88-2 gG fuse",
+        "fuse-domestic-cartridge": f"{r} A BS 88-3 fuse",
+        "fuse-semi-enclosed": f"{r} A BS 3036 rewirable fuse",
+    }.get(device.kind, f"{r} A {device.kind}")
+
+
+@dataclass(slots=True)
+class Facts:
+    """Everything derived once per circuit and shared by its checks."""
+
+    circuit: Circuit
+    ctx: BoardContext
+    kind: catalogue.CableKind | None
+    device_info: dict | None
+    label: str
+    in_a: float
+    ib_a: float | None           # None: no load data
+    ib_how: str
+    ib_vd_a: float               # the current used for voltage drop (Ib, or In where Ib is unknown)
+    sockets: bool
+    lighting: bool
+    distribution: bool
+    rcd_ma: float | None
+    cpc_mm2: float | None
+    cpc_how: str
+    r_line: float | None         # mΩ/m at 20 °C
+    r_cpc: float | None
+    multiplier: float
+    loop_ohm: float | None       # the circuit's own R1 + R2 at operating temperature
+    zs_ohm: float | None
+    zs_why: str
+    zln_far_ohm: float | None
+    zln_why: str
+    t_req_s: float
+
+
+def _design_current(circuit: Circuit, u0: float, fed_demand_a: float | None) -> tuple[float | None, str]:
+    from tracker.engine.current import design_current_a
+
+    if circuit.design_current_a is not None:
+        return circuit.design_current_a, f"Ib {circuit.design_current_a:g} A (design_current_a in the site file)"
+    if circuit.is_submain:
+        if fed_demand_a is None:
+            return None, f"demand of {circuit.feeds} unknown"
+        return fed_demand_a, f"Ib = demand of {circuit.feeds} after diversity, {fed_demand_a:.2f} A"
+    if rules.has_kind(circuit, "socket-outlets"):
+        return circuit.device.rating_a, (f"Ib taken as In = {circuit.device.rating_a:g} A "
+                                         "(socket-outlet circuit, common practice)")
+    if not circuit.loads:
+        return None, "no load listed"
+    if all(ld.kind == "cooker" for ld in circuit.loads):
+        return _cooker_design_current(circuit, u0)
+    parts, total = [], 0.0
+    for ld in circuit.loads:
+        if ld.current_a is not None:
+            total += ld.current_a
+            parts.append(f"{ld.id} {ld.current_a:g} A")
+        else:
+            i = design_current_a(ld.power_kw, u0, ld.power_factor)
+            total += i
+            pf = f" × pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
+            parts.append(f"{ld.id} {ld.power_kw:g} kW / ({u0:g} V{pf}) = {i:.2f} A")
+    how = "Ib = " + " + ".join(parts) + (f" = {total:.2f} A" if len(parts) > 1 else "")
+    return total, how
+
+
+def _cooker_design_current(circuit: Circuit, u0: float) -> tuple[float, str]:
+    """A household cooker circuit's Ib after diversity: 10 A + 30 % of the rest (common practice,
+    the cooking-appliance allowance of tracker/data/diversity.yaml)."""
+    from tracker.engine.current import design_current_a
+    from tracker.engine.diversity import allowance_full_then_rest
+
+    rule = catalogue.diversity()["categories"]["cooker"]
+    connected = sum(ld.current_a if ld.current_a is not None else design_current_a(ld.power_kw, u0, ld.power_factor)
+                    for ld in circuit.loads)
+    ib = allowance_full_then_rest(connected, rule["full_a"], rule["rest_pct"])
+    return ib, (f"Ib = cooker diversity {rule['full_a']:g} A + {rule['rest_pct']:g} % of "
+                f"({connected:.2f} − {rule['full_a']:g}) A = {ib:.2f} A (common practice)")
+
+
+def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None) -> Facts:
+    sup = ctx.supply
+    kind = catalogue.cable_kind(circuit.cable.kind)
+    info = catalogue.device_info(circuit.device.kind)
+    ib, how = _design_current(circuit, sup.u0_v, fed_demand_a)
+    in_a = circuit.device.rating_a
+    sockets = rules.has_kind(circuit, "socket-outlets")
+    cable = circuit.cable
+    if cable.cpc_mm2 is not None:
+        cpc, cpc_how = cable.cpc_mm2, ""
+    else:
+        cpc = kind.default_cpc_mm2(cable.csa_mm2) if kind else None
+        cpc_how = (f"cpc {cpc:g} mm² assumed (standard construction of {kind.kind})" if cpc is not None
+                   else "cpc size not given (cable.cpc_mm2)")
+    r_line_v = catalogue.conductor_resistance(cable.csa_mm2)
+    r_cpc_v = catalogue.conductor_resistance(cpc) if cpc is not None else None
+    r_line = r_line_v.value if r_line_v else None
+    r_cpc = r_cpc_v.value if r_cpc_v else None
+    multiplier = kind.resistance_multiplier if kind else impedance.resistance_multiplier(70.0)
+    loop = zs = zln = None
+    zs_why = zln_why = ""
+    if r_line is not None and r_cpc is not None:
+        loop = impedance.loop_resistance_ohm(r_line, r_cpc, cable.length_m, multiplier, circuit.is_ring)
+    if ctx.z_ext_ohm is None:
+        zs_why = ctx.unknown_z or "the loop impedance at the board is unknown"
+    elif loop is None:
+        zs_why = cpc_how if cpc is None else "no conductor resistance held for that size"
+    else:
+        zs = ctx.z_ext_ohm + loop
+    if ctx.z_ln_ohm is None:
+        zln_why = ctx.supply.z_ln_source_how
+    elif r_line is None:
+        zln_why = "no conductor resistance held for that size"
+    else:
+        zln = ctx.z_ln_ohm + impedance.loop_resistance_ohm(r_line, r_line, cable.length_m, multiplier,
+                                                           circuit.is_ring)
+    t_req = disconnection.required_disconnection_s(sup.system, circuit.is_submain, in_a, sockets)
+    return Facts(
+        circuit=circuit, ctx=ctx, kind=kind, device_info=info, label=device_label(circuit.device),
+        in_a=in_a, ib_a=ib, ib_how=how, ib_vd_a=ib if ib is not None else in_a,
+        sockets=sockets, lighting=rules.has_kind(circuit, "lighting"), distribution=circuit.is_submain,
+        rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how,
+        r_line=r_line, r_cpc=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
+        zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req,
+    )
+
+
+def child_context(f: Facts, fed_board, vd_end_v: float | None, mv_v_per_a: float | None) -> BoardContext:
+    """The context at the board a sub-main feeds, from the sub-main's own facts."""
+    ctx, sup = f.ctx, f.ctx.supply
+    cable = f.circuit.cable
+    if f.r_line is not None:
+        cold = impedance.loop_resistance_ohm(f.r_line, f.r_line, cable.length_m, 1.0)
+        pfc = fault_level.downstream_pfc_ka(sup.u0_v, ctx.pfc_ka, cold)
+    else:
+        pfc = ctx.pfc_ka
+    return BoardContext(
+        site_id=ctx.site_id, board_id=fed_board.id, supply=sup,
+        z_ext_ohm=f.zs_ohm, z_ln_ohm=f.zln_far_ohm,
+        vd_v=vd_end_v, v_per_a=ctx.v_per_a + (mv_v_per_a or 0.0),
+        pfc_ka=pfc, rcd_ma=_min_rcd(fed_board.rcd_ma, f.rcd_ma),
+        conditional_rating_ka=fed_board.conditional_rating_ka,
+        fed_via=f"{ctx.site_id}/{f.circuit.board}/{f.circuit.id}",
+        unknown_vd="" if vd_end_v is not None else f"voltage drop of sub-main {f.circuit.board}/{f.circuit.id} unknown",
+        unknown_z="" if f.zs_ohm is not None else f"loop impedance of sub-main {f.circuit.board}/{f.circuit.id} "
+                                                  f"unknown ({f.zs_why})",
+    )

@@ -1,0 +1,76 @@
+"""`fault-loop`: automatic disconnection in time (BS 7671:2018 411.4 for TN, 411.5 for TT)."""
+from __future__ import annotations
+
+from tracker.checks import protection, rules
+from tracker.checks.context import Facts
+from tracker.checks.result import FAIL, PASS, WARN, CheckResult, not_assessed, verdict
+from tracker.engine import disconnection
+
+ID = "fault-loop"
+
+
+def _zs_how(f: Facts) -> str:
+    ctx = f.ctx
+    ze = ctx.supply.ze_ohm
+    upstream = ctx.z_ext_ohm - ze if ctx.z_ext_ohm is not None and ze is not None else 0.0
+    length = f"{f.circuit.cable.length_m:g} m" + (" / 4 (ring)" if f.circuit.is_ring else "")
+    ups = f" + {upstream:.3f} Ω sub-main(s)" if upstream > 1e-9 else ""
+    return (f"Zs = Ze {ze:g}{ups} + (R1+R2) ({f.r_line:g} + {f.r_cpc:g}) mΩ/m × {length} × "
+            f"{f.multiplier:.2f} = {f.zs_ohm:.3f} Ω")
+
+
+def run(f: Facts, w: dict) -> CheckResult:
+    if f.zs_ohm is None:
+        return not_assessed(ID, "ohm", "<=", f.zs_why)
+    sup = f.ctx.supply
+    w.update(zs_ohm=f.zs_ohm, r1_r2_ohm=f.loop_ohm, t_required_s=f.t_req_s)
+    how = _zs_how(f)
+    limit, limit_how, _ = protection.max_zs_ohm(f)
+    w["max_zs_ohm"] = limit
+    t_txt = f"disconnection in {f.t_req_s:g} s ({'distribution circuit' if f.distribution else 'final circuit'})"
+    if sup.system == "TT":
+        return _tt(f, how, limit, limit_how, t_txt)
+    if limit is not None and f.zs_ohm <= limit:
+        return CheckResult(ID, PASS, f.zs_ohm, limit, "ohm", "<=",
+                           f"{how} ≤ {limit_how}; {t_txt} — 411.4.4")
+    if f.rcd_ma is not None:
+        rcd_limit = disconnection.max_zs_rcd_ohm(f.rcd_ma)
+        ok = f.zs_ohm <= rcd_limit
+        device = (f"the {f.label} alone would need Zs ≤ {limit:.2f} Ω" if limit is not None
+                  else f"no max Zs held for the {f.label}")
+        detail = (f"{how}; {device}, so fault protection relies on the {f.rcd_ma:g} mA RCD: "
+                  f"Zs ≤ 50 V / IΔn = {rcd_limit:.0f} Ω (Table 41.5)")
+        return CheckResult(ID, WARN if ok else FAIL, f.zs_ohm, rcd_limit, "ohm", "<=", detail)
+    if limit is None:
+        return not_assessed(ID, "ohm", "<=", f"{how}; {limit_how}", value=f.zs_ohm)
+    return CheckResult(ID, FAIL, f.zs_ohm, limit, "ohm", "<=",
+                       f"{how} > {limit_how}: the {f.label} will not disconnect in {f.t_req_s:g} s — 411.4.4")
+
+
+def _tt(f: Facts, how: str, limit, limit_how: str, t_txt: str) -> CheckResult:
+    sup = f.ctx.supply
+    if f.rcd_ma is not None:
+        if sup.electrode_ohm is not None:
+            ra, ra_how = sup.electrode_ohm, f"RA {sup.electrode_ohm:g} Ω (electrode_ohm)"
+        else:
+            ra, ra_how = f.zs_ohm, f"RA ≤ Zs {f.zs_ohm:.2f} Ω (no electrode_ohm given: Zs used as an upper bound)"
+        volts = disconnection.touch_voltage_v(ra, f.rcd_ma)
+        ok = volts <= disconnection.TOUCH_VOLTAGE_V
+        detail = (f"TT: {ra_how} × IΔn {f.rcd_ma:g} mA = {volts:.2f} V {'≤' if ok else '>'} 50 V — 411.5.3")
+        status = verdict(ok)
+        if ok and ra > rules.TT_STABLE_RA_OHM:
+            status = WARN
+            detail += f"; RA over {rules.TT_STABLE_RA_OHM:g} Ω may not be stable (Table 41.5 note 2)"
+        return CheckResult(ID, status, volts, disconnection.TOUCH_VOLTAGE_V, "V", "<=", detail)
+    if limit is not None:
+        ok = f.zs_ohm <= limit
+        detail = (f"TT system with no RCD: fault protection by the {f.label} alone (411.5.4): "
+                  f"{how} {'≤' if ok else '>'} {limit_how}")
+        return CheckResult(ID, verdict(ok), f.zs_ohm, limit, "ohm", "<=", detail)
+    five_s, five_how, _ = protection.max_zs_ohm(f, 5.0)
+    if five_s is not None and f.zs_ohm > five_s:
+        return CheckResult(ID, FAIL, f.zs_ohm, five_s, "ohm", "<=",
+                           f"TT system with no RCD: {how} exceeds even the 5 s limit ({five_how}); "
+                           f"the {f.label} cannot give {t_txt} — fit an RCD (411.5.3)")
+    return not_assessed(ID, "ohm", "<=", f"TT system with no RCD: {how}; {limit_how}", value=f.zs_ohm)
+

@@ -1,0 +1,31 @@
+"""`rcd`: additional protection by a 30 mA RCD where the rules ask for it (BS 7671:2018
+411.3.3, 701.411.3.3, 722.531.3.101; 411.3.4 advised)."""
+from __future__ import annotations
+
+from tracker.checks import rules
+from tracker.checks.context import Facts
+from tracker.checks.result import FAIL, PASS, WARN, CheckResult
+
+ID = "rcd"
+
+
+def run(f: Facts, w: dict) -> CheckResult:
+    required, advised = rules.rcd_requirements(f.circuit, f.ctx.supply.domestic)
+    limit = rules.ADDITIONAL_PROTECTION_MA
+    have = f.rcd_ma
+    w["rcd_ma"] = have
+    covered = have is not None and have <= limit
+    what = f"{have:g} mA RCD" if have is not None else "no RCD"
+    if required:
+        why = "; ".join(required)
+        if covered:
+            return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what} gives the additional protection "
+                                                                  f"required: {why}")
+        return CheckResult(ID, FAIL, have, limit, "mA", "<=", f"{what}, but a 30 mA RCD is required: {why}")
+    if advised and not covered:
+        return CheckResult(ID, WARN, have, limit, "mA", "<=", f"{what}; a 30 mA RCD is advised: {advised[0]}")
+    if f.distribution:
+        return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what}; a distribution circuit needs no "
+                                                              "additional protection (411.3.3 is for final circuits)")
+    return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what}; no requirement for 30 mA additional "
+                                                          "protection applies to this circuit's loads")

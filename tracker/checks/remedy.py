@@ -1,0 +1,157 @@
+"""For a failing circuit, the smallest change that passes every check of it.
+
+The search tries changes of device rating, curve, cable size and RCD protection, smallest first
+(fewest things changed, then fewest size steps), and re-runs the same checks on each; the first
+candidate with no failing check is the remedy. Where only load-dependent checks fail, it also
+says how large a load the circuit as it stands can take.
+"""
+from __future__ import annotations
+
+import itertools
+from dataclasses import replace
+
+from tracker import catalogue
+from tracker.checks import circuit as circuit_checks
+from tracker.checks.circuit import CircuitResult
+from tracker.checks.context import device_label
+from tracker.checks.result import FAIL, NOT_ASSESSED, WARN
+
+LOAD_DEPENDENT = {"design-current", "voltage-drop"}
+BREAKING_STEPS_KA = (6.0, 10.0, 16.0, 25.0, 36.0, 50.0, 80.0)
+RATING_STEPS = (-2, -1, 0, 1, 2, 3, 4, 5)
+SIZE_STEPS = (0, 1, 2, 3, 4, 5)
+
+
+def _failing(result: CircuitResult) -> set[str]:
+    return _with(result, FAIL)
+
+
+def _with(result: CircuitResult, status: str) -> set[str]:
+    return {r.id for r in result.checks if r.status == status}
+
+
+def _load_limited(result: CircuitResult, failing: set[str]) -> bool:
+    dep = set(LOAD_DEPENDENT)
+    if result.basis == "design-current":
+        dep.add("capacity")
+    return bool(failing) and failing <= dep
+
+
+def _candidate_circuits(result: CircuitResult, failing: set[str]):
+    c = result.circuit
+    kind = catalogue.cable_kind(c.cable.kind)
+    ratings = catalogue.standard_ratings(c.device.kind)
+    curves = [c.device.curve] + [k for k in ("B", "C", "D") if k != c.device.curve] \
+        if c.device.kind in ("mcb", "rcbo") else [c.device.curve]
+    sizes = kind.sizes(c.cable.method) if kind else [c.cable.csa_mm2]
+    try:
+        i_rating = ratings.index(c.device.rating_a)
+    except ValueError:
+        i_rating, ratings = 0, [c.device.rating_a]
+    try:
+        i_size = sizes.index(c.cable.csa_mm2)
+    except ValueError:
+        i_size, sizes = 0, [c.cable.csa_mm2]
+    rcd_options = [c.rcd_ma]
+    # 30 mA protection is a remedy for final circuits; a sub-main is put right by its cable or device.
+    if (c.rcd_ma is None or c.rcd_ma > 30) and not c.is_submain:
+        rcd_options.append(30.0)
+    breaking = c.device.breaking_ka
+    if "breaking-capacity" in failing:
+        pfc = result.ctx.pfc_ka
+        breaking = next((b for b in BREAKING_STEPS_KA if b >= pfc), None)
+    out = []
+    for dr, curve, ds, rcd in itertools.product(RATING_STEPS, curves, SIZE_STEPS, rcd_options):
+        ir, isz = i_rating + dr, i_size + ds
+        if not (0 <= ir < len(ratings)) or isz >= len(sizes):
+            continue
+        changed = (dr != 0) + (curve != c.device.curve) + (ds != 0) + (rcd != c.rcd_ma)
+        cost = (changed, ds, abs(dr), curve != c.device.curve, rcd != c.rcd_ma, dr)
+        out.append((cost, ratings[ir], curve, sizes[isz], rcd))
+    out.sort(key=lambda x: x[0])
+    for cost, rating, curve, csa, rcd in out:
+        device = replace(c.device, rating_a=rating, curve=curve,
+                         breaking_ka=breaking if breaking is not None else c.device.breaking_ka)
+        cable = c.cable
+        if csa != c.cable.csa_mm2:
+            if kind.cpc == "separate":
+                cpc = csa                   # single-core cpc of the line conductor's size
+            elif c.cable.cpc_mm2 is None:
+                cpc = None                  # the cable's standard construction still applies
+            else:
+                cpc = kind.default_cpc_mm2(csa) or csa
+            cable = replace(c.cable, csa_mm2=csa, cpc_mm2=cpc)
+        yield replace(c, device=device, cable=cable, rcd_ma=rcd)
+
+
+def _describe(before, after, result_after: CircuitResult) -> list[str]:
+    parts = []
+    if (before.device.rating_a, before.device.curve) != (after.device.rating_a, after.device.curve):
+        parts.append(f"device {device_label(before.device)} → {device_label(after.device)}")
+    if before.device.breaking_ka != after.device.breaking_ka:
+        parts.append(f"a device with a breaking capacity of at least {after.device.breaking_ka:g} kA")
+    if before.cable.csa_mm2 != after.cable.csa_mm2:
+        cpc_b = before.cable.cpc_mm2
+        cpc_a = after.cable.cpc_mm2
+        kind = catalogue.cable_kind(after.cable.kind)
+        cpc_b = cpc_b if cpc_b is not None else kind.default_cpc_mm2(before.cable.csa_mm2)
+        cpc_a = cpc_a if cpc_a is not None else kind.default_cpc_mm2(after.cable.csa_mm2)
+        cpc = f", cpc {cpc_b:g} → {cpc_a:g} mm²" if cpc_b != cpc_a and cpc_a is not None else ""
+        iz = f", Iz {result_after.iz_a:.1f} A" if result_after.iz_a is not None else ""
+        parts.append(f"cable {before.cable.csa_mm2:g} → {after.cable.csa_mm2:g} mm² {after.cable.kind}{cpc}{iz}")
+    if before.rcd_ma != after.rcd_ma:
+        parts.append("30 mA RCD protection (an RCBO, or an RCD on the board)")
+    return parts
+
+
+def find(result: CircuitResult) -> dict | None:
+    """The remedy for a failing circuit: {'text', 'changes', 'load_limit_kw'}; None if it passes."""
+    failing = _failing(result)
+    if not failing:
+        return None
+    c = result.circuit
+    out: dict = {"changes": [], "load_limit_kw": None, "text": ""}
+    unknown, cautions = _with(result, NOT_ASSESSED), _with(result, WARN)
+    chosen = fallback = None
+    for cand in _candidate_circuits(result, failing):
+        trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a)
+        # A remedy must not pass by leaving a check unassessed that was assessed before.
+        if _failing(trial) or not _with(trial, NOT_ASSESSED) <= unknown:
+            continue
+        if _with(trial, WARN) <= cautions:
+            chosen = (cand, trial)
+            break
+        fallback = fallback or (cand, trial)
+    chosen = chosen or fallback
+    if chosen is not None:
+        cand, trial = chosen
+        out["changes"] = _describe(c, cand, trial)
+        out["change"] = {
+            "device": {"kind": cand.device.kind, "curve": cand.device.curve, "rating_a": cand.device.rating_a,
+                       "breaking_ka": cand.device.breaking_ka},
+            "cable": {"kind": cand.cable.kind, "csa_mm2": cand.cable.csa_mm2, "cpc_mm2": cand.cable.cpc_mm2,
+                      "method": cand.cable.method},
+            "rcd_ma": cand.rcd_ma,
+        }
+    text = []
+    ctx = result.ctx
+    vd = result.check("voltage-drop")
+    if "voltage-drop" in failing and ctx.fed_via and ctx.vd_v is not None and vd.limit is not None \
+            and ctx.vd_v >= 0.5 * vd.limit / 100.0 * ctx.supply.u0_v:
+        text.append(f"{ctx.vd_v:.2f} V of the allowed {vd.limit / 100.0 * ctx.supply.u0_v:.2f} V is already "
+                    f"dropped upstream: put the sub-main {ctx.fed_via} right first")
+    if out["changes"]:
+        text.append("smallest change that passes every check of the circuit: " + "; ".join(out["changes"]))
+    else:
+        text.append("no change of device rating, curve, cable size or RCD within reach passes every check: "
+                    "the circuit needs redesign (shorter route, split load, other installation method)")
+    if _load_limited(result, failing) and result.own_margin_a() is not None and c.loads \
+            and not any(ld.kind == "socket-outlets" for ld in c.loads) and c.design_current_a is None:
+        limit_a = result.ib_a + result.own_margin_a()
+        kw = sum(ld.power_kw for ld in c.loads if ld.power_kw is not None)
+        if kw > 0 and limit_a > 0 and all(ld.power_kw is not None for ld in c.loads):
+            limit_kw = limit_a * kw / result.ib_a   # the same loads, scaled down to the limiting current
+            out["load_limit_kw"] = round(limit_kw, 2)
+            text.append(f"or keep the circuit as it is and limit its load to {limit_kw:.2f} kW")
+    out["text"] = "; ".join(text)
+    return out

@@ -1,0 +1,69 @@
+"""Check results and their statuses."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+PASS, FAIL, WARN, NOT_ASSESSED = "pass", "fail", "warn", "not-assessed"
+# Worst first. An unknown is worse than a caution: a not-assessed check has not been shown to hold.
+SEVERITY = {FAIL: 3, NOT_ASSESSED: 2, WARN: 1, PASS: 0}
+
+# Circuit checks in the order they are reported (SPEC §3 ids).
+CIRCUIT_CHECKS = ("design-current", "capacity", "voltage-drop", "fault-loop", "cpc-adiabatic",
+                  "line-adiabatic", "breaking-capacity", "rcd")
+BOARD_CHECKS = ("demand",)
+
+UNIT_DIGITS = {"A": 2, "V": 2, "%": 2, "ohm": 3, "mm2": 2, "kA": 2, "kW": 2, "mA": 0}
+
+
+@dataclass(frozen=True, slots=True)
+class CheckResult:
+    id: str
+    status: str
+    value: float | None
+    limit: float | None
+    unit: str
+    compare: str          # '<=' or '>=': `value compare limit` must hold
+    detail: str
+    # For checks that depend on the design current: the largest Ib at which the check still
+    # holds (the engine's own figure, from which headroom is derived). None: independent of Ib.
+    ib_limit_a: float | None = field(default=None, compare=False)
+
+    def margin(self) -> float | None:
+        """How far inside the limit (negative: how far over), in the check's unit."""
+        if self.value is None or self.limit is None:
+            return None
+        return self.limit - self.value if self.compare == "<=" else self.value - self.limit
+
+    def as_json(self) -> dict:
+        digits = UNIT_DIGITS.get(self.unit, 3)
+        return {"id": self.id, "status": self.status,
+                "value": _round(self.value, digits), "limit": _round(self.limit, digits),
+                "unit": self.unit, "compare": self.compare, "detail": self.detail}
+
+
+def _round(x, digits):
+    return None if x is None else round(x, digits)
+
+
+def worst(statuses) -> str:
+    out = PASS
+    for s in statuses:
+        if SEVERITY[s] > SEVERITY[out]:
+            out = s
+    return out
+
+
+def not_assessed(check_id: str, unit: str, compare: str, why: str, value=None, limit=None) -> CheckResult:
+    return CheckResult(check_id, NOT_ASSESSED, value, limit, unit, compare, f"not assessed: {why}")
+
+
+def verdict(ok: bool) -> str:
+    return PASS if ok else FAIL
+
+
+def fmt(x: float, digits: int = 2) -> str:
+    """A number for a detail line: no trailing zeros beyond what the digits show."""
+    text = f"{x:.{digits}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return text

@@ -1,0 +1,72 @@
+"""The bs7671 rule set: which circuits a rule applies to (BS 7671:2018 as amended; IEC 60364
+based). Clause numbers are those of BS 7671:2018; numerical limits sit with the formulas in
+`tracker.engine`, tables in `tracker/data/`.
+"""
+from __future__ import annotations
+
+from tracker.model import Circuit
+
+# 433.1.204: a ring final circuit with a 30 or 32 A device and line conductors of at least
+# 2.5 mm² (thermoplastic or thermosetting copper; not mineral-insulated) needs Iz >= 20 A.
+RING_DEVICE_RATINGS_A = (30.0, 32.0)
+RING_MIN_CSA_MM2 = 2.5
+RING_MIN_IZ_A = 20.0
+
+# 411.3.3: additional protection by an RCD of IΔn <= 30 mA.
+ADDITIONAL_PROTECTION_MA = 30.0
+SOCKET_RCD_MAX_RATING_A = 32.0   # 411.3.3(a): socket-outlets rated up to 32 A
+OUTDOOR_RCD_MAX_RATING_A = 32.0  # 411.3.3(b): mobile equipment for use outdoors up to 32 A
+
+# Loads that a designer cannot rely on being unable to overload (433.3.1(ii) needs a load that
+# is not likely to carry overload current): socket-outlets and motors (which can stall).
+OVERLOADABLE_KINDS = frozenset({"socket-outlets", "motor"})
+
+# RA above this may not be stable (BS 7671:2018 Table 41.5, note 2).
+TT_STABLE_RA_OHM = 200.0
+
+
+def has_kind(circuit: Circuit, kind: str) -> bool:
+    return any(ld.kind == kind for ld in circuit.loads)
+
+
+def qualifies_as_ring(circuit: Circuit) -> tuple[bool, str]:
+    """433.1.204 conditions for a ring final circuit; (qualifies, why not)."""
+    if not circuit.is_ring:
+        return False, "not a ring"
+    if circuit.device.rating_a not in RING_DEVICE_RATINGS_A:
+        return False, f"device rated {circuit.device.rating_a:g} A (433.1.204 needs 30 or 32 A)"
+    if circuit.cable.csa_mm2 < RING_MIN_CSA_MM2:
+        return False, f"{circuit.cable.csa_mm2:g} mm² conductors (433.1.204 needs at least 2.5 mm²)"
+    return True, ""
+
+
+def exemption_problem(circuit: Circuit) -> str | None:
+    """Why `overload_exempt` cannot be relied on for this circuit, or None."""
+    kinds = sorted({ld.kind for ld in circuit.loads} & OVERLOADABLE_KINDS)
+    if kinds:
+        return f"it serves {', '.join(kinds)}, which can be overloaded"
+    if circuit.is_submain:
+        return "it is a sub-main, whose load can grow"
+    if not circuit.loads and circuit.design_current_a is None:
+        return "no load is listed"
+    return None
+
+
+def rcd_requirements(circuit: Circuit, domestic: bool = True) -> tuple[list[str], list[str]]:
+    """(requirements, recommendations) for 30 mA additional protection, as clause texts."""
+    required, advised = [], []
+    if circuit.is_submain:
+        return required, advised
+    rating = circuit.device.rating_a
+    if has_kind(circuit, "socket-outlets") and rating <= SOCKET_RCD_MAX_RATING_A:
+        required.append("411.3.3(a) socket-outlets rated up to 32 A")
+    if any(ld.location == "bathroom" for ld in circuit.loads) or has_kind(circuit, "shower"):
+        required.append("701.411.3.3 circuits of a location containing a bath or shower")
+    if any(ld.location == "outdoor" for ld in circuit.loads) and rating <= OUTDOOR_RCD_MAX_RATING_A:
+        required.append("411.3.3(b) equipment for use outdoors up to 32 A")
+    if has_kind(circuit, "ev-charger"):
+        required.append("722.531.3.101 each charging point")
+    if domestic and has_kind(circuit, "lighting") and not required:
+        advised.append("411.3.4 luminaires of domestic premises (an improvement for an installation "
+                       "designed to an earlier edition)")
+    return required, advised

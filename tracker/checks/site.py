@@ -1,0 +1,147 @@
+"""All checks of a site: demand bottom-up, conditions at each board top-down, then every
+circuit with the conditions at its board. A site is independent of every other site."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from tracker.checks import circuit as circuit_checks
+from tracker.checks import demand as demand_checks
+from tracker.checks.circuit import CircuitResult
+from tracker.checks.context import BoardContext, child_context, build_facts, origin_context, supply_context
+from tracker.checks.result import CheckResult, worst
+from tracker.model import Circuit, Site
+
+
+@dataclass(slots=True)
+class BoardResult:
+    ref: str
+    board_id: str
+    demand: demand_checks.Demand
+    check: CheckResult
+    ctx: BoardContext
+    margin_a: float | None = None   # extra current any circuit here may add before an upstream check fails
+
+    @property
+    def status(self) -> str:
+        return self.check.status
+
+
+@dataclass(slots=True)
+class SiteResult:
+    site: Site
+    circuits: dict[str, CircuitResult] = field(default_factory=dict)
+    boards: dict[str, BoardResult] = field(default_factory=dict)
+    supply_check: CheckResult | None = None
+
+    @property
+    def status(self) -> str:
+        return worst([r.status for r in self.circuits.values()] + [b.status for b in self.boards.values()]
+                     + ([self.supply_check.status] if self.supply_check else []))
+
+
+def evaluate_site(site: Site, previous: SiteResult | None = None) -> SiteResult:
+    """Check every circuit and board of `site`.
+
+    With `previous` (the result for an earlier state of the same site), a circuit whose own data,
+    board conditions and fed demand are all unchanged keeps its earlier results: its checks are
+    pure functions of exactly those inputs. The result equals a fresh evaluation.
+    """
+    sup = supply_context(site.supply, site.premises == "domestic")
+    u0 = sup.u0_v
+    on_board: dict[str, list[Circuit]] = {b.id: [] for b in site.boards}
+    for c in site.circuits:
+        on_board[c.board].append(c)
+    demands: dict[str, demand_checks.Demand] = {}
+
+    def demand_of(board_id: str) -> demand_checks.Demand:
+        if board_id not in demands:
+            fed = {c.feeds: demand_of(c.feeds).demand_a for c in on_board[board_id] if c.feeds}
+            demands[board_id] = demand_checks.board_demand(on_board[board_id], u0, fed)
+        return demands[board_id]
+
+    out = SiteResult(site)
+    old = previous.circuits if previous is not None else {}
+    boards = {b.id: b for b in site.boards}
+
+    def visit(board_id: str, ctx: BoardContext) -> None:
+        board = boards[board_id]
+        d = demand_of(board_id)
+        ref = f"{site.id}/{board_id}"
+        out.boards[ref] = BoardResult(ref, board_id, d, demand_checks.run(board, d, site.supply.service_fuse_a), ctx)
+        for c in on_board[board_id]:
+            fed = demand_of(c.feeds).demand_a if c.feeds else None
+            cref = f"{site.id}/{c.board}/{c.id}"
+            prior = old.get(cref)
+            if prior is not None and prior.circuit == c and prior.ctx == ctx and prior.fed_demand_a == fed:
+                result, facts = prior, None
+            else:
+                result, facts = circuit_checks.evaluate(c, ctx, fed)
+            out.circuits[cref] = result
+            if c.feeds:
+                facts = facts or build_facts(c, ctx, fed)
+                visit(c.feeds, child_context(facts, boards[c.feeds], result.vd_end_v, result.v_per_a))
+
+    origin_boards = [b.id for b in site.boards if b.at_origin]
+    for board_id in origin_boards:
+        visit(board_id, origin_context(site, board_id, sup))
+    total = sum(demand_of(b).demand_a for b in origin_boards)
+    out.supply_check = demand_checks.supply_check(site.id, total, site.supply.service_fuse_a, origin_boards)
+    # Report circuits in the order of the site files.
+    out.circuits = {f"{site.id}/{c.board}/{c.id}": out.circuits[f"{site.id}/{c.board}/{c.id}"] for c in site.circuits}
+    _margins(out, on_board, origin_boards)
+    return out
+
+
+def _margins(out: SiteResult, on_board: dict[str, list[Circuit]], origin_boards: list[str]) -> None:
+    """Upstream margins for headroom: each board's demand limit, the sub-main feeding it (its
+    own Ib-dependent checks, and the voltage drop it adds to every circuit below it)."""
+    site = out.site
+    slack: dict[str, float | None] = {}
+
+    def subtree_slack(board_id: str) -> float | None:
+        values = []
+        for c in on_board[board_id]:
+            r = out.circuits[f"{site.id}/{c.board}/{c.id}"]
+            values.append(r.working.get("vd_slack_v"))
+            if c.feeds:
+                values.append(subtree_slack(c.feeds))
+        known = [v for v in values if v is not None]
+        slack[board_id] = min(known) if known else None
+        return slack[board_id]
+
+    for b in origin_boards:
+        subtree_slack(b)
+    supply_margin = None
+    if out.supply_check is not None and out.supply_check.margin() is not None:
+        supply_margin = out.supply_check.margin()
+
+    def assign(board_id: str, inherited: float | None, feeder: CircuitResult | None) -> None:
+        br = out.boards[f"{site.id}/{board_id}"]
+        candidates = [inherited, br.check.margin()]
+        if feeder is not None:
+            candidates.append(feeder.own_margin_a())
+            per_a = br.ctx.v_per_a
+            if slack.get(board_id) is not None and per_a > 0:
+                candidates.append(slack[board_id] / per_a)
+        known = [c for c in candidates if c is not None]
+        br.margin_a = min(known) if known else None
+        for c in on_board[board_id]:
+            if c.feeds:
+                assign(c.feeds, br.margin_a, out.circuits[f"{site.id}/{c.board}/{c.id}"])
+
+    for b in origin_boards:
+        assign(b, supply_margin, None)
+
+
+def headroom_kw(site_result: SiteResult, result: CircuitResult) -> float | None:
+    """Extra load (kW at unity power factor) the circuit could take before any check of it, or
+    upstream of it, fails; negative: how far over. None where an Ib-dependent check could not be
+    assessed. The extra current is taken to add at 100 % on every board above (no diversity)."""
+    own = result.own_margin_a()
+    if own is None:
+        return None
+    # A sub-main's extra load arrives on the board it feeds, whose margin includes the sub-main's.
+    target = result.circuit.feeds or result.board_id
+    board = site_result.boards.get(f"{result.site_id}/{target}")
+    margin = own if board is None or board.margin_a is None else min(own, board.margin_a)
+    return margin * result.ctx.supply.u0_v / 1000.0

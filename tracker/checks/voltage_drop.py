@@ -1,0 +1,55 @@
+"""`voltage-drop`: cumulative from the origin, % of U0, against the limit for the use
+(BS 7671:2018 525.202 and Appendix 4 Table 4Ab)."""
+from __future__ import annotations
+
+from tracker.checks.context import Facts
+from tracker.checks.result import CheckResult, fmt, not_assessed, verdict
+from tracker.engine import voltage_drop as vd
+
+ID = "voltage-drop"
+
+
+def circuit_drop(f: Facts) -> tuple[float | None, float | None, str]:
+    """(volts dropped in this circuit at Ib, volts per extra ampere, mV/A/m note)."""
+    c = f.circuit
+    if f.kind is None:
+        return None, None, f"cable kind {c.cable.kind} not in the catalogue"
+    mv = f.kind.voltage_drop(c.cable.csa_mm2)
+    if mv is None:
+        return None, None, f"no mV/A/m held for {c.cable.csa_mm2:g} mm² {f.kind.kind}"
+    volts = vd.voltage_drop_v(mv.value, f.ib_vd_a, c.cable.length_m, c.is_ring)
+    per_a = vd.voltage_drop_v(mv.value, 1.0, c.cable.length_m, c.is_ring)
+    status = "" if mv.confirmed else f" [{mv.status}]"
+    return volts, per_a, f"{fmt(mv.value)} mV/A/m{status}"
+
+
+def run(f: Facts, w: dict) -> tuple[CheckResult, float | None, float | None]:
+    """(result, volts at the far end from the origin, this circuit's volts per ampere)."""
+    c, sup = f.circuit, f.ctx.supply
+    lighting = f.lighting and not f.distribution
+    limit_pct = vd.voltage_drop_limit_pct(lighting, sup.private)
+    use = "lighting" if lighting else "other uses"
+    src = "private supply" if sup.private else "public supply"
+    volts, per_a, mv_note = circuit_drop(f)
+    if volts is None:
+        return not_assessed(ID, "%", "<=", mv_note, limit=limit_pct), None, None
+    if f.ctx.vd_v is None:
+        return not_assessed(ID, "%", "<=", f.ctx.unknown_vd, limit=limit_pct), None, per_a
+    total_v = f.ctx.vd_v + volts
+    pct = total_v / sup.u0_v * 100.0
+    limit_v = limit_pct / 100.0 * sup.u0_v
+    w.update(vd_circuit_v=volts, vd_upstream_v=f.ctx.vd_v, vd_total_pct=pct, mv_per_a_m=mv_note)
+    length = f"{c.cable.length_m:g} m" + (" / 4 (ring, load at the midpoint)" if c.is_ring else "")
+    ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
+    upstream = f" + {f.ctx.vd_v:.2f} V upstream = {total_v:.2f} V" if f.ctx.vd_v else ""
+    ok = pct <= limit_pct
+    detail = (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {length} = {volts:.2f} V{upstream} = "
+              f"{pct:.2f} % of {sup.u0_v:g} V {'≤' if ok else '>'} {limit_pct:g} % ({use}, {src}; "
+              "Appendix 4 Table 4Ab)")
+    # Extra current on this circuit also flows through every sub-main above it.
+    slope = per_a + f.ctx.v_per_a
+    ib_limit = None
+    if f.ib_a is not None and slope > 0:
+        ib_limit = f.ib_a + (limit_v - total_v) / slope
+    w["vd_slack_v"] = limit_v - total_v
+    return CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), total_v, per_a
