@@ -1,0 +1,82 @@
+"""The `izwatch check --json` document (SPEC §5; extensions documented in
+schema/check-output.schema.json)."""
+from __future__ import annotations
+
+from tracker.checks import remedy as remedies
+from tracker.checks.result import FAIL, UNIT_DIGITS
+from tracker.checks.site import SiteResult, headroom_kw
+
+SCHEMA = "izwatch.check/1"
+CAUTION = ("izwatch supports, and does not replace, a competent person: verify every result against "
+           "the current wiring regulations, local codes and manufacturers' data. Work on electrical "
+           "installations is for qualified people.")
+
+_WORKING_UNITS = {"_a": "A", "_v": "V", "_ohm": "ohm", "_mm2": "mm2", "_ka": "kA", "_pct": "%", "_s": "s"}
+
+
+def _r(x, digits=2):
+    return None if x is None else round(x, digits)
+
+
+def _working(w: dict) -> dict:
+    out = {}
+    for key, value in w.items():
+        if isinstance(value, float):
+            digits = 3
+            for suffix, unit in _WORKING_UNITS.items():
+                if key.endswith(suffix):
+                    digits = UNIT_DIGITS.get(unit, 3)
+            out[key] = round(value, digits)
+        else:
+            out[key] = value
+    return out
+
+
+def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
+    c = r.circuit
+    entry = {
+        "ref": r.ref,
+        "name": c.name,
+        "status": r.status,
+        "ib_a": _r(r.ib_a),
+        "in_a": r.in_a,
+        "iz_a": _r(r.iz_a),
+        "basis": r.basis,
+        "headroom_kw": _r(headroom_kw(sr, r)),
+        "checks": [x.as_json() for x in r.checks],
+        "site": r.site_id,
+        "board": c.board,
+        "file": c.src.file if c.src else None,
+        "working": _working(r.working),
+    }
+    if with_remedy and r.status == FAIL:
+        entry["remedy"] = remedies.find(r)
+    return entry
+
+
+def board_entry(b) -> dict:
+    return {"ref": b.ref, "demand_a": _r(b.demand.demand_a), "status": b.status,
+            "checks": [b.check.as_json()]}
+
+
+def supply_entry(sr: SiteResult) -> dict:
+    chk = sr.supply_check
+    return {"ref": sr.site.id, "demand_a": _r(chk.value), "status": chk.status, "checks": [chk.as_json()]}
+
+
+def check_document(results, errors=(), warnings=()) -> dict:
+    """`results`: SiteResults in order; `errors`/`warnings`: InputError / LoadWarning."""
+    circuits, boards, supplies = [], [], []
+    for sr in results:
+        circuits.extend(circuit_entry(sr, r) for r in sr.circuits.values())
+        boards.extend(board_entry(b) for b in sr.boards.values())
+        supplies.append(supply_entry(sr))
+    return {
+        "schema": SCHEMA,
+        "circuits": circuits,
+        "boards": boards,
+        "errors": [e.as_json() for e in errors],
+        "supplies": supplies,
+        "warnings": [w.as_json() for w in warnings],
+        "caution": CAUTION,
+    }

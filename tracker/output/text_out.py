@@ -1,0 +1,74 @@
+"""The human report of `izwatch check`: a compact table per board; each failing check's working
+on one line under its circuit. Statuses are words and symbols, never colour alone."""
+from __future__ import annotations
+
+from tracker.checks import remedy as remedies
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
+from tracker.checks.site import SiteResult, headroom_kw
+from tracker.output.json_out import CAUTION
+
+MARK = {PASS: "ok  ", FAIL: "FAIL", WARN: "warn", NOT_ASSESSED: "n/a "}
+SYMBOL = {FAIL: "✗", WARN: "!", NOT_ASSESSED: "?"}
+
+
+def _num(x, fmt="{:.1f}") -> str:
+    return "—" if x is None else fmt.format(x)
+
+
+def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
+    site = sr.site
+    sup = site.supply
+    lines = [f"== {site.id}  {site.name}".rstrip(),
+             f"   supply {sup.system}, U0 {sup.u0_v:g} V, Ze {_num(sup.ze_ohm, '{:g}')} Ω"
+             + (f", PFC {sup.pfc_ka:g} kA" if sup.pfc_ka else "")
+             + (f", supplier's fuse {sup.service_fuse_a:g} A" if sup.service_fuse_a else "")]
+    by_board: dict[str, list] = {}
+    for r in sr.circuits.values():
+        by_board.setdefault(r.board_id, []).append(r)
+    for bref, b in sr.boards.items():
+        board = site.board(b.board_id)
+        fed = "supply" if board.at_origin else board.fed_by
+        lines.append(f"-- {bref}  {board.name}  (fed by {fed}; demand {b.demand.demand_a:.1f} A) "
+                     f"[{MARK[b.status].strip()}]")
+        if b.status != PASS:
+            lines.append(f"     {SYMBOL[b.status]} demand: {b.check.detail}")
+        for r in by_board.get(b.board_id, []):
+            if only_problems and r.status in (PASS,):
+                continue
+            hk = headroom_kw(sr, r)
+            lines.append(f"   {MARK[r.status]} {r.circuit.id:<5} {r.circuit.name[:34]:<34} "
+                         f"Ib {_num(r.ib_a):>6}  In {r.in_a:>5g}  Iz {_num(r.iz_a):>6}  "
+                         f"headroom {_num(hk, '{:+.2f}')} kW")
+            for chk in r.checks:
+                if chk.status in (FAIL, WARN, NOT_ASSESSED):
+                    lines.append(f"        {SYMBOL[chk.status]} {chk.id}: {chk.detail}")
+            if r.status == FAIL:
+                rem = remedies.find(r)
+                if rem:
+                    lines.append(f"        → remedy: {rem['text']}")
+    if sr.supply_check is not None and sr.supply_check.status != PASS:
+        lines.append(f"   {SYMBOL[sr.supply_check.status]} origin demand: {sr.supply_check.detail}")
+    return lines
+
+
+def summary(results) -> tuple[str, dict]:
+    counts = {PASS: 0, WARN: 0, NOT_ASSESSED: 0, FAIL: 0}
+    n = 0
+    for sr in results:
+        for r in sr.circuits.values():
+            counts[r.status] += 1
+            n += 1
+    text = (f"{n} circuits in {len(results)} site(s): {counts[FAIL]} fail, {counts[WARN]} warn, "
+            f"{counts[NOT_ASSESSED]} not fully assessed, {counts[PASS]} pass")
+    return text, counts
+
+
+def render(results, only_problems: bool = False) -> str:
+    lines = []
+    for sr in results:
+        lines.extend(render_site(sr, only_problems))
+        lines.append("")
+    text, _ = summary(results)
+    lines.append(text)
+    lines.append(f"Caution: {CAUTION}")
+    return "\n".join(lines)
