@@ -1,0 +1,81 @@
+"""`izwatch check`: exit codes, the SPEC §5 JSON document, errors on stderr."""
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from tests.conftest import DEMO, MINIMAL
+from tracker.cli import main
+from tracker.loading import load_estate
+
+
+def run_cli(*args) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "tracker.cli", *map(str, args)],
+                          capture_output=True, text=True, timeout=120)
+
+
+def test_version_and_help():
+    out = run_cli("--version")
+    assert out.returncode == 0 and out.stdout.startswith("izwatch ")
+    out = run_cli("check", "--help")
+    assert out.returncode == 0 and "--json" in out.stdout
+
+
+def test_demo_json_lists_every_circuit(capsys):
+    code = main(["check", str(DEMO), "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    estate = load_estate(DEMO)
+    expected = {f"{s.id}/{c.board}/{c.id}" for s in estate.sites.values() for c in s.circuits}
+    assert {c["ref"] for c in doc["circuits"]} == expected
+    assert doc["schema"] == "izwatch.check/1" and doc["errors"] == []
+    assert code == 1  # the demo estate has failing circuits on purpose
+
+
+def test_json_shape_of_the_spec(capsys):
+    main(["check", str(DEMO), "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    ids = ["design-current", "capacity", "voltage-drop", "fault-loop", "cpc-adiabatic", "line-adiabatic",
+           "breaking-capacity", "rcd"]
+    for c in doc["circuits"]:
+        assert set(c) >= {"ref", "name", "status", "ib_a", "in_a", "iz_a", "basis", "headroom_kw", "checks"}
+        assert c["status"] in ("pass", "fail", "warn", "not-assessed")
+        assert c["basis"] in ("device-rating", "ring", "design-current")
+        assert [x["id"] for x in c["checks"]] == ids
+        for x in c["checks"]:
+            assert set(x) == {"id", "status", "value", "limit", "unit", "compare", "detail"}
+            assert x["compare"] in ("<=", ">=") and x["unit"] in ("A", "V", "%", "ohm", "mm2", "kA", "kW", "mA")
+            assert x["detail"]
+    for b in doc["boards"]:
+        assert set(b) >= {"ref", "demand_a", "checks"} and b["checks"][0]["id"] == "demand"
+
+
+def test_clean_site_exits_zero(site_factory, capsys):
+    root = site_factory(MINIMAL)
+    assert main(["check", str(root)]) == 0
+    assert "1 circuits in 1 site(s): 0 fail" in capsys.readouterr().out
+
+
+def test_invalid_input_exit_2_with_located_errors(site_factory):
+    root = site_factory(MINIMAL.replace("length_m: 20", "length_m: -20"))
+    out = run_cli("check", root)
+    assert out.returncode == 2
+    assert out.stderr.strip().splitlines() == [
+        "flat-1/site.yaml:18:62: circuits[0].cable.length_m: -20 must be more than 0"]
+    assert "Traceback" not in out.stderr + out.stdout
+
+
+def test_invalid_input_json_carries_errors(site_factory, capsys):
+    root = site_factory(MINIMAL.replace("length_m: 20", "length_m: -20"))
+    assert main(["check", str(root), "--json"]) == 2
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["errors"][0]["line"] == 18 and doc["errors"][0]["path"] == "circuits[0].cable.length_m"
+
+
+@pytest.mark.parametrize("path", ["/nonexistent/estate", __file__])
+def test_unusable_path_exit_2(path):
+    out = run_cli("check", path)
+    assert out.returncode == 2 and out.stderr.startswith("izwatch: ")
+    assert "Traceback" not in out.stderr
