@@ -4,24 +4,26 @@ from __future__ import annotations
 import math
 
 # Copper constants of IEC 60364-5-54:2011 Annex A (Table A.1): volumetric heat capacity Qc,
-# reciprocal of the temperature coefficient of resistivity at 0 °C β, resistivity at 20 °C ρ20.
+# reciprocal of the temperature coefficient of resistivity at 0 °C β, resistivity at 20 °C ρ20,
+# and the constant they make, sqrt(Qc (β + 20) / ρ20) = 225.7, which the table gives as 226.
 COPPER_QC_J_PER_C_MM3 = 3.45e-3
 COPPER_BETA_C = 234.5
 COPPER_RHO20_OHM_MM = 17.241e-6
+COPPER_K_CONSTANT = 226.0
 
 
-def k_factor(initial_c: float, final_c: float, qc: float = COPPER_QC_J_PER_C_MM3,
-             beta_c: float = COPPER_BETA_C, rho20: float = COPPER_RHO20_OHM_MM) -> float:
+def k_factor(initial_c: float, final_c: float, constant: float = COPPER_K_CONSTANT,
+             beta_c: float = COPPER_BETA_C) -> float:
     """Factor k of the adiabatic equation for a conductor heated from θi to θf.
 
-    k = sqrt(Qc (β + 20) / ρ20 · ln((β + θf) / (β + θi)))
+    k = K · sqrt(ln((β + θf) / (β + θi))),  K = sqrt(Qc (β + 20) / ρ20)
 
-    IEC 60364-5-54:2011 Annex A, equation A.1. For copper: 70 → 160 °C gives 115 (thermoplastic
-    insulation, cpc in the cable or line conductor: BS 7671 Tables 43.1, 54.3); 30 → 160 °C
-    gives 143 (separate thermoplastic-insulated cpc, Table 54.2); 90 → 250 °C gives 143
-    (thermosetting); 30 → 250 °C gives 176.
+    IEC 60364-5-54:2011 Annex A, equation A.1, with K = 226 for copper as its Table A.1 gives it.
+    For copper: 70 → 160 °C gives 115.0 (thermoplastic insulation, cpc in the cable or line
+    conductor: BS 7671 Tables 43.1, 54.3); 30 → 160 °C gives 142.9 (separate thermoplastic-
+    insulated cpc, Table 54.2: 143); 90 → 250 °C gives 143.1 (thermosetting); 30 → 250 °C 175.8 (176).
     """
-    return math.sqrt(qc * (beta_c + 20.0) / rho20 * math.log((beta_c + final_c) / (beta_c + initial_c)))
+    return constant * math.sqrt(math.log((beta_c + final_c) / (beta_c + initial_c)))
 
 
 def min_csa_mm2(fault_current_a: float, time_s: float, k: float) -> float:

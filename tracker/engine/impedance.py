@@ -2,8 +2,8 @@
 from __future__ import annotations
 
 # Temperature coefficient of resistance of copper used for the operating-temperature multiplier
-# (common practice: 1 + 0.004 (θ − 20) gives 1.20 at 70 °C and 1.28 at 90 °C; with the exact
-# 1/234.5 per °C of IEC 60228 it is 1.196 and 1.275).
+# (common practice: 1 + 0.004 (θ − 20) gives 1.20 at 70 °C and 1.28 at 90 °C; the exact copper
+# ratio (234.5 + θ)/(234.5 + 20), i.e. α20 = 1/254.5 per °C, gives 1.196 and 1.275).
 ALPHA_PER_C = 0.004
 
 
