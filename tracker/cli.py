@@ -42,6 +42,56 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print the izwatch.check/1 JSON document")
     p.add_argument("--problems", action="store_true", help="text output: list only circuits that do not pass")
     p.set_defaults(func=_run("tracker.commands.check"))
+
+    p = sub.add_parser("watch", help="keep watching: re-check and record every change",
+                       description="Watch the site files; every change is re-checked, recorded in the history "
+                                   "and its events printed, one line each. Ctrl-C stops.")
+    _add_path(p)
+    _add_db(p)
+    p.add_argument("--json", action="store_true", help="print JSON lines (a ready line, then one per event)")
+    p.add_argument("--verbose", action="store_true", help="also print one line per recorded revision")
+    p.set_defaults(func=_run("tracker.commands.watch"))
+
+    p = sub.add_parser("replace", help="log an appliance replacement and see what it breaks",
+                       description="Rewrite the load's power or current in its site file (comments and layout "
+                                   "kept), record who and why, re-check, and print before → after for the "
+                                   "circuit and everything upstream. Exit 1 if any of it fails afterwards.")
+    _add_path(p)
+    p.add_argument("load_ref", metavar="LOAD_REF", help="SITE/BOARD/CIRCUIT/LOAD")
+    size = p.add_mutually_exclusive_group(required=True)
+    size.add_argument("--power-kw", type=float, metavar="X", help="the new appliance's rated power, kW")
+    size.add_argument("--current-a", type=float, metavar="X", help="the new appliance's rated current, A")
+    p.add_argument("--by", required=True, metavar="NAME", help="who made the change")
+    p.add_argument("--note", metavar="TEXT", help="why (work order, what was fitted)")
+    p.add_argument("--dry-run", action="store_true", help="show the result without writing anything")
+    _add_db(p)
+    p.set_defaults(func=_run("tracker.commands.replace"))
+
+    p = sub.add_parser("history", help="what changed, when, by whom, and what it did",
+                       description="List the recorded revisions with their changes and events.")
+    _add_path(p)
+    p.add_argument("--ref", metavar="REF", help="only what concerns this site, board, circuit or load")
+    p.add_argument("--since", metavar="DATE", help="only revisions at or after DATE (YYYY-MM-DD)")
+    p.add_argument("--json", action="store_true", help="print a JSON list of revisions")
+    _add_db(p)
+    p.set_defaults(func=_run("tracker.commands.history"))
+
+    p = sub.add_parser("ack", help="acknowledge an open problem (e.g. remedial work booked)",
+                       description="Record an acknowledgement of a circuit's open problems, with who and a note. "
+                                   "It is part of the history's chain.")
+    _add_path(p)
+    p.add_argument("circuit_ref", metavar="CIRCUIT_REF", help="SITE/BOARD/CIRCUIT")
+    p.add_argument("--by", required=True, metavar="NAME")
+    p.add_argument("--note", required=True, metavar="TEXT")
+    _add_db(p)
+    p.set_defaults(func=_run("tracker.commands.ack"))
+
+    p = sub.add_parser("verify", help="check the history's hash chain",
+                       description="Recompute the history's hash chain and SQLite's integrity check. Exit 0 "
+                                   "when intact, 1 otherwise (naming the first revision that does not match).")
+    _add_path(p)
+    _add_db(p)
+    p.set_defaults(func=_run("tracker.commands.verify"))
     return parser
 
 

@@ -39,12 +39,13 @@ class SiteResult:
                      + ([self.supply_check.status] if self.supply_check else []))
 
 
-def evaluate_site(site: Site, previous: SiteResult | None = None) -> SiteResult:
+def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[str] | None = None) -> SiteResult:
     """Check every circuit and board of `site`.
 
-    With `previous` (the result for an earlier state of the same site), a circuit whose own data,
-    board conditions and fed demand are all unchanged keeps its earlier results: its checks are
-    pure functions of exactly those inputs. The result equals a fresh evaluation.
+    Incremental use: with `previous` (the result for an earlier state of the same site) and
+    `recheck` (the refs of the circuits a change can affect, found from the graph by
+    `tracker.tracking.impact`), every other circuit keeps its earlier results unchanged. Board
+    demand and the conditions at each board are always recomputed (they are sums over a site).
     """
     sup = supply_context(site.supply, site.premises == "domestic")
     u0 = sup.u0_v
@@ -72,7 +73,7 @@ def evaluate_site(site: Site, previous: SiteResult | None = None) -> SiteResult:
             fed = demand_of(c.feeds).demand_a if c.feeds else None
             cref = f"{site.id}/{c.board}/{c.id}"
             prior = old.get(cref)
-            if prior is not None and prior.circuit == c and prior.ctx == ctx and prior.fed_demand_a == fed:
+            if prior is not None and recheck is not None and cref not in recheck:
                 result, facts = prior, None
             else:
                 result, facts = circuit_checks.evaluate(c, ctx, fed)

@@ -212,11 +212,22 @@ def _broken_ids(doc: dict, bad: set[tuple]) -> set:
 def load_site(folder: Path, rel_folder: str, root: Path, cache: dict | None = None) -> SiteLoad:
     files, warnings = site_files(folder, root)
     results = [read_file(path, _rel(path, root), cache) for path in files]
+    return assemble_site(folder.resolve().name, rel_folder, results, warnings)
+
+
+def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
+                  warnings: list | None = None) -> SiteLoad:
+    """A site from its files' results (site.yaml first): complete and valid, or its errors."""
+    warnings = list(warnings or [])
     errors: list[InputError] = []
     for r in results:
         errors.extend(r.errors)
         warnings.extend(r.warnings)
     hashes = {r.rel: r.sha256 for r in results}
+    if not results or Path(results[0].rel).name != SITE_FILE:
+        where = f"{rel_folder}/{SITE_FILE}" if rel_folder else SITE_FILE
+        errors.append(InputError(where, 1, 1, f"{SITE_FILE} is missing: the folder's other files are not read"))
+        return SiteLoad(rel_folder, None, hashes, sort_problems(errors), sort_problems(warnings))
     if any(r.doc is None for r in results):  # unreadable or unparsable: nothing more to check
         return SiteLoad(rel_folder, None, hashes, sort_problems(errors), sort_problems(warnings))
 
@@ -230,7 +241,7 @@ def load_site(folder: Path, rel_folder: str, root: Path, cache: dict | None = No
     if main.supply is None and "supply" not in broken:
         errors.append(InputError(main.rel, 1, 1, f"{SITE_FILE} needs a 'supply' section (system, ze_ohm, ...)"))
     meta = main.site_meta or {}
-    site_id = meta.get("id") or (folder.resolve().name if rel_folder == "" else rel_folder)
+    site_id = meta.get("id") or (folder_name if rel_folder == "" else rel_folder)
     if not SITE_ID.match(site_id):
         errors.append(InputError(main.rel, 1, 1, f"the folder name '{site_id}' is not a valid site id "
                                                  "(lower-case letters, digits, '.', '_', '-'); give site.id"))

@@ -1,0 +1,90 @@
+"""Shared by the commands: opening the history, finding a site, printing events."""
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+from tracker.cli import EXIT_INPUT
+from tracker.history import History, HistoryError, default_db_path
+from tracker.loading.estate import SITE_FILE, EstateError, site_folders
+
+
+class CommandError(Exception):
+    """A clear, one-line reason to stop with exit code 2."""
+
+
+def db_path(args) -> Path:
+    return Path(args.db) if getattr(args, "db", None) else default_db_path(Path(args.path))
+
+
+def open_history(args, create: bool = True) -> History:
+    try:
+        return History.open(db_path(args), create=create)
+    except HistoryError as exc:
+        raise CommandError(str(exc)) from None
+
+
+def check_root(path: str) -> Path:
+    root = Path(path)
+    try:
+        site_folders(root)
+    except EstateError as exc:
+        raise CommandError(str(exc)) from None
+    return root
+
+
+def folder_of_site(root: Path, site_id: str) -> str:
+    """The folder (relative; '' for a single site) of the site with this id."""
+    single, folders, _ = site_folders(root)
+    if single:
+        return ""
+    import yaml
+    by_name = {rel: folder for folder, rel in folders}
+    if site_id in by_name:
+        order = [site_id] + [r for r in by_name if r != site_id]
+    else:
+        order = list(by_name)
+    for rel in order:
+        try:
+            doc = yaml.load((by_name[rel] / SITE_FILE).read_bytes(), Loader=yaml.CSafeLoader)
+        except (OSError, yaml.YAMLError):
+            continue
+        declared = (doc.get("site") or {}).get("id") if isinstance(doc, dict) and isinstance(doc.get("site"), dict) else None
+        if (declared or rel) == site_id:
+            return rel
+    raise CommandError(f"no site '{site_id}' in {root}")
+
+
+def fail(exc: Exception) -> int:
+    print(f"izwatch: {exc}", file=sys.stderr)
+    return EXIT_INPUT
+
+
+def _fmt(value, unit) -> str:
+    if value is None:
+        return "—"
+    digits = {"ohm": 3}.get(unit, 2)
+    return f"{value:.{digits}f} {unit}"
+
+
+def event_line(e: dict, outcome, recorded, as_json: bool) -> str:
+    """One printed line for one event (watch, replace, startup)."""
+    if as_json:
+        doc = {"event": e["transition"], "ref": e["ref"], "check": e.get("check"), "transition": e["transition"],
+               "value": e.get("value"), "limit": e.get("limit"), "unit": e.get("unit"),
+               "compare": e.get("compare"), "detail": e.get("detail"), "file": outcome.file, "revision": recorded.id if recorded else None,
+               "at": recorded.at if recorded else None, "author": recorded.author if recorded else None,
+               "source": recorded.source if recorded else None}
+        if e["transition"] == "input-error" and outcome.errors:
+            first = outcome.errors[0]
+            doc.update(line=first.line, col=first.col, message=first.message,
+                       errors=[x.as_json() for x in outcome.errors])
+        return json.dumps(doc, ensure_ascii=False)
+    who = f" by {recorded.author}" if recorded else ""
+    if e["transition"] == "input-error":
+        return f"INPUT ERROR  {e['detail']}  (last good state kept; {outcome.file}{who})"
+    mark = {"newly-failing": "NEWLY FAILING", "cleared": "cleared", "worse": "WORSE"}[e["transition"]]
+    need = {"<=": "at most", ">=": "at least"}.get(e.get("compare"), "limit")
+    return (f"{mark:<13} {e['ref']}  {e['check']}: {_fmt(e.get('value'), e.get('unit'))}, needs {need} "
+            f"{_fmt(e.get('limit'), e.get('unit'))}  ({outcome.file}{who})")

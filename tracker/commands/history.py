@@ -1,0 +1,61 @@
+"""`izwatch history PATH [--ref REF] [--since DATE] [--json] [--db FILE]`."""
+from __future__ import annotations
+
+import json
+import re
+
+from tracker.cli import EXIT_OK
+from tracker.commands.common import CommandError, check_root, db_path, fail, open_history
+from tracker.history import query
+
+DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
+
+
+def _show(v) -> str:
+    if v is None:
+        return "(none)"
+    if isinstance(v, float):
+        return f"{v:g}"
+    return str(v)
+
+
+def render(revisions: list[dict]) -> str:
+    lines = []
+    for r in revisions:
+        what = r["file"] or (f"acknowledgement of {r['ack']['ref']}" if r.get("ack") else "")
+        note = f" — {r['note']}" if r["note"] else ""
+        lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {r['author']}{note}")
+        for c in r["changes"]:
+            if c["change"] == "modified":
+                lines.append(f"    {c['ref']} {c['field']} {_show(c['old'])} → {_show(c['new'])}")
+            else:
+                lines.append(f"    {c['ref']} {c['change']}")
+        for e in r["events"]:
+            if e["transition"] == "input-error":
+                lines.append(f"    ! input error: {e['detail']}")
+            else:
+                lines.append(f"    ! {e['ref']} {e['check']} {e['transition']}")
+        if r.get("ack"):
+            lines.append(f"    acknowledged: {r['ack']['ref']} ({', '.join(r['ack']['checks'])})")
+    return "\n".join(lines) if lines else "no revisions recorded"
+
+
+def run(args) -> int:
+    try:
+        check_root(args.path)
+        if args.since and not DATE.match(args.since):
+            raise CommandError(f"--since {args.since!r}: give a date as YYYY-MM-DD (or YYYY-MM-DDTHH:MM)")
+        if not db_path(args).exists():
+            print("[]" if args.json else "no history recorded yet")
+            return EXIT_OK
+        history = open_history(args, create=False)
+    except CommandError as exc:
+        return fail(exc)
+    since = args.since.replace(" ", "T") if args.since else None
+    revs = query.revisions(history, ref=args.ref, since=since)
+    history.close()
+    if args.json:
+        print(json.dumps(revs, indent=2, ensure_ascii=False))
+    else:
+        print(render(revs))
+    return EXIT_OK

@@ -1,0 +1,72 @@
+"""`izwatch watch PATH [--db FILE] [--json]`."""
+from __future__ import annotations
+
+import json
+import signal
+import sys
+import threading
+
+from tracker.cli import EXIT_OK
+from tracker.commands.common import CommandError, check_root, db_path, event_line, fail, open_history
+from tracker.tracking.authors import Authors
+from tracker.watcher import Watcher
+
+
+def _print(line: str) -> None:
+    print(line, flush=True)
+
+
+def emit_updates(updates, as_json: bool, verbose: bool = False) -> None:
+    for u in updates:
+        o, rec = u.outcome, u.recorded
+        if o.first_record and o.valid:
+            continue   # the first record lists no events: nothing changed yet (the ready line counts them)
+        if verbose and not as_json:
+            changes = "; ".join(str(c) for c in o.changes[:6]) + (" …" if len(o.changes) > 6 else "")
+            tag = "already recorded" if rec.duplicate else f"revision {rec.id}"
+            _print(f"· {o.file}: {tag} ({u.source}, by {rec.author}) {changes}")
+        for e in o.events:
+            _print(event_line(e, o, rec, as_json))
+
+
+def run(args) -> int:
+    try:
+        root = check_root(args.path)
+        history = open_history(args)
+    except CommandError as exc:
+        return fail(exc)
+    watcher = Watcher(root, history, Authors(root))
+    stop = threading.Event()
+
+    def on_signal(signum, frame):
+        stop.set()
+
+    signal.signal(signal.SIGINT, on_signal)
+    signal.signal(signal.SIGTERM, on_signal)
+    try:
+        updates = watcher.start()
+        emit_updates(updates, args.json, args.verbose)
+        state = watcher.state
+        n_sites = len([s for s in state.sites.values() if s.site is not None])
+        n_circuits = sum(len(s.site.circuits) for s in state.sites.values() if s.site is not None)
+        for rel, errs in sorted(state.errors.items()):
+            for e in errs:
+                print(e, file=sys.stderr)
+        failing = sum(1 for sr in state.site_results() for r in sr.circuits.values() if r.status == "fail")
+        first = bool(updates) and all(u.outcome.first_record for u in updates)
+        if args.json:
+            _print(json.dumps({"event": "ready", "sites": n_sites, "circuits": n_circuits,
+                               "failing_circuits": failing, "first_record": first,
+                               "input_errors": sum(len(v) for v in state.errors.values()),
+                               "db": str(db_path(args)), "revisions": history.count()}))
+        else:
+            what = "first record made" if first else f"{history.count()} revisions"
+            _print(f"izwatch: watching {n_sites} sites, {n_circuits} circuits ({failing} failing) in {root} "
+                   f"(history {db_path(args)}: {what}) — ready; Ctrl-C stops")
+        watcher.run(lambda u: emit_updates([u], args.json, args.verbose), stop)
+    finally:
+        watcher.stop()
+        history.close()
+    if not args.json:
+        _print("izwatch: stopped")
+    return EXIT_OK

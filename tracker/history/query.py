@@ -1,0 +1,96 @@
+"""Reading the history back: revisions with their changes and events, acknowledgements."""
+from __future__ import annotations
+
+import json
+
+from tracker.history.store import History
+
+
+def _matches(ref: str, prefix: str) -> bool:
+    return ref == prefix or ref.startswith(prefix + "/")
+
+
+def revisions(history: History, ref: str | None = None, since: str | None = None,
+              limit: int | None = None, newest_first: bool = False) -> list[dict]:
+    """Revisions as dicts (SPEC §4 history shape plus id, source, file, hash...)."""
+    db = history.db
+    where, args = [], []
+    if since:
+        where.append("at >= ?")
+        args.append(since)
+    if ref:
+        where.append("(id IN (SELECT revision_id FROM changes WHERE ref = ? OR ref LIKE ? ESCAPE '\\') "
+                     "OR id IN (SELECT revision_id FROM events WHERE ref = ? OR ref LIKE ? ESCAPE '\\') "
+                     "OR id IN (SELECT revision_id FROM acks WHERE ref = ? OR ref LIKE ? ESCAPE '\\') "
+                     "OR id IN (SELECT revision_id FROM events WHERE transition = 'input-error' AND ref = ?))")
+        like = ref.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "/%"
+        args += [ref, like, ref, like, ref, like, ref.split("/")[0]]
+    sql = "SELECT id, at, source, file, site, content_hash, valid, author, note, hash FROM revisions"
+    if where:
+        sql += " WHERE " + " AND ".join(where)
+    sql += " ORDER BY id" + (" DESC" if newest_first else "")
+    if limit:
+        sql += f" LIMIT {int(limit)}"
+    rows = db.execute(sql, args).fetchall()
+    if not rows:
+        return []
+    ids = [r[0] for r in rows]
+    marks = ",".join("?" * len(ids))
+    changes: dict[int, list] = {}
+    for rid, ref_, kind, fld, old, new in db.execute(
+            f"SELECT revision_id, ref, change, field, old, new FROM changes WHERE revision_id IN ({marks}) "
+            "ORDER BY revision_id, seq", ids):
+        changes.setdefault(rid, []).append({"ref": ref_, "field": fld, "old": _load(old), "new": _load(new),
+                                            "change": kind})
+    events: dict[int, list] = {}
+    for rid, ref_, check, transition, value, limit_v, unit, detail in db.execute(
+            f"SELECT revision_id, ref, check_id, transition, value, limit_value, unit, detail FROM events "
+            f"WHERE revision_id IN ({marks}) ORDER BY revision_id, seq", ids):
+        events.setdefault(rid, []).append({"ref": ref_, "check": check, "transition": transition, "value": value,
+                                           "limit": limit_v, "unit": unit, "detail": detail})
+    acks = {rid: {"ref": r, "checks": json.loads(c)} for rid, r, c in
+            db.execute(f"SELECT revision_id, ref, checks FROM acks WHERE revision_id IN ({marks})", ids)}
+    out = []
+    for rid, at, source, file, site, chash, valid, author, note, hsh in rows:
+        ch, ev = changes.get(rid, []), events.get(rid, [])
+        if ref:
+            ch = [c for c in ch if _matches(c["ref"], ref)]
+            ev = [e for e in ev if _matches(e["ref"], ref) or (e["transition"] == "input-error" and _matches(ref, e["ref"]))]
+        entry = {"id": rid, "at": at, "author": author, "note": note, "source": source, "file": file, "site": site,
+                 "content_hash": chash, "valid": bool(valid), "hash": hsh, "changes": ch, "events": ev}
+        if rid in acks:
+            entry["ack"] = acks[rid]
+        out.append(entry)
+    return out
+
+
+def _load(text):
+    return None if text is None else json.loads(text)
+
+
+def latest_acks(history: History) -> dict[str, dict]:
+    """ref -> its latest acknowledgement {revision, at, author, note, checks}."""
+    out = {}
+    for rid, ref, checks, at, author, note in history.db.execute(
+            "SELECT a.revision_id, a.ref, a.checks, r.at, r.author, r.note FROM acks a "
+            "JOIN revisions r ON r.id = a.revision_id ORDER BY a.revision_id"):
+        out[ref] = {"revision": rid, "at": at, "author": author, "note": note, "checks": json.loads(checks)}
+    return out
+
+
+def failing_since(history: History) -> dict[tuple[str, str], dict]:
+    """(ref, check) -> the revision of its latest newly-failing or worse event, with the cause."""
+    out = {}
+    for rid, ref, check, transition, at, author, note, file in history.db.execute(
+            "SELECT e.revision_id, e.ref, e.check_id, e.transition, r.at, r.author, r.note, r.file "
+            "FROM events e JOIN revisions r ON r.id = e.revision_id "
+            "WHERE e.transition IN ('newly-failing', 'worse', 'cleared') ORDER BY e.revision_id"):
+        key = (ref, check)
+        if transition == "cleared":
+            out.pop(key, None)
+        elif transition == "newly-failing" or key not in out:
+            out[key] = {"revision": rid, "at": at, "author": author, "note": note, "file": file,
+                        "transition": transition}
+        else:
+            out[key]["worse_revision"] = rid
+    return out

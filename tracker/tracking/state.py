@@ -1,0 +1,264 @@
+"""The estate as it stands, kept up to date one file change at a time.
+
+Each site file keeps its last good state: a file that does not parse, or a change that leaves
+its site inconsistent, is reported (an input error) while the site stays as it last was. A file
+that loads is diffed against the site's last good state at element level; the graph gives the
+circuits the change can affect; only those are re-checked; the new results are compared with the
+old ones to find the events.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path, PurePosixPath
+
+import networkx as nx
+
+from tracker import graph as G
+from tracker.checks.site import SiteResult, evaluate_site
+from tracker.loading.errors import InputError
+from tracker.loading.estate import (SITE_FILE, STATE_DIR, EstateError, FileResult, _read_text, assemble_site,
+                                    sha256_hex, site_folders)
+from tracker.model import Site
+from tracker.tracking import impact
+from tracker.tracking.diff import ADDED, REMOVED, Change, diff_file, elements
+from tracker.tracking.transitions import INPUT_ERROR, compare
+
+
+@dataclass
+class SiteState:
+    folder: str
+    site: Site | None = None
+    result: SiteResult | None = None
+
+
+@dataclass
+class FileOutcome:
+    """What one change of one file did."""
+
+    file: str
+    folder: str
+    site_id: str | None
+    content: bytes | None          # None: the file was deleted
+    content_hash: str | None
+    valid: bool
+    errors: list[InputError] = field(default_factory=list)
+    changes: list[Change] = field(default_factory=list)
+    events: list[dict] = field(default_factory=list)
+    results: list[tuple] = field(default_factory=list)
+    rechecked: int = 0             # circuits whose checks were re-run
+    first_record: bool = False     # the first record of the file (nothing before it to compare with)
+
+
+def _order(results: list[FileResult]) -> list[FileResult]:
+    return sorted(results, key=lambda r: (PurePosixPath(r.rel).name != SITE_FILE, r.rel))
+
+
+class EstateState:
+    def __init__(self, root: Path | str, single_site: bool | None = None):
+        self.root = Path(root)
+        if single_site is None:
+            single_site = (self.root / SITE_FILE).is_file()
+        self.single_site = single_site
+        self.sites: dict[str, SiteState] = {}        # by folder
+        self.good: dict[str, dict[str, FileResult]] = {}   # folder -> rel -> last good file result
+        self.hashes: dict[str, str] = {}             # rel -> sha256 of the content last seen
+        self.graph = nx.DiGraph()
+        self.errors: dict[str, list[InputError]] = {}   # rel -> open input errors
+
+    # -- where files belong ----------------------------------------------------------------
+
+    def folder_of(self, rel: str) -> str | None:
+        """The site folder of a site file (relative path), or None if it is not a site file."""
+        p = PurePosixPath(rel)
+        if p.suffix != ".yaml" or p.name.startswith("."):
+            return None
+        parts = p.parts
+        if self.single_site:
+            return "" if len(parts) == 1 else None
+        if len(parts) != 2 or parts[0].startswith(".") or parts[0] == STATE_DIR:
+            return None
+        return parts[0]
+
+    def folder_name(self, folder: str) -> str:
+        return self.root.resolve().name if folder == "" else folder
+
+    def site_results(self) -> list[SiteResult]:
+        return [s.result for s in self.sites.values() if s.result is not None]
+
+    def site_by_id(self, site_id: str) -> SiteState | None:
+        for s in self.sites.values():
+            if s.site is not None and s.site.id == site_id:
+                return s
+        return None
+
+    def disk_files(self) -> dict[str, Path]:
+        """Every site file on disk now: rel -> path."""
+        out = {}
+        try:
+            single, folders, _ = site_folders(self.root)
+        except EstateError:
+            return out
+        for folder, _rel in folders:
+            for path in sorted(folder.glob("*.yaml")):
+                if path.is_file() and not path.name.startswith("."):
+                    rel = path.relative_to(self.root).as_posix()
+                    if self.folder_of(rel) is not None:
+                        out[rel] = path
+        return out
+
+    # -- seeding without outcomes ----------------------------------------------------------
+
+    def seed(self, contents: dict[str, bytes], last_good=None) -> None:
+        """Set the state from file contents (rel -> bytes) without recording anything.
+
+        `last_good(rel)` may supply the last good bytes of a file that does not load now.
+        """
+        by_folder: dict[str, dict[str, FileResult]] = {}
+        for rel in sorted(contents):
+            folder = self.folder_of(rel)
+            if folder is None:
+                continue
+            raw = contents[rel]
+            digest = sha256_hex(raw)
+            self.hashes[rel] = digest
+            fr = _read_text(raw, rel, digest)
+            if fr.errors:
+                self.errors[rel] = fr.errors
+                older = last_good(rel) if last_good else None
+                if older is not None:
+                    prior = _read_text(older, rel, sha256_hex(older))
+                    fr = prior if not prior.errors else None
+                else:
+                    fr = None
+            if fr is not None:
+                by_folder.setdefault(folder, {})[rel] = fr
+            else:
+                by_folder.setdefault(folder, {})
+        for folder, files in by_folder.items():
+            self.good[folder] = files
+            ss = self.sites.setdefault(folder, SiteState(folder))
+            sl = assemble_site(self.folder_name(folder), folder, _order(list(files.values())))
+            if sl.site is None:
+                for e in sl.errors:
+                    self.errors.setdefault(e.file, []).append(e)
+                continue
+            if self._id_taken(sl.site.id, folder):
+                self.errors.setdefault(sl.site.files[0], []).append(self._id_error(sl.site))
+                continue
+            ss.site = sl.site
+            ss.result = evaluate_site(sl.site)
+            G.add_site(self.graph, sl.site)
+
+    def _id_taken(self, site_id: str, folder: str) -> bool:
+        other = self.site_by_id(site_id)
+        return other is not None and other.folder != folder
+
+    def _id_error(self, site: Site) -> InputError:
+        other = self.site_by_id(site.id)
+        return InputError(site.files[0], 1, 1, f"site id '{site.id}' is already used by "
+                                               f"{other.site.files[0]}; site ids must be unique")
+
+    # -- applying changes -----------------------------------------------------------------
+
+    def apply_disk(self, rel: str) -> FileOutcome | None:
+        """Re-read one file from disk (or notice it is gone) and apply the change."""
+        path = self.root / rel
+        try:
+            raw = path.read_bytes() if path.is_file() else None
+        except OSError as exc:
+            if rel not in self.hashes:
+                return None
+            err = InputError(rel, 1, 1, f"cannot be read ({exc.strerror})")
+            return self._input_error(rel, self.folder_of(rel), None, None, [err])
+        return self.apply_bytes(rel, raw)
+
+    def apply_bytes(self, rel: str, raw: bytes | None) -> FileOutcome | None:
+        """Apply new content of one file (None: deleted). None when nothing changed."""
+        folder = self.folder_of(rel)
+        if folder is None:
+            return None
+        digest = sha256_hex(raw) if raw is not None else None
+        if self.hashes.get(rel) == digest:
+            return None
+        if digest is None:
+            self.hashes.pop(rel, None)
+        else:
+            self.hashes[rel] = digest
+        fr = _read_text(raw, rel, digest) if raw is not None else None
+        if fr is not None and fr.errors:
+            return self._input_error(rel, folder, raw, digest, fr.errors)
+        self.errors.pop(rel, None)
+        good = dict(self.good.get(folder, {}))
+        if fr is None:
+            good.pop(rel, None)
+        else:
+            good[rel] = fr
+        ss = self.sites.get(folder) or SiteState(folder)
+        old_site, old_result = ss.site, ss.result
+        if not good:
+            self.good.pop(folder, None)
+            return self._remove_site(rel, folder, ss)
+        sl = assemble_site(self.folder_name(folder), folder, _order(list(good.values())))
+        if sl.site is not None and self._id_taken(sl.site.id, folder):
+            sl.errors, sl.site = [self._id_error(sl.site)], None
+        if sl.site is None:
+            if fr is None:   # a deleted file is gone whatever else is wrong
+                self.good[folder] = good
+            out = self._input_error(rel, folder, raw, digest, sl.errors)
+            return out
+        new_site = sl.site
+        self.good[folder] = good
+        if old_site is not None and old_site.id != new_site.id:
+            changes = self._whole_site_changes(old_site, None) + self._whole_site_changes(None, new_site)
+            old_site, old_result = None, None
+        elif old_site is None:
+            changes = self._whole_site_changes(None, new_site)
+        else:
+            changes = diff_file(old_site, new_site, rel)
+        recheck = None
+        if old_site is not None:
+            g_old = self._site_graph_copy(old_site.id)
+            G.remove_site(self.graph, old_site.id)
+            G.add_site(self.graph, new_site)
+            recheck = impact.affected_circuits(changes, new_site.id, g_old, self.graph)
+        else:
+            if ss.site is not None:
+                G.remove_site(self.graph, ss.site.id)
+            G.add_site(self.graph, new_site)
+        new_result = evaluate_site(new_site, old_result, recheck)
+        events, results = compare(old_result, new_result)
+        ss.site, ss.result = new_site, new_result
+        self.sites[folder] = ss
+        rechecked = len(new_site.circuits) if recheck is None else len(recheck)
+        return FileOutcome(rel, folder, new_site.id, raw, digest, True, [], changes, events, results, rechecked)
+
+    def _site_graph_copy(self, site_id: str) -> nx.DiGraph:
+        nodes = {site_id} | nx.descendants(self.graph, site_id) if site_id in self.graph else set()
+        return self.graph.subgraph(nodes).copy()
+
+    def _whole_site_changes(self, old: Site | None, new: Site | None) -> list[Change]:
+        site = old or new
+        out = []
+        for f in site.files:
+            for ref in elements(site, f):
+                out.append(Change(ref, REMOVED if old is not None else ADDED))
+        return out
+
+    def _remove_site(self, rel: str, folder: str, ss: SiteState) -> FileOutcome:
+        old_site, old_result = ss.site, ss.result
+        changes = self._whole_site_changes(old_site, None) if old_site is not None else []
+        events, results = compare(old_result, None)
+        if old_site is not None:
+            G.remove_site(self.graph, old_site.id)
+        self.sites.pop(folder, None)
+        site_id = old_site.id if old_site is not None else None
+        return FileOutcome(rel, folder, site_id, None, None, True, [], changes, events, results)
+
+    def _input_error(self, rel: str, folder: str | None, raw, digest, errors: list[InputError]) -> FileOutcome:
+        self.errors[rel] = errors
+        ss = self.sites.get(folder) if folder is not None else None
+        site_id = ss.site.id if ss is not None and ss.site is not None else (
+            self.folder_name(folder) if folder is not None else None)
+        text = "; ".join(str(e) for e in errors[:5]) + (f" (and {len(errors) - 5} more)" if len(errors) > 5 else "")
+        event = {"ref": site_id or rel, "check": None, "transition": INPUT_ERROR, "detail": text}
+        return FileOutcome(rel, folder or "", site_id, raw, digest, False, errors, [], [event], [])

@@ -1,0 +1,170 @@
+"""Watching an estate: every saved change is re-checked and recorded.
+
+Editors save in many ways (write in place, temp file + rename, delete and re-create, several
+writes in a row), so events are only a hint: each touched path waits until it has been quiet for
+the debounce interval, then its content is re-read and hashed, and only a real change of content
+goes on. A created or moved directory is scanned (a new site folder); a removed one re-checks
+every file known under it.
+"""
+from __future__ import annotations
+
+import threading
+import time
+from dataclasses import dataclass
+from pathlib import Path
+
+from watchdog.events import FileSystemEvent, FileSystemEventHandler
+from watchdog.observers import Observer
+
+from tracker.history import History
+from tracker.history.store import Recorded
+from tracker.loading.estate import STATE_DIR
+from tracker.tracking.authors import Authors
+from tracker.tracking.startup import start, to_revision
+from tracker.tracking.state import EstateState, FileOutcome
+
+DEBOUNCE_S = 0.15
+
+
+@dataclass
+class Update:
+    outcome: FileOutcome
+    recorded: Recorded
+    source: str
+
+
+class _Handler(FileSystemEventHandler):
+    def __init__(self, watcher: "Watcher"):
+        self.w = watcher
+
+    def on_any_event(self, event: FileSystemEvent) -> None:
+        if event.event_type in ("opened", "closed_no_write"):
+            return
+        paths = [event.src_path]
+        dest = getattr(event, "dest_path", "")
+        if dest:
+            paths.append(dest)
+        for p in paths:
+            self.w.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory)
+
+
+class Watcher:
+    """Keeps an EstateState and the history in step with the files of an estate."""
+
+    def __init__(self, root: Path, history: History, authors: Authors | None = None,
+                 debounce_s: float = DEBOUNCE_S):
+        self.root = Path(root)
+        self.abs_root = self.root.resolve()
+        self.history = history
+        self.authors = authors or Authors(self.root)
+        self.debounce_s = debounce_s
+        self.state: EstateState | None = None
+        self._pending: dict[str, float] = {}
+        self._cond = threading.Condition()
+        self._stop = threading.Event()
+        self._observer = None
+
+    # -- start ----------------------------------------------------------------------------
+
+    def start(self) -> list[Update]:
+        """Reconcile with the history (recording offline changes), then start watching.
+
+        Watching starts before the reconciliation reads the files, so nothing saved meanwhile is
+        missed (a file read twice is harmless: unchanged content is ignored).
+        """
+        self._observer = Observer()
+        self._observer.schedule(_Handler(self), str(self.abs_root), recursive=True)
+        self._observer.daemon = True
+        self._observer.start()
+        self.state, done = start(self.root, self.history, self.authors)
+        return [Update(o, r, "startup") for o, r in done]
+
+    def stop(self) -> None:
+        self._stop.set()
+        with self._cond:
+            self._cond.notify_all()
+        if self._observer is not None:
+            self._observer.stop()
+            self._observer.join(timeout=5)
+
+    # -- events ---------------------------------------------------------------------------
+
+    def _rel(self, path: Path) -> str | None:
+        try:
+            rel = path.relative_to(self.abs_root).as_posix()
+        except ValueError:
+            return None
+        if rel == "." or rel.split("/")[0] == STATE_DIR:
+            return None
+        return rel
+
+    def touch(self, path: Path, is_directory: bool) -> None:
+        rel = self._rel(path)
+        if rel is None:
+            return
+        rels = []
+        if is_directory:
+            d = self.root / rel
+            if d.is_dir():
+                rels += [p.relative_to(self.root).as_posix() for p in d.glob("*.yaml")]
+            if self.state is not None:
+                rels += [r for r in list(self.state.hashes) if r.startswith(rel + "/")]
+        elif rel.endswith(".yaml"):
+            rels.append(rel)
+        if not rels:
+            return
+        now = time.monotonic()
+        with self._cond:
+            for r in rels:
+                self._pending[r] = now
+            self._cond.notify_all()
+
+    def _due(self) -> tuple[list[str], float | None]:
+        now = time.monotonic()
+        due, wait = [], None
+        for rel, t in self._pending.items():
+            left = t + self.debounce_s - now
+            if left <= 0:
+                due.append(rel)
+            else:
+                wait = left if wait is None else min(wait, left)
+        for rel in due:
+            del self._pending[rel]
+        return sorted(due), wait
+
+    def wait_and_process(self, timeout: float | None = None) -> list[Update]:
+        """Block until some path has settled (or `timeout`), then process what is due."""
+        deadline = None if timeout is None else time.monotonic() + timeout
+        with self._cond:
+            while not self._stop.is_set():
+                due, wait = self._due()
+                if due:
+                    break
+                remaining = None if deadline is None else deadline - time.monotonic()
+                if remaining is not None and remaining <= 0:
+                    return []
+                self._cond.wait(min(x for x in (wait, remaining, 1.0) if x is not None))
+            else:
+                return []
+        return self.process(due)
+
+    def process(self, rels: list[str]) -> list[Update]:
+        updates = []
+        for rel in rels:
+            outcome = self.state.apply_disk(rel)
+            if outcome is None:
+                continue
+            rec = self.history.record(to_revision(outcome, "watch", self.authors(rel)))
+            updates.append(Update(outcome, rec, rec.source if rec.duplicate else "watch"))
+        return updates
+
+    def run(self, on_update, stop: threading.Event | None = None) -> None:
+        """Process changes until stopped, handing each Update to `on_update`."""
+        stop = stop or self._stop
+        while not stop.is_set() and not self._stop.is_set():
+            for u in self.wait_and_process(timeout=0.5):
+                on_update(u)
+
+    def pending(self) -> int:
+        with self._cond:
+            return len(self._pending)
