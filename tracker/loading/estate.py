@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 import os
 import re
+import zlib
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -28,12 +29,17 @@ class EstateError(Exception):
 
 @dataclass(slots=True)
 class FileResult:
-    """One file read and checked on its own."""
+    """One file read and checked on its own.
+
+    Only what assembling a site needs is kept once the file is built: the built elements, which
+    top-level keys it has, and its text compressed (to locate a problem found later, when the file
+    is assembled with others).
+    """
 
     rel: str
     sha256: str | None
-    text: str | None = None
-    doc: dict | None = None
+    packed: bytes | None = None     # the text, zlib-compressed
+    keys: frozenset | None = None   # top-level keys; None: the file did not parse
     supply: object = None
     site_meta: dict | None = None
     boards: list = field(default_factory=list)
@@ -41,6 +47,14 @@ class FileResult:
     errors: list = field(default_factory=list)    # InputError
     warnings: list = field(default_factory=list)  # LoadWarning
     broken: set = field(default_factory=set)      # ids of elements not built (schema errors)
+
+    @property
+    def text(self) -> str | None:
+        return None if self.packed is None else zlib.decompress(self.packed).decode("utf-8")
+
+    @property
+    def parsed(self) -> bool:
+        return self.keys is not None
 
 
 @dataclass(slots=True)
@@ -145,7 +159,9 @@ def read_file(path: Path, rel: str, cache: dict | None = None) -> FileResult:
 
 def _read_text(raw: bytes, rel: str, digest: str) -> FileResult:
     text, errors = yamlread.decode(raw, rel)
-    result = FileResult(rel, digest, text=text)
+    result = FileResult(rel, digest)
+    if text is not None:
+        result.packed = zlib.compress(text.encode("utf-8"), 1)
     if errors:
         result.errors = errors
         return result
@@ -153,7 +169,7 @@ def _read_text(raw: bytes, rel: str, digest: str) -> FileResult:
     if errors:
         result.errors = errors
         return result
-    result.doc = doc
+    result.keys = frozenset(k for k in doc if isinstance(k, str))
     locator = None
     bad: set[tuple] = set()
     if not schema_check.is_valid(doc):
@@ -228,14 +244,14 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
         where = f"{rel_folder}/{SITE_FILE}" if rel_folder else SITE_FILE
         errors.append(InputError(where, 1, 1, f"{SITE_FILE} is missing: the folder's other files are not read"))
         return SiteLoad(rel_folder, None, hashes, sort_problems(errors), sort_problems(warnings))
-    if any(r.doc is None for r in results):  # unreadable or unparsable: nothing more to check
+    if not all(r.parsed for r in results):  # unreadable or unparsable: nothing more to check
         return SiteLoad(rel_folder, None, hashes, sort_problems(errors), sort_problems(warnings))
 
     main = results[0]
     broken = set().union(*(r.broken for r in results))
     for r in results[1:]:
         for key in ("site", "supply"):
-            if key in r.doc:
+            if key in r.keys:
                 errors.append(InputError(r.rel, *yamlread.Locator(r.text).locate((key,)),
                                          f"'{key}' belongs in {SITE_FILE}, not in a board file", (key,)))
     if main.supply is None and "supply" not in broken:

@@ -24,13 +24,87 @@ class _Refused(Exception):
         self.message, self.line, self.col = message, line, col
 
 
+_TAG = "tag:yaml.org,2002:"
+_STR, _INT, _FLOAT, _BOOL, _NULL = (_TAG + t for t in ("str", "int", "float", "bool", "null"))
+_MAP, _SEQ, _MERGE = _TAG + "map", _TAG + "seq", _TAG + "merge"
+
+
+class _Unusual(Exception):
+    """A node the fast path does not build (merge keys, explicit tags): use the full constructor."""
+
+
 class _Loader(yaml.CSafeLoader):
-    """Safe loader that also refuses duplicate keys in one mapping."""
+    """libyaml's safe loader, faster, and refusing duplicate keys in one mapping.
+
+    Site files repeat the same keys and many of the same values thousands of times, so the
+    implicit-tag resolution of plain scalars is cached; documents of plain maps, lists and
+    scalars are built by a direct walk of the composed nodes (the result is identical to
+    PyYAML's safe constructor, tests/test_loading_fast.py holds it to that). Anything else —
+    merge keys, explicit tags — goes through the standard safe constructor, so an unsafe tag
+    is still refused.
+    """
+
+    _resolved: dict = {}
+
+    def resolve(self, kind, value, implicit):
+        if kind is yaml.ScalarNode and implicit[0]:
+            tag = self._resolved.get(value)
+            if tag is None:
+                tag = super().resolve(kind, value, implicit)
+                if len(self._resolved) < 200_000:
+                    self._resolved[value] = tag
+            return tag
+        return super().resolve(kind, value, implicit)
+
+    def construct_document(self, node):
+        try:
+            return self._build(node, {})
+        except _Unusual:
+            return super().construct_document(node)
+
+    def _build(self, node, memo: dict):
+        key = id(node)
+        if key in memo:
+            return memo[key]
+        tag = node.tag
+        if tag == _STR:
+            out = node.value
+        elif tag == _MAP:
+            out = {}
+            memo[key] = out
+            for k, v in node.value:
+                if k.tag == _MERGE or not isinstance(k, yaml.ScalarNode):
+                    raise _Unusual   # merge keys and complex keys: the standard constructor decides
+                name = self._build(k, memo)
+                if name in out:
+                    m = k.start_mark
+                    raise _Refused(f"duplicate key '{k.value}' (the later one would silently win)",
+                                   m.line + 1, m.column + 1)
+                out[name] = self._build(v, memo)
+            return out
+        elif tag == _SEQ:
+            out = []
+            memo[key] = out
+            out.extend(self._build(v, memo) for v in node.value)
+            return out
+        elif tag == _INT:
+            out = self.construct_yaml_int(node)
+        elif tag == _FLOAT:
+            out = self.construct_yaml_float(node)
+        elif tag == _BOOL:
+            out = self.construct_yaml_bool(node)
+        elif tag == _NULL:
+            out = None
+        else:
+            raise _Unusual
+        memo[key] = out
+        return out
 
     def construct_mapping(self, node, deep=False):
+        # the standard path (documents with merge keys or explicit tags) refuses duplicates too
         seen = set()
         for key_node, _ in node.value:
-            if isinstance(key_node, yaml.ScalarNode) and key_node.tag != "tag:yaml.org,2002:merge":
+            if isinstance(key_node, yaml.ScalarNode) and key_node.tag != _MERGE:
                 if key_node.value in seen:
                     m = key_node.start_mark
                     raise _Refused(f"duplicate key '{key_node.value}' (the later one would silently win)",
