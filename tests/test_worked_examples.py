@@ -204,7 +204,7 @@ class TestBreakingCapacityAndAdiabatic:
         bc = chk(r, "breaking-capacity")
         assert (bc.value, bc.limit, bc.status) == (8.5, 6.0, "fail")   # 8.5 kA > 6 kA (434.5.1)
 
-    def test_small_conductor_near_the_origin(self):
+    def test_cable_sized_on_ib_near_the_origin(self):
         _, r = result(site("larkspur-yard-4"), "larkspur-yard-4/DB1/6")
         # Zs = 0.2 + 36.2 × 3 × 1.2 / 1000 = 0.330 Ω → I = 696 A ≥ Ia 80 A of a B16 → t ≤ 0.1 s;
         # S ≥ 696 × √0.1 / 115 = 1.92 mm² > 1.0 mm² (543.1.3); the same for the line conductors (434.5.2).
@@ -215,6 +215,23 @@ class TestBreakingCapacityAndAdiabatic:
         assert chk(r, "cpc-adiabatic").status == "fail"
         assert chk(r, "line-adiabatic").limit == pytest.approx(s_min, rel=1e-4)
         assert chk(r, "line-adiabatic").status == "fail"
+        # so the exemption of 433.3.1(ii) falls: the cable must carry In 16 A, and 1.0 mm² above a
+        # ceiling (method 100) carries 13 A (Table 4D5)
+        cap = chk(r, "capacity")
+        assert (r.basis, cap.value, cap.limit, cap.status) == ("device-rating", 13, 16, "fail")
+
+    def test_overload_protection_deems_short_circuit_protection(self):
+        """435.1: with In ≤ Iz and the breaking capacity covering the PFC, the line conductors
+        are deemed protected against short-circuit — the same 1.0 mm² spur, now on a B6."""
+        s = site("larkspur-yard-4")
+        spur = next(c for c in s.circuits if c.id == "6")
+        safe = replace(spur, overload_exempt=False, device=replace(spur.device, rating_a=6.0))
+        _, r = result(replace(s, circuits=tuple(safe if c is spur else c for c in s.circuits)),
+                      "larkspur-yard-4/DB1/6")
+        line = chk(r, "line-adiabatic")
+        assert line.status == "pass" and line.limit is None and "435.1" in line.detail
+        assert chk(r, "capacity").status == "pass" and chk(r, "breaking-capacity").status == "pass"
+        assert chk(r, "cpc-adiabatic").status == "fail"    # no such rule for the cpc (543.1.3)
 
 
 class TestDemandAndRcd:

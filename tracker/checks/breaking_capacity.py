@@ -32,5 +32,5 @@ def run(f: Facts, w: dict) -> CheckResult:
     else:
         limit, limit_how = device_ka, f"{device_ka:g} kA breaking capacity of the {f.label} {device_how}"
     ok = pfc <= limit
-    detail = f"PFC {where} {'≤' if ok else '>'} {limit_how} — 434.5.1"
+    detail = f"PFC {where} {'≤' if ok else '>'} {limit_how} — 434.5.1" if f.explain else ""
     return CheckResult(ID, verdict(ok), pfc, limit, "kA", "<=", detail)

@@ -7,6 +7,8 @@ designer relied on a load that cannot overload (433.3.1(ii)), provided fault pro
 """
 from __future__ import annotations
 
+from functools import lru_cache
+
 from tracker import catalogue
 from tracker.checks import rules
 from tracker.checks.context import Facts
@@ -15,6 +17,18 @@ from tracker.engine import factors as F
 
 ID = "capacity"
 DEVICE, RING, DESIGN = "device-rating", "ring", "design-current"
+
+
+@lru_cache(maxsize=None)
+def _tables():
+    """The rating-factor tables as plain dicts, read once."""
+    ftab = catalogue.factors()
+    ambient = {int(c): {float(t): v[0] for t, v in rows.items()} for c, rows in ftab["ambient"]["table"].items()}
+    grouping = {name: {int(n): v[0] for n, v in ftab["grouping"][name].items()}
+                for name in ("bunched", "single-layer-wall")}
+    open_ended = frozenset(ftab["grouping"].get("open_ended", ()))
+    insulation = {float(k): v[0] for k, v in ftab["insulation"]["table"].items()}
+    return ambient, grouping, open_ended, insulation, ftab["insulation"]["max_csa_mm2"]
 
 
 def _status_note(value: catalogue.Value) -> str:
@@ -28,7 +42,7 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
     it = kind.rating(c.cable.csa_mm2, c.cable.method)
     if it is None:
         return None, (f"no rating held for {c.cable.csa_mm2:g} mm² {kind.kind} by method {c.cable.method}"), {}
-    ftab = catalogue.factors()
+    ambient, grouping, open_ended, insulation, insulation_max_csa = _tables()
     method_d = c.cable.method == "D"
     if method_d:
         ref = kind.ground_reference_c
@@ -37,16 +51,14 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
         ca_how = f"Ca {ca:.2f} (ground {theta:g} °C against the {ref:g} °C of the table, Table 4B2 basis)"
     else:
         theta = env.ambient_c if env.ambient_c is not None else 30.0
-        table = {float(t): v[0] for t, v in ftab["ambient"]["table"][int(kind.conductor_c)].items()}
-        ca = F.ambient_factor_bs7671(theta, kind.conductor_c, table)
+        ca = F.ambient_factor_bs7671(theta, kind.conductor_c, ambient[int(kind.conductor_c)])
         ca_how = f"Ca {ca:.2f} ({theta:g} °C, Table 4B1)"
     if ca <= 0:
         return 0.0, f"ambient {theta:g} °C is at or above the conductor limit {kind.conductor_c:g} °C", {"ca": 0.0}
     if env.grouped_with > 1 and method_d:
         return None, "grouping of buried cables (Tables 4B4/4B5) is not in the catalogue", {}
-    gtab = ftab["grouping"]
-    rows = {int(n): v[0] for n, v in gtab[env.arrangement].items()}
-    cg = F.grouping_factor(env.grouped_with, rows, env.arrangement in gtab.get("open_ended", ()))
+    rows = grouping[env.arrangement]
+    cg = F.grouping_factor(env.grouped_with, rows, env.arrangement in open_ended)
     if cg is None:
         return None, (f"{env.grouped_with} circuits {env.arrangement} is beyond Table 4C1 "
                       f"(up to {max(rows)})"), {}
@@ -55,14 +67,13 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
     how = f"It {fmt(it.value)} A{_status_note(it)} (Table for {kind.kind}, method {c.cable.method}) × {ca_how}"
     how += f" × Cg {cg:.2f} ({env.grouped_with} {env.arrangement})" if env.grouped_with > 1 else ""
     if env.insulation_mm > 0:
-        itab = ftab["insulation"]
         it_c = kind.rating(c.cable.csa_mm2, "C")
         if it_c is None:
             return None, f"no method C rating held for {c.cable.csa_mm2:g} mm² {kind.kind} (needed for insulation)", {}
-        if c.cable.csa_mm2 > itab["max_csa_mm2"]:
+        if c.cable.csa_mm2 > insulation_max_csa:
             ci, ci_how = 0.5, "Ci 0.50 (523.9: over 10 mm² surrounded by insulation)"
         else:
-            ci = F.insulation_factor(env.insulation_mm, {float(k): v[0] for k, v in itab["table"].items()})
+            ci = F.insulation_factor(env.insulation_mm, insulation)
             ci_how = f"Ci {ci:.2f} ({env.insulation_mm:g} mm surrounded, Table 52.2)"
         iz_ins = it_c.value * ca * cg * ci
         factors["ci"] = ci
@@ -118,7 +129,7 @@ def run(f: Facts, w: dict, adiabatic: tuple[CheckResult, CheckResult]) -> tuple[
     if iz is None:
         return not_assessed(ID, "A", ">=", how, limit=required), basis, None
     ok = iz >= required
-    detail = f"Iz = {how} = {iz:.2f} A {'≥' if ok else '<'} {why}{exempt_note}"
+    detail = f"Iz = {how} = {iz:.2f} A {'≥' if ok else '<'} {why}{exempt_note}" if f.explain else ""
     status = verdict(ok)
     ib_limit = iz if basis == DESIGN else None
     return CheckResult(ID, status, iz, required, "A", ">=", detail, ib_limit_a=ib_limit), basis, iz

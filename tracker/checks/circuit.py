@@ -7,6 +7,8 @@ from tracker.checks import (breaking_capacity, capacity, cpc_adiabatic, design_c
                             line_adiabatic, rcd, voltage_drop)
 from tracker.checks.context import BoardContext, Facts, build_facts
 from tracker.checks.result import CheckResult, worst
+
+_NO_WORKING: dict = {}   # shared, never written: results kept without their working
 from tracker.model import Circuit
 
 
@@ -25,6 +27,7 @@ class CircuitResult:
     working: dict
     vd_end_v: float | None      # volts dropped from the origin to the far end (sub-mains: at the fed board)
     v_per_a: float | None       # this circuit's own volts per ampere
+    vd_slack_v: float | None = None   # volts left before the voltage-drop limit (for headroom upstream)
 
     @property
     def site_id(self) -> str:
@@ -53,21 +56,35 @@ class CircuitResult:
         return min(limits) - self.ib_a if limits else None
 
 
-def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None) -> tuple[CircuitResult, Facts]:
-    f = build_facts(circuit, ctx, fed_demand_a)
+def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
+             explain: bool = True) -> tuple[CircuitResult, Facts]:
+    """Every check of the circuit; with explain=False the details are left empty (faster, for
+    searches that only need the verdicts and figures)."""
+    f = build_facts(circuit, ctx, fed_demand_a, explain)
     w: dict = {}
     dc = design_current.run(f, w)
     fl = fault_loop.run(f, w)
     cpc = cpc_adiabatic.run(f, w)
-    line = line_adiabatic.run(f, w)
-    cap, basis, iz = capacity.run(f, w, (cpc, line))
-    vd, vd_end, per_a = voltage_drop.run(f, w)
     bc = breaking_capacity.run(f, w)
+    if circuit.overload_exempt:
+        # sized on Ib: the capacity verdict rests on both adiabatic checks (433.3.1(ii))
+        line = line_adiabatic.run(f, w)
+        cap, basis, iz = capacity.run(f, w, (cpc, line))
+    else:
+        # protected against overload: 435.1 may deem the short-circuit protection (line-adiabatic)
+        cap, basis, iz = capacity.run(f, w, (cpc, None))
+        line = line_adiabatic.run(f, w, cap, bc)
+    vd, vd_end, per_a = voltage_drop.run(f, w)
     rc = rcd.run(f, w)
     checks = (dc, cap, vd, fl, cpc, line, bc, rc)
+    if not explain:
+        # verdicts and figures only: the text (and the working) are produced when a circuit is shown
+        checks = tuple(c if not c.detail else CheckResult(c.id, c.status, c.value, c.limit, c.unit, c.compare,
+                                                          "", c.ib_limit_a) for c in checks)
     result = CircuitResult(
         ref=f"{ctx.site_id}/{circuit.board}/{circuit.id}", circuit=circuit, ctx=ctx, fed_demand_a=fed_demand_a,
         checks=checks, status=worst(r.status for r in checks), ib_a=f.ib_a, in_a=f.in_a, iz_a=iz,
-        basis=basis, working=w, vd_end_v=vd_end, v_per_a=per_a,
+        basis=basis, working=w if explain else _NO_WORKING, vd_end_v=vd_end, v_per_a=per_a,
+        vd_slack_v=w.get("vd_slack_v"),
     )
     return result, f

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 from tracker import catalogue
 from tracker.checks import rules
@@ -77,14 +78,19 @@ def _min_rcd(*values):
 
 
 def device_label(device) -> str:
-    r = f"{device.rating_a:g}"
+    return _label(device.kind, device.curve, device.rating_a)
+
+
+@lru_cache(maxsize=1024)
+def _label(kind: str, curve: str | None, rating_a: float) -> str:
+    r = f"{rating_a:g}"
     return {
-        "mcb": f"{device.curve}{r} MCB",
-        "rcbo": f"{device.curve}{r} RCBO",
+        "mcb": f"{curve}{r} MCB",
+        "rcbo": f"{curve}{r} RCBO",
         "fuse-gg": f"{r} A BS 88-2 gG fuse",
         "fuse-domestic-cartridge": f"{r} A BS 88-3 fuse",
         "fuse-semi-enclosed": f"{r} A BS 3036 rewirable fuse",
-    }.get(device.kind, f"{r} A {device.kind}")
+    }.get(kind, f"{r} A {kind}")
 
 
 @dataclass(slots=True)
@@ -115,6 +121,7 @@ class Facts:
     zln_far_ohm: float | None
     zln_why: str
     t_req_s: float
+    explain: bool = True         # False: statuses and figures only, no working text (remedy trials)
 
 
 def _design_current(circuit: Circuit, u0: float, fed_demand_a: float | None) -> tuple[float | None, str]:
@@ -161,7 +168,8 @@ def _cooker_design_current(circuit: Circuit, u0: float) -> tuple[float, str]:
                 f"({connected:.2f} − {rule['full_a']:g}) A = {ib:.2f} A (common practice)")
 
 
-def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None) -> Facts:
+def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
+                explain: bool = True) -> Facts:
     sup = ctx.supply
     kind = catalogue.cable_kind(circuit.cable.kind)
     info = catalogue.device_info(circuit.device.kind)
@@ -204,7 +212,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         sockets=sockets, lighting=rules.has_kind(circuit, "lighting"), distribution=circuit.is_submain,
         rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how,
         r_line=r_line, r_cpc=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
-        zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req,
+        zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain,
     )
 
 

@@ -46,7 +46,8 @@ def run(f: Facts, w: dict) -> CheckResult:
     ok = f.cpc_mm2 >= s_min
     extra = f"; {f.cpc_how}" if f.cpc_how else ""
     working = (f"I = U0/Zs = {u0:g}/{f.zs_ohm:.3f} = {current:.0f} A, {t_how}, {k_how}: "
-               f"S ≥ √(I²t)/k = {s_min:.2f} mm² {'≤' if ok else '>'} cpc {f.cpc_mm2:g} mm² — 543.1.3{extra}")
+               f"S ≥ √(I²t)/k = {s_min:.2f} mm² {'≤' if ok else '>'} cpc {f.cpc_mm2:g} mm² — 543.1.3{extra}"
+               ) if f.explain else ""
     if not ok and not sure:
         return not_assessed(ID, "mm2", ">=", f"{working}; with only an upper bound of the disconnection time "
                                              "the cpc cannot be shown adequate or inadequate: the device's "

@@ -14,5 +14,5 @@ def run(f: Facts, w: dict) -> CheckResult:
                             limit=f.in_a)
     ok = f.ib_a <= f.in_a
     word = "≤" if ok else ">"
-    detail = f"{f.ib_how}; Ib {f.ib_a:.2f} A {word} In {f.in_a:g} A ({f.label}) — 433.1.1(i)"
+    detail = f"{f.ib_how}; Ib {f.ib_a:.2f} A {word} In {f.in_a:g} A ({f.label}) — 433.1.1(i)" if f.explain else ""
     return CheckResult(ID, verdict(ok), f.ib_a, f.in_a, "A", "<=", detail, ib_limit_a=f.in_a)

@@ -24,7 +24,7 @@ def run(f: Facts, w: dict) -> CheckResult:
         return not_assessed(ID, "ohm", "<=", f.zs_why)
     sup = f.ctx.supply
     w.update(zs_ohm=f.zs_ohm, r1_r2_ohm=f.loop_ohm, t_required_s=f.t_req_s)
-    how = _zs_how(f)
+    how = _zs_how(f) if f.explain else ""
     limit, limit_how, _ = protection.max_zs_ohm(f)
     w["max_zs_ohm"] = limit
     t_txt = f"disconnection in {f.t_req_s:g} s ({'distribution circuit' if f.distribution else 'final circuit'})"

@@ -1,17 +1,36 @@
 """`line-adiabatic`: the live conductors withstand the minimum short-circuit current at the far
 end of the circuit for the device's disconnection time, S ≥ sqrt(I² t) / k (BS 7671:2018
-434.5.2)."""
+434.5.2).
+
+Where the same device protects the conductors against overload (the capacity check passes on the
+device's rating) and can break the prospective fault current (the breaking-capacity check passes),
+BS 7671 435.1 deems it to protect them against short-circuit too, and the check passes on that
+rule (the computed bound is kept in the working). A cable sized on Ib (`overload_exempt`) has no
+such protection: 434.5.2 is applied to it, always.
+"""
 from __future__ import annotations
 
 from tracker.checks import protection
 from tracker.checks.context import Facts
-from tracker.checks.result import CheckResult, not_assessed, verdict
+from tracker.checks.result import PASS, CheckResult, not_assessed, verdict
 from tracker.engine import adiabatic
 
 ID = "line-adiabatic"
 
 
-def run(f: Facts, w: dict) -> CheckResult:
+def run(f: Facts, w: dict, capacity: CheckResult | None = None, breaking: CheckResult | None = None) -> CheckResult:
+    result = _computed(f, w)
+    deemed = (not f.circuit.overload_exempt and capacity is not None and breaking is not None
+              and capacity.status == PASS and breaking.status == PASS)
+    if not deemed or result.status == PASS:
+        return result
+    detail = (f"deemed protected against short-circuit: the {f.label} protects the conductors against overload "
+              f"(capacity passes) and can break the prospective fault current (435.1); by 434.5.2 with the "
+              f"time's upper bound: {result.detail}") if f.explain else ""
+    return CheckResult(ID, PASS, f.circuit.cable.csa_mm2, None, "mm2", ">=", detail)
+
+
+def _computed(f: Facts, w: dict) -> CheckResult:
     c = f.circuit
     if f.kind is None:
         return not_assessed(ID, "mm2", ">=", f"cable kind {c.cable.kind} not in the catalogue")
@@ -34,7 +53,8 @@ def run(f: Facts, w: dict) -> CheckResult:
     ok = c.cable.csa_mm2 >= s_min
     detail = (f"minimum short-circuit current at the far end U0/Z(L-N) = {u0:g}/{f.zln_far_ohm:.3f} = "
               f"{current:.0f} A, {t_how}, k {k:.0f} ({kind.conductor_c:g} → {kind.fault_final_c:g} °C, "
-              f"Table 43.1): S ≥ {s_min:.2f} mm² {'≤' if ok else '>'} {c.cable.csa_mm2:g} mm² — 434.5.2")
+              f"Table 43.1): S ≥ {s_min:.2f} mm² {'≤' if ok else '>'} {c.cable.csa_mm2:g} mm² — 434.5.2"
+              ) if f.explain else ""
     if not ok and not sure:
         return not_assessed(ID, "mm2", ">=", f"{detail}; with only an upper bound of the disconnection time the "
                                              "conductors cannot be shown adequate or inadequate: the device's "

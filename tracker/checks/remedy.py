@@ -15,8 +15,20 @@ from tracker.checks import circuit as circuit_checks
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.context import device_label
 from tracker.checks.result import FAIL, NOT_ASSESSED, WARN
+from tracker.model import Cable, Device
 
 LOAD_DEPENDENT = {"design-current", "voltage-drop"}
+# What a change of each kind can put right: a failing check opens only the changes that can help it.
+HELPS = {
+    "design-current": {"rating"},
+    "capacity": {"size", "rating"},
+    "voltage-drop": {"size"},
+    "fault-loop": {"size", "rating", "curve", "rcd"},
+    "cpc-adiabatic": {"size", "rating", "curve", "rcd"},
+    "line-adiabatic": {"size", "rating", "curve"},
+    "breaking-capacity": set(),     # a device of higher breaking capacity, applied to every candidate
+    "rcd": {"rcd"},
+}
 BREAKING_STEPS_KA = (6.0, 10.0, 16.0, 25.0, 36.0, 50.0, 80.0)
 RATING_STEPS = (-2, -1, 0, 1, 2, 3, 4, 5)
 SIZE_STEPS = (0, 1, 2, 3, 4, 5)
@@ -39,6 +51,7 @@ def _load_limited(result: CircuitResult, failing: set[str]) -> bool:
 
 def _candidate_circuits(result: CircuitResult, failing: set[str]):
     c = result.circuit
+    dims = set().union(*(HELPS.get(f, set()) for f in failing))
     kind = catalogue.cable_kind(c.cable.kind)
     ratings = catalogue.standard_ratings(c.device.kind)
     curves = [c.device.curve] + [k for k in ("B", "C", "D") if k != c.device.curve] \
@@ -53,15 +66,28 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
     except ValueError:
         i_size, sizes = 0, [c.cable.csa_mm2]
     rcd_options = [c.rcd_ma]
-    # 30 mA protection is a remedy for final circuits; a sub-main is put right by its cable or device.
-    if (c.rcd_ma is None or c.rcd_ma > 30) and not c.is_submain:
+    # 30 mA protection is a remedy for final circuits. A sub-main is put right by its cable or
+    # device — on TT, where no overcurrent device can disconnect an earth fault, by a 100 mA
+    # time-delayed RCD (common practice: it discriminates with the 30 mA devices below).
+    if not c.is_submain and (c.rcd_ma is None or c.rcd_ma > 30):
         rcd_options.append(30.0)
+    elif c.is_submain and c.rcd_ma is None and result.ctx.supply.system == "TT":
+        rcd_options.append(100.0)
     breaking = c.device.breaking_ka
     if "breaking-capacity" in failing:
         pfc = result.ctx.pfc_ka
         breaking = next((b for b in BREAKING_STEPS_KA if b >= pfc), None)
+    if "rating" not in dims:
+        rating_steps = (0,)
+    elif failing <= {"design-current"}:
+        rating_steps = tuple(x for x in RATING_STEPS if x >= 0)
+    else:
+        rating_steps = RATING_STEPS
+    curves = curves if "curve" in dims else curves[:1]
+    size_steps = SIZE_STEPS if "size" in dims else (0,)
+    rcd_options = rcd_options if "rcd" in dims else rcd_options[:1]
     out = []
-    for dr, curve, ds, rcd in itertools.product(RATING_STEPS, curves, SIZE_STEPS, rcd_options):
+    for dr, curve, ds, rcd in itertools.product(rating_steps, curves, size_steps, rcd_options):
         ir, isz = i_rating + dr, i_size + ds
         if not (0 <= ir < len(ratings)) or isz >= len(sizes):
             continue
@@ -69,18 +95,23 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
         cost = (changed, ds, abs(dr), curve != c.device.curve, rcd != c.rcd_ma, dr)
         out.append((cost, ratings[ir], curve, sizes[isz], rcd))
     out.sort(key=lambda x: x[0])
+    d0 = c.device
+    breaking = breaking if breaking is not None else d0.breaking_ka
+    cables = {}
     for cost, rating, curve, csa, rcd in out:
-        device = replace(c.device, rating_a=rating, curve=curve,
-                         breaking_ka=breaking if breaking is not None else c.device.breaking_ka)
-        cable = c.cable
-        if csa != c.cable.csa_mm2:
-            if kind.cpc == "separate":
-                cpc = csa                   # single-core cpc of the line conductor's size
-            elif c.cable.cpc_mm2 is None:
-                cpc = None                  # the cable's standard construction still applies
-            else:
-                cpc = kind.default_cpc_mm2(csa) or csa
-            cable = replace(c.cable, csa_mm2=csa, cpc_mm2=cpc)
+        device = Device(d0.kind, rating, curve, breaking, d0.max_zs_ohm, d0.let_through_a2s)
+        cable = cables.get(csa)
+        if cable is None:
+            cable = c.cable
+            if csa != cable.csa_mm2:
+                if kind.cpc == "separate":
+                    cpc = csa                   # single-core cpc of the line conductor's size
+                elif cable.cpc_mm2 is None:
+                    cpc = None                  # the cable's standard construction still applies
+                else:
+                    cpc = kind.default_cpc_mm2(csa) or csa
+                cable = Cable(cable.kind, csa, cable.length_m, cable.method, cpc)
+            cables[csa] = cable
         yield replace(c, device=device, cable=cable, rcd_ma=rcd)
 
 
@@ -100,8 +131,26 @@ def _describe(before, after, result_after: CircuitResult) -> list[str]:
         iz = f", Iz {result_after.iz_a:.1f} A" if result_after.iz_a is not None else ""
         parts.append(f"cable {before.cable.csa_mm2:g} → {after.cable.csa_mm2:g} mm² {after.cable.kind}{cpc}{iz}")
     if before.rcd_ma != after.rcd_ma:
-        parts.append("30 mA RCD protection (an RCBO, or an RCD on the board)")
+        if after.is_submain:
+            parts.append(f"a {after.rcd_ma:g} mA time-delayed RCD protecting the sub-main")
+        else:
+            parts.append("30 mA RCD protection (an RCBO, or an RCD on the board)")
     return parts
+
+
+FALLBACK_TRIES = 12
+
+
+def _fixable_here(result: CircuitResult, failing: set[str]) -> bool:
+    """False where a failing check cannot pass whatever is done to this circuit alone."""
+    ctx = result.ctx
+    vd = result.check("voltage-drop")
+    if "voltage-drop" in failing and ctx.vd_v is not None and vd.limit is not None \
+            and ctx.vd_v >= vd.limit / 100.0 * ctx.supply.u0_v:
+        return False
+    if "breaking-capacity" in failing and ctx.pfc_ka > BREAKING_STEPS_KA[-1]:
+        return False
+    return True
 
 
 def find(result: CircuitResult) -> dict | None:
@@ -113,15 +162,21 @@ def find(result: CircuitResult) -> dict | None:
     out: dict = {"changes": [], "load_limit_kw": None, "text": ""}
     unknown, cautions = _with(result, NOT_ASSESSED), _with(result, WARN)
     chosen = fallback = None
-    for cand in _candidate_circuits(result, failing):
-        trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a)
+    tries = 0
+    local = _fixable_here(result, failing)
+    for cand in (_candidate_circuits(result, failing) if local else ()):
+        trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a, explain=False)
         # A remedy must not pass by leaving a check unassessed that was assessed before.
         if _failing(trial) or not _with(trial, NOT_ASSESSED) <= unknown:
             continue
         if _with(trial, WARN) <= cautions:
             chosen = (cand, trial)
             break
-        fallback = fallback or (cand, trial)
+        if fallback is None:
+            fallback = (cand, trial)
+        tries += 1
+        if tries > FALLBACK_TRIES:   # a clean remedy is not close: settle for the first that passes
+            break
     chosen = chosen or fallback
     if chosen is not None:
         cand, trial = chosen
@@ -142,6 +197,8 @@ def find(result: CircuitResult) -> dict | None:
                     f"dropped upstream: put the sub-main {ctx.fed_via} right first")
     if out["changes"]:
         text.append("smallest change that passes every check of the circuit: " + "; ".join(out["changes"]))
+    elif not local:
+        text.append("no change to this circuit alone can pass: the cause is upstream")
     else:
         text.append("no change of device rating, curve, cable size or RCD within reach passes every check: "
                     "the circuit needs redesign (shorter route, split load, other installation method)")

@@ -26,7 +26,10 @@ TT_STABLE_RA_OHM = 200.0
 
 
 def has_kind(circuit: Circuit, kind: str) -> bool:
-    return any(ld.kind == kind for ld in circuit.loads)
+    for ld in circuit.loads:
+        if ld.kind == kind:
+            return True
+    return False
 
 
 def qualifies_as_ring(circuit: Circuit) -> tuple[bool, str]:
@@ -58,15 +61,17 @@ def rcd_requirements(circuit: Circuit, domestic: bool = True) -> tuple[list[str]
     if circuit.is_submain:
         return required, advised
     rating = circuit.device.rating_a
-    if has_kind(circuit, "socket-outlets") and rating <= SOCKET_RCD_MAX_RATING_A:
+    kinds = {ld.kind for ld in circuit.loads}
+    places = {ld.location for ld in circuit.loads}
+    if "socket-outlets" in kinds and rating <= SOCKET_RCD_MAX_RATING_A:
         required.append("411.3.3(a) socket-outlets rated up to 32 A")
-    if any(ld.location == "bathroom" for ld in circuit.loads) or has_kind(circuit, "shower"):
+    if "bathroom" in places or "shower" in kinds:
         required.append("701.411.3.3 circuits of a location containing a bath or shower")
-    if any(ld.location == "outdoor" for ld in circuit.loads) and rating <= OUTDOOR_RCD_MAX_RATING_A:
+    if "outdoor" in places and rating <= OUTDOOR_RCD_MAX_RATING_A:
         required.append("411.3.3(b) equipment for use outdoors up to 32 A")
-    if has_kind(circuit, "ev-charger"):
+    if "ev-charger" in kinds:
         required.append("722.531.3.101 each charging point")
-    if domestic and has_kind(circuit, "lighting") and not required:
+    if domestic and "lighting" in kinds and not required:
         advised.append("411.3.4 luminaires of domestic premises (an improvement for an installation "
                        "designed to an earlier edition)")
     return required, advised

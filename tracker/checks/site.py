@@ -39,13 +39,17 @@ class SiteResult:
                      + ([self.supply_check.status] if self.supply_check else []))
 
 
-def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[str] | None = None) -> SiteResult:
+def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[str] | None = None,
+                  explain: bool = True) -> SiteResult:
     """Check every circuit and board of `site`.
 
     Incremental use: with `previous` (the result for an earlier state of the same site) and
     `recheck` (the refs of the circuits a change can affect, found from the graph by
     `tracker.tracking.impact`), every other circuit keeps its earlier results unchanged. Board
     demand and the conditions at each board are always recomputed (they are sums over a site).
+
+    explain=False leaves the circuit checks' working text empty (for a state kept in memory for a
+    whole estate: `explain_circuit` gives the text of any one circuit when it is shown).
     """
     sup = supply_context(site.supply, site.premises == "domestic")
     u0 = sup.u0_v
@@ -76,7 +80,7 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
             if prior is not None and recheck is not None and cref not in recheck:
                 result, facts = prior, None
             else:
-                result, facts = circuit_checks.evaluate(c, ctx, fed)
+                result, facts = circuit_checks.evaluate(c, ctx, fed, explain)
             out.circuits[cref] = result
             if c.feeds:
                 facts = facts or build_facts(c, ctx, fed)
@@ -103,7 +107,7 @@ def _margins(out: SiteResult, on_board: dict[str, list[Circuit]], origin_boards:
         values = []
         for c in on_board[board_id]:
             r = out.circuits[f"{site.id}/{c.board}/{c.id}"]
-            values.append(r.working.get("vd_slack_v"))
+            values.append(r.vd_slack_v)
             if c.feeds:
                 values.append(subtree_slack(c.feeds))
         known = [v for v in values if v is not None]
@@ -132,6 +136,15 @@ def _margins(out: SiteResult, on_board: dict[str, list[Circuit]], origin_boards:
 
     for b in origin_boards:
         assign(b, supply_margin, None)
+
+
+def explain_circuit(result: CircuitResult) -> CircuitResult:
+    """The same circuit's results with the working text of every check (a pure re-evaluation from
+    the inputs the result holds: the circuit, the conditions at its board, the demand it feeds)."""
+    if all(c.detail for c in result.checks):
+        return result
+    explained, _ = circuit_checks.evaluate(result.circuit, result.ctx, result.fed_demand_a, True)
+    return explained
 
 
 def headroom_kw(site_result: SiteResult, result: CircuitResult) -> float | None:

@@ -45,7 +45,7 @@ def run(f: Facts, w: dict) -> tuple[CheckResult, float | None, float | None]:
     ok = pct <= limit_pct
     detail = (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {length} = {volts:.2f} V{upstream} = "
               f"{pct:.2f} % of {sup.u0_v:g} V {'≤' if ok else '>'} {limit_pct:g} % ({use}, {src}; "
-              "Appendix 4 Table 4Ab)")
+              "Appendix 4 Table 4Ab)") if f.explain else ""
     # Extra current on this circuit also flows through every sub-main above it.
     slope = per_a + f.ctx.v_per_a
     ib_limit = None

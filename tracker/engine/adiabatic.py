@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 # Copper constants of IEC 60364-5-54:2011 Annex A (Table A.1): volumetric heat capacity Qc,
 # reciprocal of the temperature coefficient of resistivity at 0 °C β, resistivity at 20 °C ρ20,
@@ -12,6 +13,7 @@ COPPER_RHO20_OHM_MM = 17.241e-6
 COPPER_K_CONSTANT = 226.0
 
 
+@lru_cache(maxsize=256)
 def k_factor(initial_c: float, final_c: float, constant: float = COPPER_K_CONSTANT,
              beta_c: float = COPPER_BETA_C) -> float:
     """Factor k of the adiabatic equation for a conductor heated from θi to θf.
