@@ -41,6 +41,8 @@ def build_parser() -> argparse.ArgumentParser:
     _add_path(p)
     p.add_argument("--json", action="store_true", help="print the izwatch.check/1 JSON document")
     p.add_argument("--problems", action="store_true", help="text output: list only circuits that do not pass")
+    p.add_argument("--jobs", type=int, default=0, metavar="N",
+                   help="worker processes for large estates (default: one per core; 1: a single process)")
     p.set_defaults(func=_run("tracker.commands.check"))
 
     p = sub.add_parser("watch", help="keep watching: re-check and record every change",

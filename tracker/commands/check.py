@@ -1,45 +1,201 @@
-"""`izwatch check PATH [--json]`."""
+"""`izwatch check PATH [--json] [--problems] [--jobs N]`.
+
+Sites are independent, so the check streams: each site is loaded, checked and rendered before
+the next is read, and memory stays at the size of the largest site whatever the estate's size.
+On a machine with several cores, large estates are shared among worker processes, each taking
+runs of sites; the parent writes their output in the estate's order.
+"""
 from __future__ import annotations
 
+import gc
 import json
+import os
 import sys
+import textwrap
+from dataclasses import dataclass, field
 from pathlib import Path
 
 from tracker.checks.result import FAIL
 from tracker.checks.site import evaluate_site
 from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
-from tracker.loading import load_estate
-from tracker.loading.estate import EstateError
+from tracker.loading.errors import InputError, sort_problems
+from tracker.loading.estate import EstateError, load_site, site_folders
+from tracker.progress import Progress
 
 
-def report_problems(estate) -> None:
-    for w in estate.warnings:
-        print(w, file=sys.stderr)
-    for e in estate.errors:
-        print(e, file=sys.stderr)
+class _JsonOut:
+    """Writes the izwatch.check/1 document entry by entry (SPEC §5 order)."""
+
+    def __init__(self, out, pretty: bool):
+        from tracker.output import json_out
+        self.j = json_out
+        self.out, self.pretty = out, pretty
+        self.first = True
+        self.boards, self.supplies = [], []
+        out.write('{"schema": "izwatch.check/1", "circuits": [')
+
+    def worker_copy(self) -> "_JsonOut":
+        twin = object.__new__(_JsonOut)
+        twin.j, twin.pretty, twin.out = None, self.pretty, None
+        return twin
+
+    def _dump(self, obj) -> str:
+        if not self.pretty:
+            return json.dumps(obj, ensure_ascii=False)
+        return "\n" + textwrap.indent(json.dumps(obj, indent=2, ensure_ascii=False), "    ")
+
+    def render(self, sr, out: "SiteOut") -> None:
+        if self.j is None:
+            from tracker.output import json_out
+            self.j = json_out
+        out.text = ", ".join(self._dump(self.j.circuit_entry(sr, r)) for r in sr.circuits.values())
+        out.boards = [self.j.board_entry(b) for b in sr.boards.values()]
+        out.supply = self.j.supply_entry(sr)
+
+    def write(self, out: "SiteOut") -> None:
+        if out.text:
+            self.out.write(("" if self.first else ", ") + out.text)
+            self.first = False
+        self.boards.extend(out.boards)
+        self.supplies.append(out.supply)
+
+    def close(self, errors, warnings) -> None:
+        ind = 2 if self.pretty else None
+        tail = {"boards": self.boards, "errors": [e.as_json() for e in errors], "supplies": self.supplies,
+                "warnings": [w.as_json() for w in warnings], "caution": self.j.CAUTION}
+        body = json.dumps(tail, indent=ind, ensure_ascii=False)
+        self.out.write("], " + body[1:] + "\n")
+
+
+class _TextOut:
+    def __init__(self, out, only_problems: bool):
+        from tracker.output import text_out
+        self.t = text_out
+        self.out, self.only = out, only_problems
+        self.counts = {k: 0 for k in ("pass", "warn", "not-assessed", "fail")}
+        self.sites = 0
+
+    def worker_copy(self) -> "_TextOut":
+        twin = object.__new__(_TextOut)
+        twin.t, twin.only, twin.out = None, self.only, None
+        return twin
+
+    def render(self, sr, out: "SiteOut") -> None:
+        if self.t is None:
+            from tracker.output import text_out
+            self.t = text_out
+        out.text = "\n".join(self.t.render_site(sr, self.only)) + "\n\n"
+        for r in sr.circuits.values():
+            out.counts[r.status] = out.counts.get(r.status, 0) + 1
+
+    def write(self, out: "SiteOut") -> None:
+        self.out.write(out.text)
+        self.sites += 1
+        for k, v in out.counts.items():
+            self.counts[k] += v
+
+    def close(self, errors, warnings) -> None:
+        c = self.counts
+        n = sum(c.values())
+        if self.sites or not errors:
+            self.out.write(f"{n} circuits in {self.sites} site(s): {c['fail']} fail, {c['warn']} warn, "
+                           f"{c['not-assessed']} not fully assessed, {c['pass']} pass\n")
+        else:
+            self.out.write(f"nothing checked: {len(errors)} input error(s), listed above\n")
+        self.out.write(f"Caution: {self.t.CAUTION}\n")
+
+
+@dataclass
+class SiteOut:
+    """One site loaded, checked and rendered (picklable: it comes back from a worker)."""
+
+    site_id: str | None = None
+    first_file: str = ""
+    errors: list = field(default_factory=list)
+    warnings: list = field(default_factory=list)
+    failing: bool = False
+    text: str = ""
+    boards: list = field(default_factory=list)
+    supply: dict | None = None
+    counts: dict = field(default_factory=dict)
+
+
+_RENDERER = None   # the renderer of the process (set in workers by _init)
+
+
+def _init(renderer) -> None:
+    global _RENDERER
+    _RENDERER = renderer
+
+
+def check_site(folder: Path, rel: str, root: Path, renderer) -> SiteOut:
+    sl = load_site(folder, rel, root)
+    out = SiteOut(errors=sl.errors, warnings=sl.warnings)
+    if sl.site is not None:
+        out.site_id, out.first_file = sl.site.id, sl.site.files[0]
+        sr = evaluate_site(sl.site)
+        out.failing = sr.status == FAIL
+        renderer.render(sr, out)
+    return out
+
+
+def _check_run(job) -> list[SiteOut]:
+    root, run = job
+    return [check_site(folder, rel, root, _RENDERER) for folder, rel in run]
+
+
+def _results(folders, root: Path, renderer, jobs: int):
+    """SiteOut per site folder, in order; from worker processes when that pays."""
+    if jobs <= 1 or len(folders) < 40:
+        for folder, rel in folders:
+            yield check_site(folder, rel, root, renderer)
+        return
+    import multiprocessing as mp
+    ctx = mp.get_context("fork" if "fork" in mp.get_all_start_methods() else "spawn")
+    size = max(1, min(50, len(folders) // (jobs * 8)))
+    runs = [(root, folders[i:i + size]) for i in range(0, len(folders), size)]
+    with ctx.Pool(jobs, initializer=_init, initargs=(renderer.worker_copy(),)) as pool:
+        for batch in pool.imap(_check_run, runs):
+            yield from batch
 
 
 def run(args) -> int:
+    root = Path(args.path)
     try:
-        estate = load_estate(Path(args.path))
+        single, folders, warnings = site_folders(root)
     except EstateError as exc:
         print(f"izwatch: {exc}", file=sys.stderr)
         if args.json:
             print(json.dumps({"schema": "izwatch.check/1", "circuits": [], "boards": [],
                               "errors": [{"file": str(args.path), "line": 0, "col": 0, "path": "",
-                                          "message": str(exc), "text": str(exc)}]}, indent=2))
+                                          "message": str(exc), "text": str(exc)}]}))
         return EXIT_INPUT
-    results = [evaluate_site(site) for site in estate.sites.values()]
-    report_problems(estate)
-    if args.json:
-        from tracker.output.json_out import check_document
-        doc = check_document(results, estate.errors, estate.warnings)
-        json.dump(doc, sys.stdout, indent=2, ensure_ascii=False)
-        sys.stdout.write("\n")
-    else:
-        from tracker.output.text_out import render
-        print(render(results, only_problems=args.problems))
-    if estate.errors:
+    out = _JsonOut(sys.stdout, sys.stdout.isatty()) if args.json else _TextOut(sys.stdout, args.problems)
+    jobs = args.jobs if args.jobs else (os.cpu_count() or 1)
+    errors: list[InputError] = []
+    warnings = list(warnings)
+    seen: dict[str, str] = {}
+    failing = False
+    progress = Progress(len(folders), "checking sites")
+    gc.freeze()   # what is loaded so far lives to the end: keep the collector from re-scanning it
+    for so in _results(folders, root, out, jobs):
+        errors.extend(so.errors)
+        warnings.extend(so.warnings)
+        if so.site_id is not None and so.site_id in seen:
+            errors.append(InputError(so.first_file, 1, 1, f"site id '{so.site_id}' is already used by "
+                                                          f"{seen[so.site_id]}; site ids must be unique"))
+        elif so.site_id is not None:
+            seen[so.site_id] = so.first_file
+            failing |= so.failing
+            out.write(so)
+        progress.advance()
+    progress.close()
+    errors, warnings = sort_problems(errors), sort_problems(warnings)
+    for w in warnings:
+        print(w, file=sys.stderr)
+    for e in errors:
+        print(e, file=sys.stderr)
+    out.close(errors, warnings)
+    if errors:
         return EXIT_INPUT
-    failing = any(sr.status == FAIL for sr in results)
     return EXIT_FAIL if failing else EXIT_OK

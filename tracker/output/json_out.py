@@ -12,24 +12,23 @@ CAUTION = ("izwatch supports, and does not replace, a competent person: verify e
            "installations is for qualified people.")
 
 _WORKING_UNITS = {"_a": "A", "_v": "V", "_ohm": "ohm", "_mm2": "mm2", "_ka": "kA", "_pct": "%", "_s": "s"}
+_DIGITS: dict[str, int] = {}
 
 
 def _r(x, digits=2):
     return None if x is None else round(x, digits)
 
 
+def _digits(key: str) -> int:
+    d = _DIGITS.get(key)
+    if d is None:
+        d = next((UNIT_DIGITS.get(unit, 3) for suffix, unit in _WORKING_UNITS.items() if key.endswith(suffix)), 3)
+        _DIGITS[key] = d
+    return d
+
+
 def _working(w: dict) -> dict:
-    out = {}
-    for key, value in w.items():
-        if isinstance(value, float):
-            digits = 3
-            for suffix, unit in _WORKING_UNITS.items():
-                if key.endswith(suffix):
-                    digits = UNIT_DIGITS.get(unit, 3)
-            out[key] = round(value, digits)
-        else:
-            out[key] = value
-    return out
+    return {k: round(v, _digits(k)) if type(v) is float else v for k, v in w.items()}
 
 
 def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
