@@ -45,6 +45,7 @@ def _first_record(state: EstateState, contents: dict[str, bytes]) -> list[FileOu
             out.changes = [Change(ref, ADDED) for ref in elements(site, rel)]
             if rel == site.files[0]:
                 out.events, out.results = compare(None, ss.result)
+                state._explain_events(out.events, ss.result)
         outcomes.append(out)
     return outcomes
 

@@ -14,7 +14,7 @@ from pathlib import Path, PurePosixPath
 import networkx as nx
 
 from tracker import graph as G
-from tracker.checks.site import SiteResult, evaluate_site
+from tracker.checks.site import SiteResult, evaluate_site, explain_circuit
 from tracker.loading.errors import InputError
 from tracker.loading.estate import (SITE_FILE, STATE_DIR, EstateError, FileResult, _read_text, assemble_site,
                                     sha256_hex, site_folders)
@@ -64,6 +64,7 @@ class EstateState:
         self.hashes: dict[str, str] = {}             # rel -> sha256 of the content last seen
         self.graph = nx.DiGraph()
         self.errors: dict[str, list[InputError]] = {}   # rel -> open input errors
+        self.by_id: dict[str, str] = {}              # site id -> folder
 
     # -- where files belong ----------------------------------------------------------------
 
@@ -86,10 +87,32 @@ class EstateState:
         return [s.result for s in self.sites.values() if s.result is not None]
 
     def site_by_id(self, site_id: str) -> SiteState | None:
-        for s in self.sites.values():
-            if s.site is not None and s.site.id == site_id:
-                return s
-        return None
+        folder = self.by_id.get(site_id)
+        return self.sites.get(folder) if folder is not None else None
+
+    def explained(self, ref: str):
+        """The results of one circuit with the working text of every check (the state keeps the
+        verdicts and figures of all circuits, the text only of what is shown)."""
+        ss = self.site_by_id(ref.split("/", 1)[0])
+        if ss is None or ss.result is None or ref not in ss.result.circuits:
+            return None
+        return explain_circuit(ss.result.circuits[ref])
+
+    def _explain_events(self, events: list[dict], result: SiteResult | None) -> None:
+        for e in events:
+            r = result.circuits.get(e["ref"]) if result is not None else None
+            if r is not None and not e.get("detail"):
+                full = explain_circuit(r).check(e["check"])
+                if full is not None:
+                    e["detail"] = full.detail
+
+    def _place(self, ss: SiteState) -> None:
+        self.sites[ss.folder] = ss
+        for sid, folder in list(self.by_id.items()):
+            if folder == ss.folder and (ss.site is None or sid != ss.site.id):
+                del self.by_id[sid]
+        if ss.site is not None:
+            self.by_id[ss.site.id] = ss.folder
 
     def disk_files(self) -> dict[str, Path]:
         """Every site file on disk now: rel -> path."""
@@ -146,7 +169,8 @@ class EstateState:
                 self.errors.setdefault(sl.site.files[0], []).append(self._id_error(sl.site))
                 continue
             ss.site = sl.site
-            ss.result = evaluate_site(sl.site)
+            ss.result = evaluate_site(sl.site, explain=False)
+            self._place(ss)
             G.add_site(self.graph, sl.site)
 
     def _id_taken(self, site_id: str, folder: str) -> bool:
@@ -225,10 +249,11 @@ class EstateState:
             if ss.site is not None:
                 G.remove_site(self.graph, ss.site.id)
             G.add_site(self.graph, new_site)
-        new_result = evaluate_site(new_site, old_result, recheck)
+        new_result = evaluate_site(new_site, old_result, recheck, explain=False)
         events, results = compare(old_result, new_result)
+        self._explain_events(events, new_result)
         ss.site, ss.result = new_site, new_result
-        self.sites[folder] = ss
+        self._place(ss)
         rechecked = len(new_site.circuits) if recheck is None else len(recheck)
         return FileOutcome(rel, folder, new_site.id, raw, digest, True, [], changes, events, results, rechecked)
 
@@ -250,6 +275,7 @@ class EstateState:
         events, results = compare(old_result, None)
         if old_site is not None:
             G.remove_site(self.graph, old_site.id)
+            self.by_id.pop(old_site.id, None)
         self.sites.pop(folder, None)
         site_id = old_site.id if old_site is not None else None
         return FileOutcome(rel, folder, site_id, None, None, True, [], changes, events, results)
