@@ -45,7 +45,9 @@ def test_two_watchers_by_mistake(demo_copy):
                               stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True) for _ in range(2)]
     try:
         for p in procs:
-            assert json.loads(p.stdout.readline())["event"] == "ready"
+            line = p.stdout.readline()
+            assert line, p.stderr.read()
+            assert json.loads(line)["event"] == "ready"
         path = demo_copy / FILE
         base = path.read_text()
         states = []

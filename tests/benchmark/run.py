@@ -1,0 +1,230 @@
+"""The izwatch benchmark (not part of the test suite).
+
+    python -m tests.benchmark.run [--sizes 1000,10000,100000] [--edits 50] [--workdir DIR] [--out FILE]
+
+For each estate size (synthetic, seeded: tests/benchmark/generate.py) it measures, each in a fresh
+process so that one measurement cannot warm the next:
+
+- the bare parse: every site file read and parsed with libyaml's safe loader, nothing else —
+  the baseline the other figures are divided by (absolute times on a shared machine drift; the
+  ratios hold);
+- a cold `izwatch check --json` (wall time and peak resident memory);
+- one incremental re-check in-process after a one-load edit (median of 20 edits);
+- at the smallest and the largest size: end-to-end latency from a saved file to its event printed
+  by `izwatch watch --json` (p50 and p95 over --edits edits), the watcher's first start (which
+  makes the history's first record), and its start on the unchanged estate with that history.
+
+It prints one JSON document: the figures, the ratios and each target with whether it is met.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import queue
+import re
+import shutil
+import signal
+import statistics
+import subprocess
+import sys
+import tempfile
+import threading
+import time
+from pathlib import Path
+
+from tests.benchmark.generate import generate
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent.parent
+PER_SITE = 20
+
+PARSE = """
+import sys, time, glob, yaml
+t = time.perf_counter()
+for path in sorted(glob.glob(sys.argv[1] + '/*/*.yaml')):
+    with open(path, 'rb') as fh:
+        yaml.load(fh.read(), Loader=yaml.CSafeLoader)
+print(time.perf_counter() - t)
+"""
+
+INCREMENTAL = """
+import json, random, statistics, sys, time
+from pathlib import Path
+from tracker.tracking.state import EstateState
+root = Path(sys.argv[1])
+st = EstateState(root)
+st.seed({rel: p.read_bytes() for rel, p in st.disk_files().items()})
+rng = random.Random(3)
+folders = rng.sample(sorted(st.sites), min(20, len(st.sites)))
+times, rechecked = [], []
+for folder in folders:
+    rel = folder + '/site.yaml'
+    text = (root / rel).read_text()
+    new = text.replace('kind: lighting, power_kw: ', 'kind: lighting, power_kw: 1', 1)
+    if new == text:
+        continue
+    t = time.perf_counter()
+    out = st.apply_bytes(rel, new.encode())
+    times.append(time.perf_counter() - t)
+    rechecked.append(out.rechecked)
+print(json.dumps({"median_s": statistics.median(times), "edits": len(times),
+                  "circuits_rechecked_median": statistics.median(rechecked)}))
+"""
+
+
+def run_timed(cmd: list[str], stdout=subprocess.DEVNULL, ok=(0, 1)) -> tuple[float, float, str]:
+    """(wall seconds, peak RSS MiB, stdout) of a child process."""
+    t = time.perf_counter()
+    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE if stdout is None else stdout, stderr=subprocess.PIPE,
+                            text=True, cwd=ROOT)
+    out = proc.stdout.read() if proc.stdout else ""
+    _, status, usage = os.wait4(proc.pid, 0)
+    wall = time.perf_counter() - t
+    if os.WEXITSTATUS(status) not in ok:
+        raise RuntimeError(f"{cmd[:4]} failed: {proc.stderr.read()[-2000:]}")
+    return wall, usage.ru_maxrss / 1024.0, out
+
+
+def estate(workdir: Path, n: int) -> Path:
+    path = workdir / f"estate-{n}"
+    marker = path / ".generated"
+    if not marker.exists():
+        shutil.rmtree(path, ignore_errors=True)
+        generate(path, n // PER_SITE, PER_SITE, seed=7)
+        marker.write_text("seed 7\n")
+    shutil.rmtree(path / ".izwatch", ignore_errors=True)
+    return path
+
+
+def bare_parse(path: Path) -> float:
+    wall, _, out = run_timed([sys.executable, "-c", PARSE, str(path)], stdout=None, ok=(0,))
+    return wall
+
+
+def cold_check(path: Path) -> tuple[float, float]:
+    wall, rss, _ = run_timed([sys.executable, "-m", "tracker.cli", "check", str(path), "--json"])
+    return wall, rss
+
+
+def incremental(path: Path) -> dict:
+    _, rss, out = run_timed([sys.executable, "-c", INCREMENTAL, str(path)], stdout=None, ok=(0,))
+    doc = json.loads(out)
+    doc["process_peak_mib"] = rss
+    return doc
+
+
+class WatchProcess:
+    def __init__(self, path: Path):
+        self.t0 = time.perf_counter()
+        self.proc = subprocess.Popen([sys.executable, "-m", "tracker.cli", "watch", str(path), "--json"],
+                                     stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True, cwd=ROOT)
+        self.lines: queue.Queue = queue.Queue()
+        threading.Thread(target=self._read, daemon=True).start()
+
+    def _read(self):
+        for line in self.proc.stdout:
+            self.lines.put((time.perf_counter(), json.loads(line)))
+
+    def wait_for(self, pred, timeout: float = 900.0):
+        deadline = time.perf_counter() + timeout
+        while True:
+            t, doc = self.lines.get(timeout=max(0.1, deadline - time.perf_counter()))
+            if pred(doc):
+                return t, doc
+
+    def stop(self) -> float:
+        self.proc.send_signal(signal.SIGINT)
+        _, _, usage = os.wait4(self.proc.pid, 0)
+        return usage.ru_maxrss / 1024.0
+
+
+def end_to_end(path: Path, edits: int) -> dict:
+    w = WatchProcess(path)
+    t_ready, ready = w.wait_for(lambda d: d.get("event") == "ready")
+    first_start = t_ready - w.t0
+    sites = sorted(p for p in path.iterdir() if p.is_dir() and not p.name.startswith("."))
+    step = max(1, len(sites) // max(1, edits // 2))
+    latencies = []
+    for k in range(edits // 2):
+        site = sites[(k * step) % len(sites)] / "site.yaml"
+        text = site.read_text()
+        match = re.search(r"kind: lighting, power_kw: ([0-9.]+)", text)
+        if not match:
+            continue
+        old = match.group(0)
+        rel = site.relative_to(path).as_posix()
+        for new_text, transition in ((text.replace(old, "kind: lighting, power_kw: 60", 1), "newly-failing"),
+                                     (text, "cleared")):
+            t = time.perf_counter()
+            site.write_text(new_text)
+            t_line, _ = w.wait_for(lambda d: d.get("file") == rel and d.get("transition") == transition, 60)
+            latencies.append(t_line - t)
+            time.sleep(0.05)
+    watch_rss = w.stop()
+    w2 = WatchProcess(path)
+    t_ready2, ready2 = w2.wait_for(lambda d: d.get("event") == "ready")
+    restart = t_ready2 - w2.t0
+    w2.stop()
+    q = statistics.quantiles(latencies, n=20)
+    return {"edits": len(latencies), "p50_s": statistics.median(latencies), "p95_s": q[18],
+            "max_s": max(latencies), "first_start_s": first_start, "restart_unchanged_s": restart,
+            "restart_recorded_nothing": ready2.get("revisions") == ready.get("revisions") + len(latencies),
+            "watch_peak_mib": watch_rss}
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description="izwatch benchmark")
+    ap.add_argument("--sizes", default="1000,10000,100000")
+    ap.add_argument("--edits", type=int, default=50)
+    ap.add_argument("--workdir", default=None, help="where the synthetic estates go (kept between runs)")
+    ap.add_argument("--out", default=None, help="also write the JSON here")
+    a = ap.parse_args()
+    sizes = [int(x) for x in a.sizes.split(",")]
+    workdir = Path(a.workdir) if a.workdir else Path(tempfile.gettempdir()) / "izwatch-benchmark"
+    workdir.mkdir(parents=True, exist_ok=True)
+    t_all = time.perf_counter()
+    res: dict = {}
+    for n in sizes:
+        path = estate(workdir, n)
+        r = res[n] = {"circuits": n, "sites": n // PER_SITE, "files": len(list(path.glob("*/*.yaml")))}
+        r["bare_parse_s"] = bare_parse(path)
+        r["check_s"], r["check_peak_mib"] = cold_check(path)
+        r["check_over_parse"] = r["check_s"] / r["bare_parse_s"]
+        r["incremental"] = incremental(path)
+        if n in (min(sizes), max(sizes)):
+            r["end_to_end"] = end_to_end(path, a.edits)
+            r["end_to_end"]["restart_over_check"] = r["end_to_end"]["restart_unchanged_s"] / r["check_s"]
+        print(f"# {n} circuits done ({time.perf_counter() - t_all:.0f} s)", file=sys.stderr, flush=True)
+    lo, hi = min(sizes), max(sizes)
+    targets = []
+
+    def target(name, value, limit):
+        targets.append({"target": name, "value": round(value, 3), "limit": limit, "met": value <= limit})
+
+    for n in sizes:
+        if n >= 10000:
+            target(f"check / bare parse at {n}", res[n]["check_over_parse"], 2.5)
+    if 10000 in res and 100000 in res:
+        target("check 100k / check 10k (linear: 10)", res[100000]["check_s"] / res[10000]["check_s"], 11)
+    if lo != hi:
+        target(f"incremental re-check {hi} / {lo}",
+               res[hi]["incremental"]["median_s"] / res[lo]["incremental"]["median_s"], 1.5)
+        target(f"end-to-end p95 {hi} / {lo}", res[hi]["end_to_end"]["p95_s"] / res[lo]["end_to_end"]["p95_s"], 1.5)
+        target(f"end-to-end p95 at {hi} (seconds)", res[hi]["end_to_end"]["p95_s"], 1.0)
+        target(f"watch start, unchanged {hi} with history / cold check", res[hi]["end_to_end"]["restart_over_check"],
+               1.2)
+    if 100000 in res:
+        target("check peak memory at 100k (MiB)", res[100000]["check_peak_mib"], 600)
+    doc = {"benchmark": "izwatch/1", "python": platform.python_version(), "machine": platform.machine(),
+           "cpus": os.cpu_count(), "total_s": round(time.perf_counter() - t_all, 1),
+           "sizes": res, "targets": targets, "all_met": all(t["met"] for t in targets)}
+    text = json.dumps(doc, indent=2)
+    print(text)
+    if a.out:
+        Path(a.out).write_text(text + "\n")
+
+
+if __name__ == "__main__":
+    main()
