@@ -5,9 +5,15 @@ writes in a row), so events are only a hint: each touched path waits until it ha
 the debounce interval, then its content is re-read and hashed, and only a real change of content
 goes on. A created or moved directory is scanned (a new site folder); a removed one re-checks
 every file known under it.
+
+Events can also be lost: the kernel's queue overflows in a burst of saves. Watchdog then says so
+in its log; the watcher listens for that and rescans every site file. Every minute a cheap scan
+of file sizes and times catches anything else that slipped through.
 """
 from __future__ import annotations
 
+import logging
+import os
 import threading
 import time
 from dataclasses import dataclass
@@ -24,6 +30,7 @@ from tracker.tracking.startup import start, to_revision
 from tracker.tracking.state import EstateState, FileOutcome
 
 DEBOUNCE_S = 0.15
+SAFETY_SCAN_S = 60.0
 
 
 @dataclass
@@ -38,14 +45,31 @@ class _Handler(FileSystemEventHandler):
         self.w = watcher
 
     def on_any_event(self, event: FileSystemEvent) -> None:
-        if event.event_type in ("opened", "closed_no_write"):
-            return
-        paths = [event.src_path]
-        dest = getattr(event, "dest_path", "")
-        if dest:
-            paths.append(dest)
-        for p in paths:
-            self.w.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory)
+        try:
+            if event.event_type in ("opened", "closed_no_write"):
+                return
+            if event.is_directory and event.event_type == "modified":
+                return   # a file in it changed: that file has its own event
+            paths = [event.src_path]
+            dest = getattr(event, "dest_path", "")
+            if dest:
+                paths.append(dest)
+            for p in paths:
+                self.w.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory)
+        except Exception:   # noqa: BLE001 - never let the observer thread die: rescan instead
+            self.w.request_rescan()
+
+
+class _OverflowListener(logging.Handler):
+    """Watchdog logs a warning when the kernel dropped events: rescan then."""
+
+    def __init__(self, watcher: "Watcher"):
+        super().__init__(logging.WARNING)
+        self.w = watcher
+
+    def emit(self, record: logging.LogRecord) -> None:
+        if "overflow" in record.getMessage().lower():
+            self.w.request_rescan()
 
 
 class Watcher:
@@ -60,9 +84,14 @@ class Watcher:
         self.debounce_s = debounce_s
         self.state: EstateState | None = None
         self._pending: dict[str, float] = {}
+        self._dirs: set[str] = set()          # folders created, moved or removed: expanded by the main thread
+        self._rescan = False
+        self._stats: dict[str, tuple] = {}    # rel -> (size, mtime_ns, inode) when last looked at
+        self._last_scan = time.monotonic()
         self._cond = threading.Condition()
         self._stop = threading.Event()
         self._observer = None
+        self._listener = _OverflowListener(self)
 
     # -- start ----------------------------------------------------------------------------
 
@@ -72,14 +101,19 @@ class Watcher:
         Watching starts before the reconciliation reads the files, so nothing saved meanwhile is
         missed (a file read twice is harmless: unchanged content is ignored).
         """
+        for name in ("watchdog.observers.inotify_c", "watchdog.observers.inotify"):
+            logging.getLogger(name).addHandler(self._listener)
         self._observer = Observer()
         self._observer.schedule(_Handler(self), str(self.abs_root), recursive=True)
         self._observer.daemon = True
         self._observer.start()
         self.state, done = start(self.root, self.history, self.authors)
+        self._stats = self._stat_all()
         return [Update(o, r, "startup") for o, r in done]
 
     def stop(self) -> None:
+        for name in ("watchdog.observers.inotify_c", "watchdog.observers.inotify"):
+            logging.getLogger(name).removeHandler(self._listener)
         self._stop.set()
         with self._cond:
             self._cond.notify_all()
@@ -99,25 +133,54 @@ class Watcher:
         return rel
 
     def touch(self, path: Path, is_directory: bool) -> None:
+        """Called from the observer thread: note the path, nothing more."""
         rel = self._rel(path)
-        if rel is None:
-            return
-        rels = []
-        if is_directory:
-            d = self.root / rel
-            if d.is_dir():
-                rels += [p.relative_to(self.root).as_posix() for p in d.glob("*.yaml")]
-            if self.state is not None:
-                rels += [r for r in list(self.state.hashes) if r.startswith(rel + "/")]
-        elif rel.endswith(".yaml"):
-            rels.append(rel)
-        if not rels:
+        if rel is None or not (is_directory or rel.endswith(".yaml")):
             return
         now = time.monotonic()
         with self._cond:
-            for r in rels:
-                self._pending[r] = now
+            if is_directory:
+                self._dirs.add(rel)
+            else:
+                self._pending[rel] = now
             self._cond.notify_all()
+
+    def request_rescan(self) -> None:
+        with self._cond:
+            self._rescan = True
+            self._cond.notify_all()
+
+    def _stat_all(self) -> dict[str, tuple]:
+        out = {}
+        for rel, path in self.state.disk_files().items():
+            try:
+                st = os.stat(path)
+            except OSError:
+                continue
+            out[rel] = (st.st_size, st.st_mtime_ns, st.st_ino)
+        return out
+
+    def _expand(self) -> None:
+        """Main thread, lock held: turn folder events, a rescan request or the safety scan due into
+        files to look at (their content is compared, so looking at an unchanged file costs little)."""
+        now = time.monotonic()
+        if self._rescan:
+            self._rescan = False
+            for rel in set(self.state.disk_files()) | set(self.state.hashes):
+                self._pending.setdefault(rel, now - self.debounce_s)
+        for rel in self._dirs:
+            d = self.root / rel
+            found = [p.relative_to(self.root).as_posix() for p in d.glob("*.yaml")] if d.is_dir() else []
+            for r in found + [r for r in self.state.hashes if r.startswith(rel + "/")]:
+                self._pending[r] = now
+        self._dirs.clear()
+        if now - self._last_scan >= SAFETY_SCAN_S and not self._pending:
+            self._last_scan = now
+            stats = self._stat_all()
+            for rel in set(stats) | set(self._stats):
+                if stats.get(rel) != self._stats.get(rel):
+                    self._pending.setdefault(rel, now - self.debounce_s)
+            self._stats = stats
 
     def _due(self) -> tuple[list[str], float | None]:
         now = time.monotonic()
@@ -137,6 +200,7 @@ class Watcher:
         deadline = None if timeout is None else time.monotonic() + timeout
         with self._cond:
             while not self._stop.is_set():
+                self._expand()
                 due, wait = self._due()
                 if due:
                     break
@@ -151,6 +215,11 @@ class Watcher:
     def process(self, rels: list[str]) -> list[Update]:
         updates = []
         for rel in rels:
+            try:
+                st = os.stat(self.root / rel)
+                self._stats[rel] = (st.st_size, st.st_mtime_ns, st.st_ino)
+            except OSError:
+                self._stats.pop(rel, None)
             outcome = self.state.apply_disk(rel)
             if outcome is None:
                 continue

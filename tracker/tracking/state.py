@@ -17,7 +17,7 @@ from tracker import graph as G
 from tracker.checks.site import SiteResult, evaluate_site, explain_circuit
 from tracker.loading.errors import InputError
 from tracker.loading.estate import (SITE_FILE, STATE_DIR, EstateError, FileResult, _read_text, assemble_site,
-                                    sha256_hex, site_folders)
+                                    _inside, sha256_hex, site_files, site_folders)
 from tracker.model import Site
 from tracker.tracking import impact
 from tracker.tracking.diff import ADDED, REMOVED, Change, diff_file, elements
@@ -122,11 +122,11 @@ class EstateState:
         except EstateError:
             return out
         for folder, _rel in folders:
-            for path in sorted(folder.glob("*.yaml")):
-                if path.is_file() and not path.name.startswith("."):
-                    rel = path.relative_to(self.root).as_posix()
-                    if self.folder_of(rel) is not None:
-                        out[rel] = path
+            files, _ = site_files(folder, self.root)   # the loader's rules: no links out of the estate
+            for path in files:
+                rel = path.relative_to(self.root).as_posix()
+                if self.folder_of(rel) is not None:
+                    out[rel] = path
         return out
 
     # -- seeding without outcomes ----------------------------------------------------------
@@ -185,10 +185,12 @@ class EstateState:
     # -- applying changes -----------------------------------------------------------------
 
     def apply_disk(self, rel: str) -> FileOutcome | None:
-        """Re-read one file from disk (or notice it is gone) and apply the change."""
+        """Re-read one file from disk (or notice it is gone) and apply the change. A link that
+        leads out of the estate is not followed: the file counts as absent."""
         path = self.root / rel
         try:
-            raw = path.read_bytes() if path.is_file() else None
+            inside = not path.is_symlink() or _inside(self.root, path)
+            raw = path.read_bytes() if inside and path.is_file() else None
         except OSError as exc:
             if rel not in self.hashes:
                 return None
