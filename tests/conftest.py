@@ -15,6 +15,14 @@ def pytest_addoption(parser):
     parser.addoption("--soak", action="store_true", default=False, help="run the long soak tests")
 
 
+def pytest_terminal_summary(terminalreporter):
+    from tests.reliability.conftest import FIGURES
+    if FIGURES:
+        terminalreporter.section("reliability figures")
+        for name, value in FIGURES.items():
+            terminalreporter.write_line(f"{name}: {value}")
+
+
 def pytest_collection_modifyitems(config, items):
     if config.getoption("--soak"):
         return
