@@ -290,7 +290,12 @@ def test_unrecorded_changes_are_flagged(swapped, capsys, tmp_path):
     assert doc["site"]["files"][0]["state"] == "changed-since" and doc["summary"]["files_pending"] is True
     light = next(p for p in doc["problems"] if p["ref"] == f"{SITE}/CU1/5")
     vd = next(k for k in light["open_checks"] if k["id"] == "voltage-drop")
-    assert vd["cause"] is None and "not been recorded" in vd["cause_note"]
+    assert vd["cause"] is None and vd["cause_note"] == ("not in the history yet: quill-court-2/site.yaml "
+                                                        "changed after its last recorded revision")
+    other = json.loads(_report(capsys, root, tmp_path / "o.json", "json", site="orchard-end"))
+    assert other["site"]["files"][0]["state"] == "not-recorded"       # the swap recorded only quill-court-2
+    assert other["problems"][0]["open_checks"][0]["cause_note"].startswith("not in the history yet: it holds no "
+                                                                          "record of orchard-end/site.yaml")
 
 
 def test_since_limits_the_history_section_only(swapped, capsys, tmp_path):

@@ -140,7 +140,7 @@ def _cause(key, failing: dict, by_id: dict) -> dict | None:
     }
 
 
-def _no_cause_reason(status: str, history_state: str, files_pending: bool) -> str:
+def _no_cause_reason(status: str, history_state: str, files: list[dict]) -> str:
     if history_state == "none":
         return "no history recorded yet"
     if history_state == "unreadable":
@@ -149,15 +149,18 @@ def _no_cause_reason(status: str, history_state: str, files_pending: bool) -> st
         return "the history records when checks start failing; this check is not assessed, so it has no cause entry"
     if status == WARN:
         return "the history records when checks start failing; this is an advisory, so it has no cause entry"
-    if files_pending:
-        return "not in the history yet: the site files hold changes that have not been recorded"
+    never = [f["file"] for f in files if f["state"] == "not-recorded"]
+    changed = [f["file"] for f in files if f["state"] == "changed-since"]
+    if never:
+        return f"not in the history yet: it holds no record of {', '.join(never)}"
+    if changed:
+        return f"not in the history yet: {', '.join(changed)} changed after its last recorded revision"
     return "no failing event recorded for this check"
 
 
 def _problems(sr: SiteResult, circuits: list[dict], boards: list[dict], origin: dict,
               hist: dict) -> list[dict]:
     failing, acks, by_id = hist["failing"], hist["acks"], hist["by_id"]
-    pending = hist["files_pending"]
     items = []
     for entry, kind, checks in (
             [(c, "circuit", c["checks"]) for c in circuits]
@@ -174,7 +177,7 @@ def _problems(sr: SiteResult, circuits: list[dict], boards: list[dict], origin: 
             since = max(cause["revision"], cause["worse_revision"] or 0) if cause else 0
             covered = ack is not None and chk["id"] in ack["checks"] and ack["revision"] > since
             listed.append({**chk, "cause": cause,
-                           "cause_note": None if cause else _no_cause_reason(chk["status"], hist["state"], pending),
+                           "cause_note": None if cause else _no_cause_reason(chk["status"], hist["state"], hist["files"]),
                            "acknowledged": covered})
         items.append({
             "ref": ref, "kind": kind,

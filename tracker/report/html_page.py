@@ -27,7 +27,8 @@ UNIT_TEXT = {"ohm": "Ω", "mm2": "mm²"}
 SOURCE_TEXT = {"watch": "seen by the watcher", "replace": "logged replacement", "ack": "acknowledgement",
                "startup": "found at start"}
 TRANSITION_MARK = {"newly-failing": FAIL, "worse": FAIL, "cleared": PASS, "input-error": WARN}
-BASIS_TEXT = {"device-rating": "In", "ring": "ring", "design-current": "Ib"}
+# What Iz is held against, where it is not simply the device (for a rewirable fuse that is In/0.725).
+BASIS_TEXT = {"ring": "ring", "design-current": "on Ib"}
 
 
 # -- formatting ----------------------------------------------------------------------------
@@ -207,11 +208,11 @@ def _circuit_row(c: dict) -> Safe:
     loads = ", ".join(ld["name"] or ld["kind"] for ld in c["loads"])
     if loads:
         what.append(el("div", loads, class_="small"))
-    device = [el("span", dev["label"], class_="nowrap")]
-    if c.get("rcd_ma"):
-        device.append(el("div", f"RCD {plain(c['rcd_ma'], 'mA')}", class_="small"))
+    device = [dev["label"]]
+    extra = [f"{plain(c['rcd_ma'], 'mA')} RCD" if c.get("rcd_ma") else "no RCD"]
     if dev["breaking_ka"] is not None:
-        device.append(el("div", f"{plain(dev['breaking_ka'], 'kA')} breaking", class_="small"))
+        extra.append(plain(dev["breaking_ka"], "kA"))
+    device.append(el("div", ", ".join(extra), class_="small"))
     cpc = f"{fmt(cab['cpc_mm2'], 2)}" if cab["cpc_mm2"] is not None else "?"
     cable = [el("span", f"{fmt(cab['csa_mm2'], 2)}/{cpc} mm²", class_="nowrap"),
              el("div", cab["kind"], class_="small nowrap"),
@@ -221,13 +222,12 @@ def _circuit_row(c: dict) -> Safe:
     if fl["unit"] == "ohm" and fl["limit"] is not None:
         zs_limit = f"≤ {num(fl['limit'], digits=3)}"
     elif fl["unit"] != "ohm" and fl["value"] is not None:
-        zs_limit = f"by RCD: {num(fl['value'], fl['unit'])} ≤ {num(fl['limit'], fl['unit'])}"
+        zs_limit = f"RA·IΔn {num(fl['value'], fl['unit'])} ≤ {num(fl['limit'], fl['unit'])}"
     else:
         zs_limit = None
-    open_ids = [k["id"] for k in c["checks"] if k["status"] != PASS]
     verdict = [badge(c["status"])]
-    if open_ids:
-        verdict.append(el("div", ", ".join(open_ids), class_="small"))
+    verdict += [el("div", mark(k["status"], 9), " ", k["id"], class_="small")
+                for k in c["checks"] if k["status"] != PASS]
     return el("tr",
               el("td", c["id"]),
               el("td", what),
@@ -236,7 +236,7 @@ def _circuit_row(c: dict) -> Safe:
               _figure(c, c["ib_a"], "design-current", None),
               el("td", plain(c["in_a"]), class_="n"),
               _figure(c, c["iz_a"], "capacity",
-                      f"≥ {num(cap['limit'])} {BASIS_TEXT.get(c['basis'], c['basis'])}" if cap["limit"] is not None
+                      f"≥ {num(cap['limit'])} {BASIS_TEXT.get(c['basis'], '')}".rstrip() if cap["limit"] is not None
                       else None),
               _figure(c, c["vd_pct"], "voltage-drop",
                       f"≤ {num(c['vd_limit_pct'])}" if c["vd_limit_pct"] is not None else None),
@@ -246,12 +246,12 @@ def _circuit_row(c: dict) -> Safe:
 
 
 def _circuits(doc: dict) -> Safe:
-    widths = (5, 18, 11, 13, 7, 5, 9, 7, 8, 6, 11)
+    widths = (5, 17, 12, 12, 7, 5, 9, 7, 8, 7, 11)
     cols = el("colgroup", [el("col", style=f"width:{w}%") for w in widths])
     head = el("thead", el("tr", el("th", "Way"), el("th", "Circuit"), el("th", "Protective device"),
                           el("th", "Cable line/cpc"), el("th", "Ib A", class_="n"), el("th", "In A", class_="n"),
                           el("th", "Iz A", class_="n"), el("th", "VD %", class_="n"),
-                          el("th", "Zs Ω", class_="n"), el("th", "Head-room kW", class_="n"), el("th", "Verdict")))
+                          el("th", "Zs Ω", class_="n"), el("th", "Head\u00adroom kW", class_="n"), el("th", "Verdict")))
     body = []
     for b in doc["boards"]:
         rows = [c for c in doc["circuits"] if c["board"] == b["id"]]
@@ -261,8 +261,9 @@ def _circuits(doc: dict) -> Safe:
     return cat(el("h2", "3. Circuits", id="circuits"),
                el("table", cols, head, el("tbody", body), class_="data circuits"),
                el("p", "Ib: design current. In: rated current of the protective device. Iz: current-carrying "
-                       "capacity of the cable as installed, with what it must carry under it (≥ In, ≥ 20 A for a "
-                       "ring, or ≥ Ib where the cable is sized on the design current). VD: voltage drop from the "
+                       "capacity of the cable as installed, with what it must carry under it (In; 20 A for a "
+                       "qualifying ring; Ib where the cable is sized on the design current; In/0.725 behind a "
+                       "rewirable fuse). VD: voltage drop from the "
                        "origin to the far end, in % of U0, with its limit. Zs: earth fault loop impedance at the far "
                        "end, with the device's maximum (or, where an RCD gives fault protection, RA·IΔn ≤ 50 V). "
                        "Headroom: the extra load the circuit could take before a check of it, or of a board or "

@@ -46,6 +46,7 @@ table.circuits, table.fixed { table-layout: fixed; }
 table.fixed td { overflow-wrap: anywhere; }
 table.kv th { width: 40%; }
 table.circuits td, table.circuits th { padding: 1mm .9mm; overflow-wrap: anywhere; }
+table.circuits .st { white-space: normal; }
 table.details td:first-child { width: 22mm; } table.details td:nth-child(2) { width: 30mm; }
 table.details td:nth-child(3) { width: 42mm; white-space: normal; }
 tr.group th { background: var(--soft); font-size: 8.5pt; color: var(--ink); border-bottom: 1px solid var(--rule); }
