@@ -24,7 +24,7 @@ CHECK_NAMES = {
     "demand": "maximum demand",
 }
 UNIT_TEXT = {"ohm": "Ω", "mm2": "mm²"}
-SOURCE_TEXT = {"watch": "seen by the watcher", "replace": "logged replacement", "ack": "acknowledgement",
+SOURCE_TEXT = {"watch": "seen by the watcher", "replace": "replacement", "ack": "acknow\u00adledgement",
                "startup": "found at start"}
 TRANSITION_MARK = {"newly-failing": FAIL, "worse": FAIL, "cleared": PASS, "input-error": WARN}
 # What Iz is held against, where it is not simply the device (for a rewirable fuse that is In/0.725).
@@ -115,8 +115,10 @@ def _summary(doc: dict) -> Safe:
         PASS: "Every check of every circuit and board holds",
     }[status]
     items = [
-        el("li", f"{c['total']} circuits: {status_count(c)}; {s['boards']} board{'s' if s['boards'] != 1 else ''}; "
-                 f"origin demand {WORD[doc['origin']['status']]}."),
+        el("li", f"{c['total']} circuit{'s' if c['total'] != 1 else ''}: {status_count(c)}; "
+                 f"{s['boards']} board{'s' if s['boards'] != 1 else ''}: "
+                 f"{status_count({st: sum(1 for b in doc['boards'] if b['status'] == st) for st in ORDER})}; "
+                 f"demand at the origin {WORD[doc['origin']['status']]}."),
         el("li", f"{s['problems']} open problem{'s' if s['problems'] != 1 else ''}"
                  + (f", {s['unacknowledged']} not acknowledged." if s["problems"] else ".")),
     ]
@@ -373,11 +375,19 @@ def _show(v) -> str:
     return str(v)
 
 
+def _first_record(r: dict) -> bool:
+    return r["source"] == "startup" and bool(r["changes"]) and all(ch["change"] == "added" for ch in r["changes"])
+
+
+def _source_text(r: dict) -> str:
+    return "first record" if _first_record(r) else SOURCE_TEXT.get(r["source"], r["source"])
+
+
 def _what_changed(r: dict, site_id: str) -> Safe:
     if r.get("ack"):
         return cat("acknowledgement of ", el("code", r["ack"]["ref"]), f" ({', '.join(r['ack']['checks'])})")
     changes = _compact(r["changes"])
-    first = r["source"] == "startup" and changes and all(ch["change"] == "added" for ch in r["changes"])
+    first = _first_record(r)
     lead = el("div", el("code", r["file"] or ""), " — first record" if first else None,
               " (did not load)" if not r["valid"] else None, class_="small")
     if first:
@@ -436,7 +446,7 @@ def _history(doc: dict) -> Safe:
     if not revs:
         return cat(head, el("p", scope))
     rows = [el("tr",
-               el("td", f"#{r['id']}", el("div", SOURCE_TEXT.get(r["source"], r["source"]), class_="small")),
+               el("td", f"#{r['id']}", el("div", _source_text(r), class_="small")),
                el("td", el("span", when(r["at"]).split(" ")[0], class_="nowrap"),
                   el("div", " ".join(when(r["at"]).split(" ")[1:]), class_="small")),
                el("td", r["author"]),
@@ -444,7 +454,7 @@ def _history(doc: dict) -> Safe:
                el("td", _what_changed(r, doc["site"]["id"])),
                el("td", _what_it_did(r, doc["site"]["id"])), data_revision=r["id"])
             for r in revs]
-    cols = el("colgroup", [el("col", style=f"width:{w}%") for w in (9, 11, 11, 19, 24, 26)])
+    cols = el("colgroup", [el("col", style=f"width:{w}%") for w in (12, 11, 11, 18, 24, 24)])
     table = el("table", cols, el("thead", el("tr", el("th", "Rev."), el("th", "When"), el("th", "Who"), el("th", "Why"),
                                        el("th", "What changed (before → after)"), el("th", "What it did"))),
                el("tbody", rows), class_="data history fixed")
@@ -521,7 +531,8 @@ def _foot(doc: dict) -> Safe:
               el("p", el("b", "Caution. "), doc["caution"]),
               el("p", f"Made by izwatch {doc['tool']['version']} on {when(doc['generated_at'])} from the site files "
                       "listed in section 6 and the history they were checked against. The figures are the checks' own "
-                      "(see the appendix); where data was missing a check says not assessed and why."))
+                      "(the appendix that follows gives the working of each); where data was missing a check says not "
+                      "assessed and why."))
 
 
 def _contents() -> Safe:
@@ -550,7 +561,7 @@ def render(doc: dict) -> str:
                el("aside", el("b", "Caution. "), doc["caution"], class_="caution"),
                _contents(), _warnings(doc),
                _supply(doc), _diagram(doc), _circuits(doc), _problems(doc), _history(doc), _integrity(doc),
-               _appendix(doc), _foot(doc))
+               _foot(doc), _appendix(doc))
     return _page(f"Installation report — {site['name'] or site['id']}",
                  f"izwatch report · {site['id']} · {doc['generated_at'][:10]}", body)
 
@@ -564,16 +575,17 @@ def render_index(index: dict) -> str:
                            el("td", badge(FAIL, "not loaded")),
                            el("td", el("ul", [el("li", e["text"]) for e in s["errors"]], class_="plain small"), colspan=3)))
             continue
-        rows.append(el("tr", el("td", el("a", el("code", s["id"]), href=s["report"])), el("td", s["name"]),
+        rows.append(el("tr", el("td", el("a", el("code", s["id"], class_="nowrap"), href=s["report"])),
+                       el("td", s["name"]),
                        el("td", badge(s["status"])), el("td", status_count(s["circuits"])),
                        el("td", f"{s['problems']} ({s['unacknowledged']} not acknowledged)", class_="n"),
-                       el("td", when(s["last_change"]) if s["last_change"] else "—")))
+                       el("td", when(s["last_change"]) if s["last_change"] else "none recorded")))
     v = index["verification"]
     ver = {"intact": badge(PASS, f"intact, {v['revisions']} revisions"), "broken": badge(FAIL, "does not verify"),
            "unreadable": badge(FAIL, "unreadable"), "none": badge(NOT_ASSESSED, "none recorded yet")}[v["state"]]
     body = cat(
         el("header", el("p", "Electrical installation reports — index", class_="kicker"),
-           el("h1", f"{len(index['sites'])} sites"),
+           el("h1", f"Installation reports: {len(index['sites'])} site{'s' if len(index['sites']) != 1 else ''}"),
            el("dl", el("dt", "Estate"), el("dd", el("code", index["estate"])),
               el("dt", "Report made"), el("dd", f"{when(index['generated_at'])} with izwatch {index['tool']['version']}"),
               el("dt", "History"), el("dd", ver, " ", v["problem"] or ""),

@@ -43,7 +43,8 @@ th.n { white-space: normal; }
 td.n .lim { display: block; color: var(--muted); font-size: 7.3pt; white-space: normal; }
 .nowrap { white-space: nowrap; }
 table.circuits, table.fixed { table-layout: fixed; }
-table.fixed td { overflow-wrap: anywhere; }
+table.fixed td { overflow-wrap: break-word; }
+table.fixed td .change, table.fixed td code { overflow-wrap: anywhere; }
 table.kv th { width: 40%; }
 table.circuits td, table.circuits th { padding: 1mm .9mm; overflow-wrap: anywhere; }
 table.circuits .st { white-space: normal; }
@@ -75,7 +76,7 @@ ul.events li { margin-bottom: .6mm; }
 .yes { font-weight: bold; }
 .appendix h4 { border-top: 1px solid var(--rule); padding-top: 1.5mm; }
 table.details td.detail { font-size: 7.8pt; color: #2c3644; }
-footer { margin-top: 8mm; padding-top: 2mm; border-top: 1.5px solid var(--ink); font-size: 8.3pt; color: var(--muted); }
+footer { margin: 8mm 0 4mm; padding-top: 2mm; border-top: 1.5px solid var(--ink); font-size: 8.3pt; color: var(--muted); }
 a { color: #1d4f91; }
 @media print {
   html { background: #fff; }
@@ -83,7 +84,8 @@ a { color: #1d4f91; }
   .page { max-width: none; margin: 0; padding: 0; box-shadow: none; }
   .contents { display: none; }
   h2, h3, h4, h2 + .note { break-after: avoid; }
-  tr, .problem, .summary, .caution, .figure, .meta, .keep { break-inside: avoid; }
+  tr, .problem, .summary, .caution, .figure, .meta, .keep, footer { break-inside: avoid; }
+  .appendix { break-before: page; }
   thead { display: table-header-group; }
   .figure { overflow: visible; }
   svg.one-line { max-height: 240mm; width: auto; }
