@@ -186,6 +186,35 @@ def test_diagram_draws_the_sub_main_before_the_board_it_feeds(demo_copy):
                      + ["orchard-end/WS1"] + [f"orchard-end/WS1/{n}" for n in range(1, 5)])
 
 
+def test_a_large_site_is_drawn_in_slices_that_join(site_factory):
+    from tracker.loading import load_estate
+    circuits = "".join(f"""
+  - id: "{n}"
+    board: CU1
+    name: "Lighting {n}"
+    device: {{kind: rcbo, curve: B, rating_a: 6, breaking_ka: 6}}
+    rcd_ma: 30
+    cable: {{kind: twin-earth-70, csa_mm2: 1.5, length_m: 10, method: "100"}}
+    loads: [{{id: l, kind: lighting, power_kw: 0.1}}]""" for n in range(1, 61))
+    root = site_factory("site:\n  id: big\nsupply: {system: TN-C-S, ze_ohm: 0.3, pfc_ka: 1.5}\n"
+                        "boards:\n  - {id: CU1, fed_by: supply, main_switch_a: 100}\ncircuits:" + circuits + "\n")
+    estate = load_estate(root)
+    site = estate.sites["big"]
+    doc = gather.build(site, estate.loads[site.folder].files, root / "none.sqlite")
+    page = Page(diagram.render(doc))
+    svgs = page.find("svg", class_="one-line")
+    boxes = [tuple(float(v) for v in s["viewbox" if "viewbox" in s else "viewBox"].split()) for s in svgs]
+    # 60 circuits of 38 px and two boxes: taller than one slice of diagram.SLICE_H.
+    assert len(svgs) >= 3 and all(h <= diagram.SLICE_H for _, _, _, h in boxes)
+    assert all(a[1] + a[3] == b[1] for a, b in zip(boxes, boxes[1:]))      # each slice starts where the last ended
+    refs = [n["data-ref"] for n in page.find("g", class_="node")]
+    assert refs == ["big", "big/CU1"] + [f"big/CU1/{n}" for n in range(1, 61)]   # every node once, in order
+    # The busbar runs on through every slice boundary.
+    busbars = [(float(a["y1"]), float(a["y2"])) for a in page.find("line", class_="busbar")]
+    for (_, top, _, h) in boxes[1:]:
+        assert any(y1 == top for y1, _ in busbars) and any(y2 == top for _, y2 in busbars)
+
+
 # -- CSV ---------------------------------------------------------------------------------------
 
 def test_csv_one_row_per_circuit_plain_numbers(swapped, capsys, tmp_path):

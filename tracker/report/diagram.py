@@ -75,11 +75,15 @@ def _text_w(text: str, size: float) -> float:
 
 
 def render(doc: dict) -> Safe:
+    """The diagram as one SVG per slice of at most SLICE_H px: together they read as one drawing,
+    and in print each slice fits a page at full size, however many circuits the site has."""
     labels = _labels(doc)
     rows = _rows(doc["one_line"])
     y = PAD
     placed = {}                       # ref -> (x, y, connector y, line x, bottom y)
-    shapes, lines, width = [], [], 0.0
+    items = []                        # (top, bottom, markup): every drawn thing with its vertical extent
+    spans = []                        # (top, bottom) of each row
+    width = 0.0
     for node, depth, parent in rows:
         kind = node["kind"]
         x = PAD + depth * INDENT
@@ -97,8 +101,7 @@ def render(doc: dict) -> Safe:
                 el("text", el("tspan", first, font_weight="bold"), x=text_x, y=cy + 4, font_size=12, fill=INK),
                 el("text", second, x=text_x, y=cy + 18, font_size=10, fill=MUTED),
             )
-            w = max(_text_w(first, 12), _text_w(second, 10))
-            right = text_x + w
+            right = text_x + max(_text_w(first, 12), _text_w(second, 10))
         else:
             bh = 34 if kind == "origin" else 32
             cy = y + bh / 2
@@ -113,25 +116,49 @@ def render(doc: dict) -> Safe:
             )
             line_x, bottom = x + 15, y + bh
             right = x + w
+        connector = None
         if parent is not None:
             px = placed[parent][3]
-            lines.append(svg_el("line", x1=px, y1=cy, x2=x, y2=cy, stroke=LINE, stroke_width=1.3))
+            connector = svg_el("line", x1=px, y1=cy, x2=x, y2=cy, stroke=LINE, stroke_width=1.3)
         placed[node["ref"]] = (x, y, cy, line_x, bottom)
-        shapes.append(el("g", el("title", hover), body, class_=f"node node-{kind}", data_ref=node["ref"],
-                         data_status=node["status"]))
+        items.append((y, y + h, cat(connector, el("g", el("title", hover), body, class_=f"node node-{kind}",
+                                                    data_ref=node["ref"], data_status=node["status"]))))
+        spans.append((y, y + h))
         width = max(width, right)
         y += h
     # The line each node's children hang from: a busbar under a board, a cable under the rest.
+    hanging = []
     for node, _, _ in rows:
-        if not node["children"]:
-            continue
-        _, _, _, lx, bottom = placed[node["ref"]]
-        last = placed[node["children"][-1]["ref"]][2]
-        lines.insert(0, svg_el("line", x1=lx, y1=bottom, x2=lx, y2=last, stroke=LINE,
-                               stroke_width=3.2 if node["kind"] == "board" else 1.3,
-                               class_="busbar" if node["kind"] == "board" else None))
+        if node["children"]:
+            _, _, _, lx, bottom = placed[node["ref"]]
+            hanging.append((lx, bottom, placed[node["children"][-1]["ref"]][2], node["kind"] == "board"))
     w_total, h_total = int(width + PAD + 6), int(y + PAD - 6)
-    return el("svg", el("title", f"One-line diagram of {doc['site']['id']}"), cat(lines), cat(shapes),
-              xmlns="http://www.w3.org/2000/svg", class_="one-line", viewBox=f"0 0 {w_total} {h_total}",
-              width=w_total, height=h_total, font_family=FONT, role="img",
-              aria_label=f"One-line diagram of {doc['site']['id']}: origin, boards and circuits with their states")
+    cuts = _slices(spans, h_total)
+    out = []
+    for i, (top, bottom) in enumerate(cuts):
+        lines = [svg_el("line", x1=lx, y1=max(y1, top), x2=lx, y2=min(y2, bottom), stroke=LINE,
+                        stroke_width=3.2 if busbar else 1.3, class_="busbar" if busbar else None)
+                 for lx, y1, y2, busbar in hanging if y1 < bottom and y2 > top]
+        shapes = [markup for t, b, markup in items if t >= top and b <= bottom]
+        part = f", part {i + 1} of {len(cuts)}" if len(cuts) > 1 else ""
+        title = f"One-line diagram of {doc['site']['id']}{part}"
+        out.append(el("svg", el("title", title), cat(lines), cat(shapes),
+                      xmlns="http://www.w3.org/2000/svg", class_="one-line", viewBox=f"0 {top} {w_total} {bottom - top}",
+                      width=w_total, height=bottom - top, font_family=FONT, role="img",
+                      aria_label=f"{title}: origin, boards and circuits with their states"))
+    return cat(out)
+
+
+SLICE_H = 860   # px: a slice and its page's running footer fit an A4 page (about 233 mm at full size)
+
+
+def _slices(spans: list[tuple[float, float]], total: int) -> list[tuple[int, int]]:
+    """Cut the drawing between rows into slices no taller than SLICE_H (a row is never cut)."""
+    cuts, top = [], 0
+    for row_top, row_bottom in spans:
+        if row_bottom - top > SLICE_H:
+            cut = int(row_top)    # the slice ends where this row begins
+            cuts.append((top, cut))
+            top = cut
+    cuts.append((top, total))
+    return cuts

@@ -181,13 +181,15 @@ def _board_row(b: dict) -> Safe:
 
 
 def _diagram(doc: dict) -> Safe:
+    drawing = diagram.render(doc)
+    one_piece = drawing.count("<svg") == 1
     return cat(el("h2", "2. One-line diagram", id="diagram"),
                el("div",
                   el("p", "From the origin of the supply through each board to every circuit, and on through each "
                           "sub-main to the board it feeds. Each box is marked with its state; each circuit shows its "
                           "protective device, cable, Ib and Iz.", class_="note"),
                   _legend(),
-                  el("div", diagram.render(doc), class_="figure"), class_="keep"))
+                  el("div", drawing, class_="figure"), class_="keep" if one_piece else None))
 
 
 def _figure(c: dict, value, check_id: str, limit_text: str | None, digits: int = 2) -> Safe:

@@ -57,7 +57,7 @@ tr.group th { background: var(--soft); font-size: 8.5pt; color: var(--ink); bord
 .mk { vertical-align: -1.5px; }
 .legend { display: flex; flex-wrap: wrap; gap: 1mm 6mm; font-size: 8.3pt; margin: 2mm 0; padding: 0; list-style: none; }
 .figure { border: 1px solid var(--rule); padding: 3mm; margin: 2mm 0; overflow-x: auto; }
-svg.one-line { display: block; max-width: 100%; height: auto; }
+svg.one-line { display: block; max-width: 100%; height: auto; margin: 0; }
 .problem { border: 1px solid var(--rule); border-left: 4px solid var(--rule); padding: 2mm 3.5mm; margin: 2.5mm 0; }
 .problem.p-fail { border-left-color: var(--fail); }
 .problem.p-not-assessed { border-left-color: var(--na); }
@@ -84,11 +84,11 @@ a { color: #1d4f91; }
   .page { max-width: none; margin: 0; padding: 0; box-shadow: none; }
   .contents { display: none; }
   h2, h3, h4, h2 + .note { break-after: avoid; }
-  tr, .problem, .summary, .caution, .figure, .meta, .keep, footer { break-inside: avoid; }
+  tr, .problem, .summary, .caution, .meta, .keep, footer { break-inside: avoid; }
   .appendix { break-before: page; }
   thead { display: table-header-group; }
   .figure { overflow: visible; }
-  svg.one-line { max-height: 240mm; width: auto; }
+  svg.one-line { break-inside: avoid; }
   a { color: inherit; text-decoration: none; }
 }
 """
