@@ -240,6 +240,17 @@ def test_csv_one_row_per_circuit_plain_numbers(swapped, capsys, tmp_path):
     assert next(r for r in rows if r["ref"] == f"{SITE}/CU1/1")["acknowledged"] == ""   # passes: nothing to ack
 
 
+def test_csv_keeps_formula_like_names_as_text(demo_copy, capsys, tmp_path):
+    site_file = demo_copy / SITE / "site.yaml"
+    site_file.write_text(site_file.read_text(encoding="utf-8").replace(
+        'name: "Shower, bathroom"', 'name: "=HYPERLINK(\\"http://x.invalid\\",\\"click\\")"'), encoding="utf-8")
+    shower_swap_and_ack(demo_copy, capsys)            # headroom −0.45 kW (README): a negative number
+    rows = list(csv.DictReader(io.StringIO(_report(capsys, demo_copy, tmp_path / "r.csv", "csv"), newline="")))
+    shower = next(r for r in rows if r["ref"] == SHOWER_CIRCUIT)
+    assert shower["name"] == "'=HYPERLINK(\"http://x.invalid\",\"click\")"
+    assert shower["headroom_kw"] == "-0.45" and float(shower["headroom_kw"]) == -0.45   # numbers stay numbers
+
+
 # -- JSON --------------------------------------------------------------------------------------
 
 def test_json_validates_and_holds_what_the_html_holds(swapped, capsys, tmp_path):

@@ -3,6 +3,7 @@
 UTF-8 without a byte-order mark, a header row, comma-separated, CRLF line ends (RFC 4180).
 Numbers are plain numbers (units live in the column names, as everywhere in izwatch); an empty
 cell is a figure that was not assessed (the check columns say which and `open_checks` why not).
+Text that a spreadsheet would run as a formula (it begins with = + - @) gets a leading apostrophe.
 """
 from __future__ import annotations
 
@@ -65,11 +66,17 @@ INDEX_COLUMNS = ["site", "name", "status", "circuits", "pass", "fail", "warn", "
                  "unacknowledged", "last_change", "report", "errors"]
 
 
+FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
 def _cell(value):
     if value is None:
         return ""
     if isinstance(value, bool):
         return "yes" if value else "no"
+    if isinstance(value, str) and value.startswith(FORMULA_START):
+        # A name or note a spreadsheet would take for a formula is kept as text.
+        return "'" + value
     return value
 
 
