@@ -128,8 +128,8 @@ def _summary(doc: dict) -> Safe:
         "unreadable": badge(FAIL, "unreadable"), "none": badge(NOT_ASSESSED, "none recorded yet")}[ver["state"]],
         " (section 6)."))
     if s["files_pending"]:
-        items.append(el("li", badge(WARN, "site files changed"),
-                        " since the history last recorded them: these changes are not in the history yet (section 6)."))
+        items.append(el("li", badge(WARN, "site files not in the history as they are now"),
+                        ": their latest changes are not recorded yet (section 6)."))
     return el("section", el("p", badge(status, headline), class_="headline"), el("ul", items),
               class_=f"summary s-{status}")
 

@@ -15,8 +15,6 @@ MEANING = {
 }
 SHAPE = {PASS: "round, with a tick", FAIL: "square, with a cross", WARN: "triangle, with '!'",
          NOT_ASSESSED: "dashed ring, with '?'"}
-# One text glyph per state for plain-text places (CSV has the status word instead).
-GLYPH = {PASS: "✓", FAIL: "✗", WARN: "!", NOT_ASSESSED: "?"}
 COLOUR = {PASS: "#1d7a46", FAIL: "#c0262d", WARN: "#e3a21a", NOT_ASSESSED: "#56608f"}
 ORDER = (FAIL, NOT_ASSESSED, WARN, PASS)
 
