@@ -94,6 +94,25 @@ def build_parser() -> argparse.ArgumentParser:
     _add_path(p)
     _add_db(p)
     p.set_defaults(func=_run("tracker.commands.verify"))
+
+    p = sub.add_parser("report", help="the landlord's report: the installation, its state and its change history",
+                       description="Write a site's report: site and supply, one-line diagram, every circuit's "
+                                   "figures and verdict, the open problems with their cause, acknowledgement and "
+                                   "remedy, the change history and the result of verifying it. The history is only "
+                                   "read. Exit 0: written; 2: bad input.")
+    _add_path(p)
+    which = p.add_mutually_exclusive_group(required=True)
+    which.add_argument("--site", metavar="ID", help="the site to report on")
+    which.add_argument("--all-sites", action="store_true",
+                       help="one report per site, and an index, into the folder given by -o")
+    p.add_argument("--format", choices=("html", "csv", "json"), default="html",
+                   help="html: a document to print or hand over (default); csv: one row per circuit; "
+                        "json: the whole report, machine-readable (schema/report.schema.json)")
+    p.add_argument("-o", "--output", required=True, metavar="FILE",
+                   help="the file to write ('-': standard output); with --all-sites, a folder")
+    p.add_argument("--since", metavar="DATE", help="history section: only revisions at or after DATE (YYYY-MM-DD)")
+    _add_db(p)
+    p.set_defaults(func=_run("tracker.commands.report"))
     return parser
 
 

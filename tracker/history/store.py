@@ -130,6 +130,35 @@ class History:
                                "restore it from a backup or move it aside") from None
         return store
 
+    @classmethod
+    def open_for_reading(cls, path: Path | str) -> History:
+        """Open an existing store that nothing may write through (the landlord's report).
+
+        An ordinary connection with ``PRAGMA query_only``: every write is refused, no migration
+        runs, and the journal mode is left as it is. A ``mode=ro`` connection would leave the WAL
+        index files behind when it closes; this one removes them as the last reader leaves, so
+        the folder and the database's bytes are as they were."""
+        path = Path(path)
+        if not path.exists():
+            raise HistoryError(f"{path}: no history recorded yet")
+        if path.stat().st_size == 0:
+            raise HistoryError(f"{path}: the history file is empty (truncated?)")
+        try:
+            conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
+            conn.execute("PRAGMA query_only = ON")
+            conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
+            bad = [r[0] for r in conn.execute("PRAGMA quick_check").fetchall()]
+            if bad != ["ok"]:
+                conn.close()
+                raise HistoryError(f"{path}: the history database is damaged ({bad[0]})")
+            version = conn.execute("PRAGMA user_version").fetchone()[0]
+            if version != SCHEMA_VERSION:
+                conn.close()
+                raise HistoryError(f"{path}: history schema {version}, this izwatch reads schema {SCHEMA_VERSION}")
+        except sqlite3.DatabaseError as exc:
+            raise HistoryError(f"{path}: not a usable izwatch history ({exc})") from None
+        return cls(sqlite_utils.Database(conn), path)
+
     def _migrate(self) -> None:
         version = self.db.execute("PRAGMA user_version").fetchone()[0]
         if version > SCHEMA_VERSION:

@@ -1,0 +1,308 @@
+"""The report document (izwatch.report/1): everything the landlord's report says about one site,
+gathered once, as plain JSON-able data. Every format renders this document and nothing else.
+
+The numbers are the engine's (rounded as `check --json` rounds them); nothing is recomputed here.
+The history is opened for reading only. Where a figure or a record is missing, the document says
+so and why instead of leaving it out.
+"""
+from __future__ import annotations
+
+from datetime import datetime, timezone
+from pathlib import Path
+
+from tracker import __version__
+from tracker.checks.context import build_facts, device_label
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, UNIT_DIGITS, WARN
+from tracker.checks.site import SiteResult, evaluate_site
+from tracker.graph import BOARD, CIRCUIT, LOAD, build_graph, kind_of
+from tracker.history import History, HistoryError
+from tracker.history import query
+from tracker.history.verify import verify
+from tracker.model import Site
+from tracker.output.json_out import CAUTION, circuit_entry
+
+SCHEMA = "izwatch.report/1"
+STATUSES = (PASS, FAIL, WARN, NOT_ASSESSED)
+VERIFY_SCOPE = "the whole history file (every site recorded in it)"
+
+
+def _r(x, digits=2):
+    return None if x is None else round(x, digits)
+
+
+def _iso(moment: datetime) -> str:
+    return moment.astimezone(timezone.utc).isoformat(timespec="seconds").replace("+00:00", "Z")
+
+
+# -- the installation ----------------------------------------------------------------------
+
+def _supply(site: Site, sr: SiteResult) -> dict:
+    s = site.supply
+    used = next(iter(sr.boards.values())).ctx.supply.pfc_ka if sr.boards else s.pfc_ka
+    return {"system": s.system, "u0_v": s.u0_v, "ze_ohm": s.ze_ohm, "pfc_ka": s.pfc_ka,
+            "pfc_used_ka": _r(used), "service_fuse_a": s.service_fuse_a,
+            "electrode_ohm": s.electrode_ohm, "private": s.private}
+
+
+def _origin(sr: SiteResult) -> dict:
+    chk = sr.supply_check
+    return {"ref": sr.site.id, "status": chk.status, "demand_a": _r(chk.value), "check": chk.as_json()}
+
+
+def _board(sr: SiteResult, b) -> dict:
+    board = sr.site.board(b.board_id)
+    ctx = b.ctx
+    return {
+        "ref": b.ref, "id": b.board_id, "name": board.name, "fed_by": board.fed_by,
+        "fed_via": ctx.fed_via, "main_switch_a": board.main_switch_a, "rcd_ma": board.rcd_ma,
+        "conditional_rating_ka": board.conditional_rating_ka,
+        "file": board.src.file if board.src else None,
+        "status": b.status, "demand_a": _r(b.demand.demand_a),
+        "demand_parts": [{"category": cat, "connected_a": _r(conn), "allowed_a": _r(allowed)}
+                         for cat, conn, allowed in b.demand.parts],
+        "not_counted": list(b.demand.unknown),
+        "pfc_ka": _r(ctx.pfc_ka), "loop_at_board_ohm": _r(ctx.z_ext_ohm, 3),
+        "check": b.check.as_json(),
+    }
+
+
+def _circuit(sr: SiteResult, r) -> dict:
+    c = r.circuit
+    entry = circuit_entry(sr, r)          # the check --json entry: the same figures, the same rounding
+    facts = build_facts(c, r.ctx, r.fed_demand_a)
+    vd = r.check("voltage-drop")
+    entry.update({
+        "id": c.id,
+        "topology": c.topology,
+        "feeds": c.feeds,
+        "overload_exempt": c.overload_exempt,
+        "device": {"kind": c.device.kind, "curve": c.device.curve, "rating_a": c.device.rating_a,
+                   "breaking_ka": c.device.breaking_ka, "label": device_label(c.device)},
+        "rcd_ma": r.working.get("rcd_ma"),
+        "cable": {"kind": c.cable.kind, "csa_mm2": c.cable.csa_mm2, "cpc_mm2": facts.cpc_mm2,
+                  "cpc_given": c.cable.cpc_mm2 is not None, "length_m": c.cable.length_m,
+                  "method": c.cable.method},
+        "loads": [{"id": ld.id, "kind": ld.kind, "name": ld.name, "power_kw": ld.power_kw,
+                   "current_a": ld.current_a, "location": ld.location} for ld in c.loads],
+        "vd_pct": _r(vd.value, UNIT_DIGITS["%"]), "vd_limit_pct": _r(vd.limit, UNIT_DIGITS["%"]),
+        "zs_ohm": _r(r.working.get("zs_ohm"), 3), "max_zs_ohm": _r(r.working.get("max_zs_ohm"), 3),
+    })
+    entry.setdefault("remedy", None)
+    return entry
+
+
+def _one_line(site: Site, sr: SiteResult) -> dict:
+    """The tree origin → boards → circuits (→ the board a sub-main feeds → ...), from the graph."""
+    g = build_graph([site])
+    status = {ref: r.status for ref, r in sr.circuits.items()}
+    status.update({ref: b.status for ref, b in sr.boards.items()})
+    status[site.id] = sr.supply_check.status
+
+    def node(ref: str) -> dict:
+        kind = kind_of(g, ref)
+        kids = [n for n in g.successors(ref) if kind_of(g, n) != LOAD]
+        return {"ref": ref, "kind": kind if kind in (BOARD, CIRCUIT) else "origin", "status": status[ref],
+                "children": [node(n) for n in kids]}
+
+    return node(site.id)
+
+
+# -- the history ---------------------------------------------------------------------------
+
+def _file_states(site_files: dict[str, str | None], latest: dict | None) -> list[dict]:
+    out = []
+    for rel, digest in site_files.items():
+        entry = {"file": rel, "sha256": digest, "recorded_revision": None}
+        if latest is None:
+            entry["state"] = "no-history"
+        elif rel not in latest:
+            entry["state"] = "not-recorded"
+        else:
+            rid, chash, valid = latest[rel]
+            entry["recorded_revision"] = rid
+            entry["state"] = "recorded" if chash == digest and valid else "changed-since"
+        out.append(entry)
+    return out
+
+
+def _cause(key, failing: dict, by_id: dict) -> dict | None:
+    found = failing.get(key)
+    if found is None:
+        return None
+    rev = by_id.get(found["revision"], {})
+    return {
+        "revision": found["revision"], "at": found["at"], "author": found["author"], "note": found["note"],
+        "file": found["file"], "source": rev.get("source"), "transition": found["transition"],
+        "worse_revision": found.get("worse_revision"),
+        "first_record": rev.get("source") == "startup" and bool(rev.get("changes"))
+        and all(ch["change"] == "added" for ch in rev["changes"]),
+        "changes": rev.get("changes", []),
+    }
+
+
+def _no_cause_reason(status: str, history_state: str, files: list[dict]) -> str:
+    if history_state == "none":
+        return "no history recorded yet"
+    if history_state == "unreadable":
+        return "the history could not be read"
+    if status == NOT_ASSESSED:
+        return "the history records when checks start failing; this check is not assessed, so it has no cause entry"
+    if status == WARN:
+        return "the history records when checks start failing; this is an advisory, so it has no cause entry"
+    never = [f["file"] for f in files if f["state"] == "not-recorded"]
+    changed = [f["file"] for f in files if f["state"] == "changed-since"]
+    if never:
+        return f"not in the history yet: it holds no record of {', '.join(never)}"
+    if changed:
+        return f"not in the history yet: {', '.join(changed)} changed after its last recorded revision"
+    return "no failing event recorded for this check"
+
+
+def _problems(sr: SiteResult, circuits: list[dict], boards: list[dict], origin: dict,
+              hist: dict) -> list[dict]:
+    failing, acks, by_id = hist["failing"], hist["acks"], hist["by_id"]
+    items = []
+    for entry, kind, checks in (
+            [(c, "circuit", c["checks"]) for c in circuits]
+            + [(b, "board", [b["check"]]) for b in boards]
+            + [(origin, "origin", [origin["check"]])]):
+        open_checks = [chk for chk in checks if chk["status"] != PASS]
+        if not open_checks:
+            continue
+        ref = entry["ref"]
+        ack = acks.get(ref)
+        listed = []
+        for chk in open_checks:
+            cause = _cause((ref, chk["id"]), failing, by_id) if chk["status"] == FAIL else None
+            since = max(cause["revision"], cause["worse_revision"] or 0) if cause else 0
+            covered = ack is not None and chk["id"] in ack["checks"] and ack["revision"] > since
+            listed.append({**chk, "cause": cause,
+                           "cause_note": None if cause else _no_cause_reason(chk["status"], hist["state"], hist["files"]),
+                           "acknowledged": covered})
+        items.append({
+            "ref": ref, "kind": kind,
+            "name": entry.get("name") or ("origin of the supply" if kind == "origin" else ""),
+            "status": entry["status"], "open_checks": listed,
+            "acknowledgement": ack,
+            "acknowledged": all(x["acknowledged"] for x in listed),
+            "remedy": entry.get("remedy") if kind == "circuit" else None,
+        })
+    items.sort(key=lambda p: -SEVERITY[p["status"]])   # stable: file order within a severity
+    return items
+
+
+def _read_history(db: Path, site: Site, site_files: dict, since: str | None) -> dict:
+    """What the report needs from the history, read in one go; the file is never written."""
+    out = {"state": "none", "path": str(db), "reason": None, "since": since, "revisions": [],
+           "revisions_of_site": 0, "latest_at": None, "failing": {}, "acks": {}, "by_id": {}, "files": None,
+           "verification": {"state": "none", "ok": None, "revisions": None, "head_hash": None,
+                            "problem": None, "first_bad": None, "scope": VERIFY_SCOPE}}
+    if not db.exists():
+        out["reason"] = f"no history recorded yet ({db} does not exist)"
+        out["verification"]["problem"] = "no history to verify"
+        out["files"] = _file_states(site_files, None)
+        return out
+    try:
+        history = History.open_for_reading(db)
+    except HistoryError as exc:
+        out.update(state="unreadable", reason=str(exc))
+        out["verification"].update(state="unreadable", ok=False, problem=str(exc))
+        out["files"] = _file_states(site_files, None)
+        return out
+    try:
+        everything = query.revisions(history, ref=site.id)
+        out["by_id"] = {r["id"]: r for r in everything}
+        out["revisions_of_site"] = len(everything)
+        out["latest_at"] = everything[-1]["at"] if everything else None
+        out["revisions"] = ([r for r in everything if r["at"] >= since] if since else everything)
+        out["failing"] = query.failing_since(history)
+        acks = query.latest_acks(history)
+        out["acks"] = {ref: a for ref, a in acks.items() if ref.split("/")[0] == site.id}
+        latest = {f: v for f, v in history.latest_by_file().items() if f in site_files}
+        out["files"] = _file_states(site_files, latest)
+        rep = verify(history)
+        out["verification"].update(state="intact" if rep.ok else "broken", ok=rep.ok, revisions=rep.revisions,
+                                   head_hash=rep.head_hash or None, problem=rep.problem or None,
+                                   first_bad=rep.first_bad)
+        out["state"] = "recorded"
+    finally:
+        history.close()
+    return out
+
+
+# -- the document --------------------------------------------------------------------------
+
+def build(site: Site, site_files: dict[str, str | None], db: Path, since: str | None = None,
+          now: datetime | None = None, warnings=()) -> dict:
+    """The report document of `site`. `site_files`: rel file -> sha256 of its bytes as loaded."""
+    now = now or datetime.now(timezone.utc)
+    sr = evaluate_site(site)
+    circuits = [_circuit(sr, r) for r in sr.circuits.values()]
+    boards = [_board(sr, b) for b in sr.boards.values()]
+    origin = _origin(sr)
+    hist = _read_history(Path(db), site, site_files, since)
+    hist["files_pending"] = any(f["state"] in ("changed-since", "not-recorded") for f in hist["files"])
+    problems = _problems(sr, circuits, boards, origin, hist)
+    counts = {s: sum(1 for c in circuits if c["status"] == s) for s in STATUSES}
+    history = {k: hist[k] for k in ("state", "path", "reason", "since", "revisions_of_site", "latest_at")}
+    history["revisions"] = [_revision(r) for r in hist["revisions"]]
+    return {
+        "schema": SCHEMA,
+        "generated_at": _iso(now),
+        "tool": {"name": "izwatch", "version": __version__},
+        "caution": CAUTION,
+        "site": {"id": site.id, "name": site.name, "rules": site.rules, "premises": site.premises,
+                 "folder": site.folder, "files": hist["files"]},
+        "supply": _supply(site, sr),
+        "summary": {
+            "status": sr.status,
+            "circuits": {"total": len(circuits), **counts},
+            "boards": len(boards),
+            "problems": len(problems),
+            "unacknowledged": sum(1 for p in problems if not p["acknowledged"]),
+            "files_pending": hist["files_pending"],
+        },
+        "origin": origin,
+        "boards": boards,
+        "circuits": circuits,
+        "one_line": _one_line(site, sr),
+        "problems": problems,
+        "history": history,
+        "verification": hist["verification"],
+        "warnings": [w.as_json() for w in warnings],
+    }
+
+
+def _revision(r: dict) -> dict:
+    keep = ("id", "at", "author", "note", "source", "file", "site", "valid", "content_hash", "hash",
+            "changes", "events")
+    out = {k: r[k] for k in keep}
+    out["ack"] = r.get("ack")
+    return out
+
+
+INDEX_SCHEMA = "izwatch.report-index/1"
+
+
+def index(docs: list[tuple[dict, str]], failed: list[tuple[str, list]], estate: str,
+          now: datetime | None = None, verification: dict | None = None) -> dict:
+    """The index of `--all-sites`: `docs` as (report document, its file name), `failed` as
+    (site folder, input errors) for the sites that did not load."""
+    now = now or datetime.now(timezone.utc)
+    sites = []
+    for doc, name in docs:
+        sites.append({"id": doc["site"]["id"], "name": doc["site"]["name"], "report": name,
+                      "status": doc["summary"]["status"], "circuits": doc["summary"]["circuits"],
+                      "problems": doc["summary"]["problems"], "unacknowledged": doc["summary"]["unacknowledged"],
+                      "last_change": doc["history"]["latest_at"], "errors": []})
+    for folder, errors in failed:
+        sites.append({"id": folder, "name": None, "report": None, "status": None, "circuits": None,
+                      "problems": None, "unacknowledged": None, "last_change": None,
+                      "errors": [e.as_json() for e in errors]})
+    sites.sort(key=lambda s: s["id"])
+    if verification is None:
+        verification = docs[0][0]["verification"] if docs else {
+            "state": "none", "ok": None, "revisions": None, "head_hash": None, "problem": "no site loaded",
+            "first_bad": None, "scope": VERIFY_SCOPE}
+    return {"schema": INDEX_SCHEMA, "generated_at": _iso(now), "tool": {"name": "izwatch", "version": __version__},
+            "caution": CAUTION, "estate": estate, "verification": verification, "sites": sites}
