@@ -245,3 +245,9 @@ def test_duplicate_site_ids(site_factory):
     site_factory(text, folder="a")
     root = site_factory(text, folder="b")
     assert _errors(root) == ["b/site.yaml:1:1: site id 'same' is already used by a/site.yaml; site ids must be unique"]
+
+
+def test_site_id_of_the_wrong_type(site_factory):
+    """Found by the structural fuzzer: a non-text site.id once reached the id check."""
+    errs = _errors(site_factory(MINIMAL.replace('name: "Test flat"', 'id: true\n  name: "Test flat"')))
+    assert errs == ["flat-1/site.yaml:2:3: site.id: expected text, got true"]

@@ -182,8 +182,10 @@ def _read_text(raw: bytes, rel: str, digest: str) -> FileResult:
         result.broken = _broken_ids(doc, bad)
     p = build.Problems(rel)
     build.build_top(doc, p)
-    if isinstance(doc.get("site"), dict) and ("site",) not in bad:
+    if isinstance(doc.get("site"), dict) and not any(b[:1] == ("site",) for b in bad):
         result.site_meta = doc["site"]
+    elif "site" in doc:
+        result.broken.add("site")
     if "supply" in doc and ("supply",) not in bad and not any(b[:1] == ("supply",) for b in bad):
         result.supply = build.build_supply(doc["supply"], p)
     elif "supply" in doc:
@@ -258,7 +260,7 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
         errors.append(InputError(main.rel, 1, 1, f"{SITE_FILE} needs a 'supply' section (system, ze_ohm, ...)"))
     meta = main.site_meta or {}
     site_id = meta.get("id") or (folder_name if rel_folder == "" else rel_folder)
-    if not SITE_ID.match(site_id):
+    if "site" not in broken and not SITE_ID.match(site_id):   # (a broken site: has its schema errors already)
         errors.append(InputError(main.rel, 1, 1, f"the folder name '{site_id}' is not a valid site id "
                                                  "(lower-case letters, digits, '.', '_', '-'); give site.id"))
     boards = [b for r in results for b in r.boards]
