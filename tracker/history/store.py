@@ -119,7 +119,7 @@ class History:
             db.execute("PRAGMA journal_mode = WAL")
             db.execute("PRAGMA synchronous = NORMAL")
             if path.stat().st_size > 0:
-                bad = [r[0] for r in db.execute("PRAGMA quick_check").fetchall()]
+                bad = [r[0] for r in db.execute("PRAGMA integrity_check").fetchall()]
                 if bad != ["ok"]:
                     raise HistoryError(f"{path}: the history database is damaged ({bad[0]}); it is left as it "
                                        "is — restore it from a backup (see README, 'Reliability')")
@@ -147,7 +147,7 @@ class History:
             conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
             conn.execute("PRAGMA query_only = ON")
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
-            bad = [r[0] for r in conn.execute("PRAGMA quick_check").fetchall()]
+            bad = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall()]
             if bad != ["ok"]:
                 conn.close()
                 raise HistoryError(f"{path}: the history database is damaged ({bad[0]})")
