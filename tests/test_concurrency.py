@@ -87,3 +87,16 @@ def test_concurrent_writers_of_the_same_change(tmp_path):
         t.join()
     assert sorted(results) == [False] + [True] * 7
     assert verify(History.open(path)).ok
+
+
+def test_processes_creating_the_history_at_once(tmp_path):
+    """Found with two watchers started together: the second once saw the first's new, still
+    empty file and took it for a truncated history. A new history is now linked into place whole."""
+    path = tmp_path / ".izwatch" / "history.sqlite"
+    code = ("import sys; from tracker.history import History; h = History.open(sys.argv[1]); "
+            "print(h.db.execute('PRAGMA user_version').fetchone()[0])")
+    procs = [subprocess.Popen([sys.executable, "-c", code, str(path)], stdout=subprocess.PIPE,
+                              stderr=subprocess.PIPE, text=True) for _ in range(6)]
+    outs = [p.communicate(timeout=60) for p in procs]
+    assert [o[0].strip() for o in outs] == ["1"] * 6, [o[1] for o in outs]
+    assert sorted(p.name for p in path.parent.iterdir() if not p.name.startswith("history.sqlite")) == []

@@ -9,7 +9,9 @@ the same file state impossible even so.
 from __future__ import annotations
 
 import json
+import os
 import sqlite3
+import tempfile
 import zlib
 from contextlib import contextmanager
 from dataclasses import dataclass, field
@@ -108,8 +110,8 @@ class History:
         if not path.exists():
             if not create:
                 raise HistoryError(f"{path}: no history recorded yet")
-            path.parent.mkdir(parents=True, exist_ok=True)
-        elif path.stat().st_size == 0:
+            cls._create(path)
+        if path.stat().st_size == 0:
             raise HistoryError(f"{path}: the history file is empty (truncated?); it is left as it is — "
                                "restore it from a backup or move it aside")
         try:
@@ -158,6 +160,27 @@ class History:
         except sqlite3.DatabaseError as exc:
             raise HistoryError(f"{path}: not a usable izwatch history ({exc})") from None
         return cls(sqlite_utils.Database(conn), path)
+
+    @classmethod
+    def _create(cls, path: Path) -> None:
+        """Make a new, migrated history at `path` atomically: built in a temporary file beside it and
+        linked into place only if nothing is there yet (another process may be creating it too)."""
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=".history-", suffix=".sqlite", dir=str(path.parent))
+        os.close(fd)
+        try:
+            conn = sqlite3.connect(tmp)
+            store = cls(sqlite_utils.Database(conn), Path(tmp))
+            store._migrate()
+            conn.close()
+            try:
+                os.link(tmp, path)
+            except FileExistsError:
+                pass   # another process made it first: use theirs
+        finally:
+            for leftover in (tmp, tmp + "-wal", tmp + "-shm", tmp + "-journal"):
+                if os.path.exists(leftover):
+                    os.unlink(leftover)
 
     def _migrate(self) -> None:
         version = self.db.execute("PRAGMA user_version").fetchone()[0]
