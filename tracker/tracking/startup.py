@@ -8,13 +8,14 @@ brought up to date file by file, each change recorded like any other.
 """
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 from tracker.history import History, NewRevision
 from tracker.loading.estate import sha256_hex
 from tracker.tracking.authors import Authors
 from tracker.tracking.diff import ADDED, Change, elements
-from tracker.tracking.state import EstateState, FileOutcome
+from tracker.tracking.state import EstateState, FileOutcome, seed_in_parallel
 from tracker.tracking.transitions import INPUT_ERROR, compare
 
 
@@ -51,19 +52,20 @@ def _first_record(state: EstateState, contents: dict[str, bytes]) -> list[FileOu
 
 
 def start(root: Path, history: History, authors: Authors, folders: set[str] | None = None,
-          contents: dict[str, bytes] | None = None) -> tuple[EstateState, list[tuple]]:
+          jobs: int | None = None) -> tuple[EstateState, list[tuple]]:
     """(state, [(outcome, recorded)]) with every difference between disk and history recorded.
 
-    `folders` limits the work to some site folders (a `replace` or `ack` needs only its site).
+    `folders` limits the work to some site folders (a `replace` or `ack` needs only its site);
+    `jobs` worker processes seed the folders (default: one per core; 1: in this process).
     """
     state = EstateState(root)
-    if contents is None:
-        contents = {rel: p.read_bytes() for rel, p in state.disk_files().items()
-                    if folders is None or state.folder_of(rel) in folders}
+    disk = {rel: p for rel, p in state.disk_files().items() if folders is None or state.folder_of(rel) in folders}
     recorded = history.latest_by_file()
     if folders is not None:
         recorded = {f: v for f, v in recorded.items() if state.folder_of(f) in folders}
+    jobs = jobs if jobs else (os.cpu_count() or 1)
     if not recorded:
+        contents = {rel: p.read_bytes() for rel, p in disk.items()}
         state.seed(contents)
         outcomes = _first_record(state, contents)
         if len(outcomes) > 20:
@@ -71,31 +73,41 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
         revs = [to_revision(o, "startup", authors(o.file), "first record of this file") for o in outcomes]
         return state, list(zip(outcomes, history.record_many(revs))) if revs else []
 
-    disk_hash = {rel: sha256_hex(raw) for rel, raw in contents.items()}
-    by_folder: dict[str, set[str]] = {}
-    for rel in set(disk_hash) | set(recorded):
+    on_disk: dict[str, list[str]] = {}
+    for rel in disk:
+        on_disk.setdefault(state.folder_of(rel), []).append(rel)
+    known: dict[str, set[str]] = {}
+    for rel in recorded:
         folder = state.folder_of(rel)
         if folder is not None:
-            by_folder.setdefault(folder, set()).add(rel)
-    seed: dict[str, bytes] = {}
+            known.setdefault(folder, set()).add(rel)
+    redo: list[str] = []
+    # Seed every folder from disk (in worker processes for a large estate); a folder whose files
+    # all match the history is taken as it is — the common case, as fast as a plain check.
+    for fs in seed_in_parallel(state, on_disk, jobs):
+        rels = set(on_disk[fs.folder]) | known.get(fs.folder, set())
+        same = all(rel in recorded and recorded[rel][1] == fs.hashes.get(rel) for rel in rels)
+        if same and not fs.errors:
+            state.adopt(fs)
+        else:
+            redo.append(fs.folder)
+    redo += [f for f in known if f not in on_disk]          # folders removed while nothing watched
     pending: list[tuple[str, bytes | None]] = []
-    for folder, rels in by_folder.items():
-        same = all(rel in recorded and rel in disk_hash and recorded[rel][1] == disk_hash[rel] for rel in rels)
-        if same:
-            seed.update({rel: contents[rel] for rel in rels})
+    for folder in redo:
+        rels = set(on_disk.get(folder, ())) | known.get(folder, set())
+        current = {rel: disk[rel].read_bytes() for rel in on_disk.get(folder, ())}
+        changed = [rel for rel in sorted(rels)
+                   if rel not in recorded or recorded[rel][1] != (sha256_hex(current[rel]) if rel in current else None)]
+        if not changed:   # unchanged, but a file does not load: keep its last good state in force
+            state.seed(current, last_good=history.latest_good_content)
             continue
-        for rel in sorted(rels):
-            if rel in recorded:
-                old = history.latest_good_content(rel)
-                if old is not None:
-                    seed[rel] = old
-            if rel not in recorded or recorded[rel][1] != disk_hash.get(rel):
-                pending.append((rel, contents.get(rel)))
-    state.seed(seed, last_good=history.latest_good_content)
-    # The seeded hash of a file is its last good content; the history's latest may be a bad one.
-    for rel, (_, digest, _) in recorded.items():
-        if digest is not None and rel in state.hashes and rel not in dict(pending):
-            state.hashes[rel] = digest
+        # Set the folder to its recorded state, then bring it up to date file by file.
+        old = {rel: history.latest_good_content(rel) for rel in rels if rel in recorded}
+        state.seed({rel: raw for rel, raw in old.items() if raw is not None}, last_good=history.latest_good_content)
+        for rel in rels:
+            if rel in recorded and recorded[rel][1] is not None:
+                state.hashes[rel] = recorded[rel][1]   # the history's latest, even a bad one
+        pending += [(rel, current.get(rel)) for rel in changed]
     done = []
     for rel, raw in pending:
         outcome = state.apply_bytes(rel, raw)

@@ -53,6 +53,78 @@ def _order(results: list[FileResult]) -> list[FileResult]:
     return sorted(results, key=lambda r: (PurePosixPath(r.rel).name != SITE_FILE, r.rel))
 
 
+@dataclass
+class FolderSeed:
+    """One site folder read, assembled and checked (picklable: it may come from a worker)."""
+
+    folder: str
+    good: dict[str, FileResult]
+    hashes: dict[str, str]
+    errors: dict[str, list]
+    site: Site | None = None
+    result: SiteResult | None = None
+    unloadable: tuple[str, ...] = ()     # files that did not load (their last good state was not at hand)
+
+
+def seed_folder(folder: str, folder_name: str, files: dict[str, bytes], last_good=None) -> FolderSeed:
+    """A folder's files → its last good file results, its site and the site's results."""
+    good, hashes, errors, unloadable = {}, {}, {}, []
+    for rel in sorted(files):
+        raw = files[rel]
+        digest = sha256_hex(raw)
+        hashes[rel] = digest
+        fr = _read_text(raw, rel, digest)
+        if fr.errors:
+            errors[rel] = list(fr.errors)
+            older = last_good(rel) if last_good else None
+            if older is None:
+                unloadable.append(rel)
+                continue
+            fr = _read_text(older, rel, sha256_hex(older))
+            if fr.errors:
+                continue
+        good[rel] = fr
+    fs = FolderSeed(folder, good, hashes, errors, unloadable=tuple(unloadable))
+    sl = assemble_site(folder_name, folder, _order(list(good.values())))
+    if sl.site is None:
+        for e in sl.errors:
+            fs.errors.setdefault(e.file, []).append(e)
+        return fs
+    fs.site, fs.result = sl.site, evaluate_site(sl.site, explain=False)
+    return fs
+
+
+def _seed_run(job) -> list[FolderSeed]:
+    """Worker process: seed a run of folders read from disk."""
+    root, run = job
+    out = []
+    for folder, folder_name, rels in run:
+        files = {}
+        for rel in rels:
+            try:
+                files[rel] = (root / rel).read_bytes()
+            except OSError:
+                continue
+        out.append(seed_folder(folder, folder_name, files))
+    return out
+
+
+def seed_in_parallel(state: "EstateState", folders: dict[str, list[str]], jobs: int):
+    """FolderSeeds of the given folders (folder -> site files), in worker processes when there
+    are enough folders for it to pay; yielded in the folders' order."""
+    items = [(f, state.folder_name(f), sorted(rels)) for f, rels in sorted(folders.items())]
+    if jobs <= 1 or len(items) < 40:
+        yield from _seed_run((state.root, items))
+        return
+    import multiprocessing as mp
+    ctx = mp.get_context("fork" if "fork" in mp.get_all_start_methods() else "spawn")
+    size = max(1, min(50, len(items) // (jobs * 8)))
+    runs = [(state.root, items[i:i + size]) for i in range(0, len(items), size)]
+    with ctx.Pool(jobs) as pool:
+        for batch in pool.imap(_seed_run, runs):
+            yield from batch
+
+
 class EstateState:
     def __init__(self, root: Path | str, single_site: bool | None = None):
         self.root = Path(root)
@@ -136,42 +208,40 @@ class EstateState:
 
         `last_good(rel)` may supply the last good bytes of a file that does not load now.
         """
-        by_folder: dict[str, dict[str, FileResult]] = {}
+        by_folder: dict[str, dict[str, bytes]] = {}
         for rel in sorted(contents):
             folder = self.folder_of(rel)
-            if folder is None:
-                continue
-            raw = contents[rel]
-            digest = sha256_hex(raw)
-            self.hashes[rel] = digest
-            fr = _read_text(raw, rel, digest)
-            if fr.errors:
-                self.errors[rel] = fr.errors
-                older = last_good(rel) if last_good else None
-                if older is not None:
-                    prior = _read_text(older, rel, sha256_hex(older))
-                    fr = prior if not prior.errors else None
-                else:
-                    fr = None
-            if fr is not None:
-                by_folder.setdefault(folder, {})[rel] = fr
-            else:
-                by_folder.setdefault(folder, {})
+            if folder is not None:
+                by_folder.setdefault(folder, {})[rel] = contents[rel]
         for folder, files in by_folder.items():
-            self.good[folder] = files
-            ss = self.sites.setdefault(folder, SiteState(folder))
-            sl = assemble_site(self.folder_name(folder), folder, _order(list(files.values())))
-            if sl.site is None:
-                for e in sl.errors:
-                    self.errors.setdefault(e.file, []).append(e)
-                continue
-            if self._id_taken(sl.site.id, folder):
-                self.errors.setdefault(sl.site.files[0], []).append(self._id_error(sl.site))
-                continue
-            ss.site = sl.site
-            ss.result = evaluate_site(sl.site, explain=False)
-            self._place(ss)
-            G.add_site(self.graph, sl.site)
+            self.adopt(seed_folder(folder, self.folder_name(folder), files, last_good))
+
+    def adopt(self, fs: "FolderSeed") -> None:
+        """Take a folder seeded (here or in a worker process) into the state."""
+        self.hashes.update(fs.hashes)
+        for rel, errs in fs.errors.items():
+            self.errors.setdefault(rel, []).extend(errs)
+        self.good[fs.folder] = fs.good
+        ss = self.sites.setdefault(fs.folder, SiteState(fs.folder))
+        if fs.site is None:
+            return
+        if self._id_taken(fs.site.id, fs.folder):
+            self.errors.setdefault(fs.site.files[0], []).append(self._id_error(fs.site))
+            return
+        ss.site, ss.result = fs.site, fs.result
+        self._place(ss)
+        G.add_site(self.graph, fs.site)
+
+    def forget(self, folder: str) -> None:
+        """Drop a folder from the state (to seed it again from other contents)."""
+        ss = self.sites.pop(folder, None)
+        if ss is not None and ss.site is not None:
+            G.remove_site(self.graph, ss.site.id)
+            self.by_id.pop(ss.site.id, None)
+        for rel in [r for r in self.hashes if self.folder_of(r) == folder]:
+            self.hashes.pop(rel, None)
+            self.errors.pop(rel, None)
+        self.good.pop(folder, None)
 
     def _id_taken(self, site_id: str, folder: str) -> bool:
         other = self.site_by_id(site_id)
