@@ -12,6 +12,7 @@ of file sizes and times catches anything else that slipped through.
 """
 from __future__ import annotations
 
+import gc
 import logging
 import os
 import threading
@@ -107,8 +108,16 @@ class Watcher:
         self._observer.schedule(_Handler(self), str(self.abs_root), recursive=True)
         self._observer.daemon = True
         self._observer.start()
-        self.state, done = start(self.root, self.history, self.authors)
-        self._stats = self._stat_all()
+        # The estate's state lives until the watcher stops: build it with the cyclic collector
+        # off, then freeze it, so later collections (after each edit) never scan it again. On a
+        # large estate a full collection over it would take seconds and stall every edit.
+        gc.disable()
+        try:
+            self.state, done = start(self.root, self.history, self.authors)
+            self._stats = self._stat_all()
+        finally:
+            gc.freeze()
+            gc.enable()
         return [Update(o, r, "startup") for o, r in done]
 
     def stop(self) -> None:

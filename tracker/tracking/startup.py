@@ -66,7 +66,11 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
     jobs = jobs if jobs else (os.cpu_count() or 1)
     if not recorded:
         contents = {rel: p.read_bytes() for rel, p in disk.items()}
-        state.seed(contents)
+        by_folder: dict[str, list[str]] = {}
+        for rel in contents:
+            by_folder.setdefault(state.folder_of(rel), []).append(rel)
+        for fs in seed_in_parallel(state, by_folder, jobs):
+            state.adopt(fs)
         outcomes = _first_record(state, contents)
         if len(outcomes) > 20:
             authors.preload()

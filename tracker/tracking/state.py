@@ -137,6 +137,7 @@ class EstateState:
         self.graph = nx.DiGraph()
         self.errors: dict[str, list[InputError]] = {}   # rel -> open input errors
         self.by_id: dict[str, str] = {}              # site id -> folder
+        self._id_of: dict[str, str] = {}             # folder -> site id
 
     # -- where files belong ----------------------------------------------------------------
 
@@ -180,11 +181,15 @@ class EstateState:
 
     def _place(self, ss: SiteState) -> None:
         self.sites[ss.folder] = ss
-        for sid, folder in list(self.by_id.items()):
-            if folder == ss.folder and (ss.site is None or sid != ss.site.id):
-                del self.by_id[sid]
-        if ss.site is not None:
-            self.by_id[ss.site.id] = ss.folder
+        old = self._id_of.get(ss.folder)
+        new = ss.site.id if ss.site is not None else None
+        if old is not None and old != new and self.by_id.get(old) == ss.folder:
+            del self.by_id[old]
+        if new is not None:
+            self.by_id[new] = ss.folder
+            self._id_of[ss.folder] = new
+        else:
+            self._id_of.pop(ss.folder, None)
 
     def disk_files(self) -> dict[str, Path]:
         """Every site file on disk now: rel -> path."""
@@ -231,17 +236,6 @@ class EstateState:
         ss.site, ss.result = fs.site, fs.result
         self._place(ss)
         G.add_site(self.graph, fs.site)
-
-    def forget(self, folder: str) -> None:
-        """Drop a folder from the state (to seed it again from other contents)."""
-        ss = self.sites.pop(folder, None)
-        if ss is not None and ss.site is not None:
-            G.remove_site(self.graph, ss.site.id)
-            self.by_id.pop(ss.site.id, None)
-        for rel in [r for r in self.hashes if self.folder_of(r) == folder]:
-            self.hashes.pop(rel, None)
-            self.errors.pop(rel, None)
-        self.good.pop(folder, None)
 
     def _id_taken(self, site_id: str, folder: str) -> bool:
         other = self.site_by_id(site_id)
@@ -348,6 +342,7 @@ class EstateState:
         if old_site is not None:
             G.remove_site(self.graph, old_site.id)
             self.by_id.pop(old_site.id, None)
+        self._id_of.pop(folder, None)
         self.sites.pop(folder, None)
         site_id = old_site.id if old_site is not None else None
         return FileOutcome(rel, folder, site_id, None, None, True, [], changes, events, results)
