@@ -159,7 +159,8 @@ def end_to_end(path: Path, edits: int) -> dict:
                                      (text, "cleared")):
             t = time.perf_counter()
             site.write_text(new_text)
-            t_line, _ = w.wait_for(lambda d: d.get("file") == rel and d.get("transition") == transition, 60)
+            t_line, _ = w.wait_for(lambda d, rel=rel, tr=transition: d.get("file") == rel
+                                   and d.get("transition") == tr, 60)
             latencies.append(t_line - t)
             time.sleep(0.05)
     watch_rss = w.stop()

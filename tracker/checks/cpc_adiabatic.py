@@ -49,8 +49,5 @@ def run(f: Facts, w: dict) -> CheckResult:
                f"S ≥ √(I²t)/k = {s_min:.2f} mm² {'≤' if ok else '>'} cpc {f.cpc_mm2:g} mm² — 543.1.3{extra}"
                ) if f.explain else ""
     if not ok and not sure:
-        return not_assessed(ID, "mm2", ">=", f"{working}; with only an upper bound of the disconnection time "
-                                             "the cpc cannot be shown adequate or inadequate: the device's "
-                                             "time-current or let-through data is needed",
-                            value=f.cpc_mm2, limit=s_min)
+        return protection.bound_only(ID, working, "the cpc", f.cpc_mm2, s_min)
     return CheckResult(ID, verdict(ok), f.cpc_mm2, s_min, "mm2", ">=", working)

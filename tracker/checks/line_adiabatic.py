@@ -56,8 +56,5 @@ def _computed(f: Facts, w: dict) -> CheckResult:
               f"Table 43.1): S ≥ {s_min:.2f} mm² {'≤' if ok else '>'} {c.cable.csa_mm2:g} mm² — 434.5.2"
               ) if f.explain else ""
     if not ok and not sure:
-        return not_assessed(ID, "mm2", ">=", f"{detail}; with only an upper bound of the disconnection time the "
-                                             "conductors cannot be shown adequate or inadequate: the device's "
-                                             "time-current or let-through data is needed",
-                            value=c.cable.csa_mm2, limit=s_min)
+        return protection.bound_only(ID, detail, "the conductors", c.cable.csa_mm2, s_min)
     return CheckResult(ID, verdict(ok), c.cable.csa_mm2, s_min, "mm2", ">=", detail)

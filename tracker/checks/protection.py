@@ -89,6 +89,16 @@ def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
     return None, "", False
 
 
+def bound_only(check_id: str, working: str, what: str, value: float, limit: float):
+    """The verdict where a check fails only on an upper bound of the disconnection time: not shown
+    adequate, not shown inadequate either — not assessed."""
+    from tracker.checks.result import not_assessed
+    return not_assessed(check_id, "mm2", ">=", f"{working}; with only an upper bound of the disconnection time "
+                                               f"{what} cannot be shown adequate or inadequate: the device's "
+                                               "time-current or let-through data is needed",
+                        value=value, limit=limit)
+
+
 def fault_energy_a2s(f: Facts, current_a: float, t_s: float, by_overcurrent_device: bool) -> tuple[float, str]:
     """Energy I²t let through to the fault: I² × the time bound, or, for an MCB/RCBO in its
     instantaneous region, the maker's let-through energy where the site file gives it."""

@@ -98,7 +98,7 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
     d0 = c.device
     breaking = breaking if breaking is not None else d0.breaking_ka
     cables = {}
-    for cost, rating, curve, csa, rcd in out:
+    for _cost, rating, curve, csa, rcd in out:
         device = Device(d0.kind, rating, curve, breaking, d0.max_zs_ohm, d0.let_through_a2s)
         cable = cables.get(csa)
         if cable is None:

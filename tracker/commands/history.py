@@ -7,16 +7,9 @@ import re
 from tracker.cli import EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path, fail, open_history
 from tracker.history import query
+from tracker.tracking.diff import show_value
 
 DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
-
-
-def _show(v) -> str:
-    if v is None:
-        return "(none)"
-    if isinstance(v, float):
-        return f"{v:g}"
-    return str(v)
 
 
 def render(revisions: list[dict]) -> str:
@@ -27,7 +20,7 @@ def render(revisions: list[dict]) -> str:
         lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {r['author']}{note}")
         for c in r["changes"]:
             if c["change"] == "modified":
-                lines.append(f"    {c['ref']} {c['field']} {_show(c['old'])} → {_show(c['new'])}")
+                lines.append(f"    {c['ref']} {c['field']} {show_value(c['old'])} → {show_value(c['new'])}")
             else:
                 lines.append(f"    {c['ref']} {c['change']}")
         for e in r["events"]:

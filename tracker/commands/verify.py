@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 from tracker.cli import EXIT_FAIL, EXIT_OK
-from tracker.commands.common import CommandError, check_root, db_path, fail, open_history
+from tracker.commands.common import CommandError, check_root, db_path, open_history
 from tracker.history.verify import verify
 
 

@@ -49,7 +49,7 @@ def run(args) -> int:
         state = watcher.state
         n_sites = len([s for s in state.sites.values() if s.site is not None])
         n_circuits = sum(len(s.site.circuits) for s in state.sites.values() if s.site is not None)
-        for rel, errs in sorted(state.errors.items()):
+        for _, errs in sorted(state.errors.items()):
             for e in errs:
                 print(e, file=sys.stderr)
         failing = sum(1 for sr in state.site_results() for r in sr.circuits.values() if r.status == "fail")

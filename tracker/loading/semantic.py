@@ -74,7 +74,7 @@ def _check_circuits(circuits: list[Circuit], boards: dict[str, Board], broken):
             yield _err(c, ("loads",), f"a sub-main feeding {c.feeds} carries that board's load; "
                                       "list loads on the circuits of that board instead")
         load_ids: set[str] = set()
-        for j, ld in enumerate(c.loads):
+        for ld in c.loads:
             if ld.id in load_ids:
                 yield _err(ld, ("id",), f"load id '{ld.id}' is already used in this circuit")
             load_ids.add(ld.id)

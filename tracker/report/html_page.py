@@ -8,6 +8,7 @@ from tracker.report import diagram
 from tracker.report.markup import Safe, cat, el
 from tracker.report.style import stylesheet
 from tracker.report.symbols import MEANING, ORDER, SHAPE, WORD, badge, mark
+from tracker.tracking.diff import show_value
 
 # No script may run and nothing may be fetched, whatever ends up in the page.
 CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'"
@@ -362,19 +363,9 @@ def _compact(changes: list[dict]) -> list[dict]:
 def _change_line(ch: dict, site_id: str) -> str:
     ref = _short(ch["ref"], site_id)
     if ch["change"] == "modified":
-        return f"{ref} {ch['field']}: {_show(ch['old'])} → {_show(ch['new'])}"
+        return f"{ref} {ch['field']}: {show_value(ch['old'])} → {show_value(ch['new'])}"
     what = {0: "site", 1: "board", 2: "circuit", 3: "load"}.get(_depth(ch["ref"]), "element")
     return f"{ref} {what} {ch['change']}"
-
-
-def _show(v) -> str:
-    if v is None:
-        return "(none)"
-    if isinstance(v, float):
-        return f"{v:g}"
-    if isinstance(v, bool):
-        return "true" if v else "false"
-    return str(v)
 
 
 def _first_record(r: dict) -> bool:

@@ -22,13 +22,16 @@ class Change:
 
     def __str__(self) -> str:
         if self.change == MODIFIED:
-            return f"{self.ref} {self.field} {_show(self.old)} → {_show(self.new)}"
+            return f"{self.ref} {self.field} {show_value(self.old)} → {show_value(self.new)}"
         return f"{self.ref} {self.change}"
 
 
-def _show(value) -> str:
+def show_value(value) -> str:
+    """A field's value as a change line shows it: 7.5, true, (none)."""
     if value is None:
         return "(none)"
+    if isinstance(value, bool):
+        return "true" if value else "false"
     if isinstance(value, float):
         return f"{value:g}"
     return str(value)
