@@ -96,7 +96,7 @@ class Watcher:
 
     # -- start ----------------------------------------------------------------------------
 
-    def start(self) -> list[Update]:
+    def start(self, progress=None) -> list[Update]:
         """Reconcile with the history (recording offline changes), then start watching.
 
         Watching starts before the reconciliation reads the files, so nothing saved meanwhile is
@@ -113,7 +113,7 @@ class Watcher:
         # large estate a full collection over it would take seconds and stall every edit.
         gc.disable()
         try:
-            self.state, done = start(self.root, self.history, self.authors)
+            self.state, done = start(self.root, self.history, self.authors, progress=progress)
             self._stats = self._stat_all()
         finally:
             gc.freeze()

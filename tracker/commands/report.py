@@ -12,6 +12,7 @@ from pathlib import Path
 from tracker.cli import EXIT_INPUT, EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path, fail, folder_of_site
 from tracker.commands.history import DATE
+from tracker.progress import Progress
 from tracker.loading import load_estate, load_site
 
 FORMATS = ("html", "csv", "json")
@@ -99,10 +100,17 @@ def _all_sites(root: Path, args, since, db: Path) -> int:
         raise CommandError(f"-o {out}: that is a site file or the history")
     render, render_index = _renderers(args.format)
     pages = []
-    for site in estate.sites.values():
-        doc = gather.build(site, estate.loads[site.folder].files, db, since=since,
-                           warnings=[w for w in estate.warnings if w.file.startswith(site.folder)])
-        pages.append((doc, f"{site.id}.{args.format}", render(doc)))
+    reader = gather.HistoryReader(db)   # the history read once for every site
+    progress = Progress(len(estate.sites), "writing reports")
+    try:
+        for site in estate.sites.values():
+            doc = gather.build(site, estate.loads[site.folder].files, db, since=since,
+                               warnings=[w for w in estate.warnings if w.file.startswith(site.folder)], reader=reader)
+            pages.append((doc, f"{site.id}.{args.format}", render(doc)))
+            progress.advance()
+    finally:
+        reader.close()
+        progress.close()
     loaded_folders = {s.folder for s in estate.sites.values()}
     failed = [(folder or root.name, sl.errors or [e for e in estate.errors if e.file.startswith(folder)])
               for folder, sl in estate.loads.items() if folder not in loaded_folders]

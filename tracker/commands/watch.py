@@ -7,6 +7,7 @@ import sys
 import threading
 
 from tracker.cli import EXIT_OK
+from tracker.progress import Progress
 from tracker.commands.common import CommandError, check_root, db_path, event_line, fail, open_history
 from tracker.tracking.authors import Authors
 from tracker.watcher import Watcher
@@ -44,7 +45,9 @@ def run(args) -> int:
     signal.signal(signal.SIGINT, on_signal)
     signal.signal(signal.SIGTERM, on_signal)
     try:
-        updates = watcher.start()
+        progress = Progress(0, "loading sites")
+        updates = watcher.start(progress)
+        progress.close()
         emit_updates(updates, args.json, args.verbose)
         state = watcher.state
         n_sites = len([s for s in state.sites.values() if s.site is not None])

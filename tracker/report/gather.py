@@ -191,56 +191,85 @@ def _problems(sr: SiteResult, circuits: list[dict], boards: list[dict], origin: 
     return items
 
 
-def _read_history(db: Path, site: Site, site_files: dict, since: str | None) -> dict:
-    """What the report needs from the history, read in one go; the file is never written."""
-    out = {"state": "none", "path": str(db), "reason": None, "since": since, "revisions": [],
-           "revisions_of_site": 0, "latest_at": None, "failing": {}, "acks": {}, "by_id": {}, "files": None,
-           "verification": {"state": "none", "ok": None, "revisions": None, "head_hash": None,
-                            "problem": None, "first_bad": None, "scope": VERIFY_SCOPE}}
-    if not db.exists():
-        out["reason"] = f"no history recorded yet ({db} does not exist)"
-        out["verification"]["problem"] = "no history to verify"
-        out["files"] = _file_states(site_files, None)
-        return out
-    try:
-        history = History.open_for_reading(db)
-    except HistoryError as exc:
-        out.update(state="unreadable", reason=str(exc))
-        out["verification"].update(state="unreadable", ok=False, problem=str(exc))
-        out["files"] = _file_states(site_files, None)
-        return out
-    try:
-        everything = query.revisions(history, ref=site.id)
+class HistoryReader:
+    """The history as the report reads it: opened once (query only), with what is the same for
+    every site of the estate — failure causes, acknowledgements, files' latest states, the chain's
+    verification — worked out once; `for_site` adds the site's own revisions. Never writes."""
+
+    def __init__(self, db: Path):
+        self.db = Path(db)
+        self.history = None
+        self.error: str | None = None
+        if not self.db.exists():
+            return
+        try:
+            self.history = History.open_for_reading(self.db)
+        except HistoryError as exc:
+            self.error = str(exc)
+            return
+        self.failing = query.failing_since(self.history)
+        self.acks = query.latest_acks(self.history)
+        self.latest = self.history.latest_by_file()
+        self.report = verify(self.history)
+
+    def close(self) -> None:
+        if self.history is not None:
+            self.history.close()
+            self.history = None
+
+    def for_site(self, site: Site, site_files: dict, since: str | None) -> dict:
+        db = self.db
+        out = {"state": "none", "path": str(db), "reason": None, "since": since, "revisions": [],
+               "revisions_of_site": 0, "latest_at": None, "failing": {}, "acks": {}, "by_id": {}, "files": None,
+               "verification": {"state": "none", "ok": None, "revisions": None, "head_hash": None,
+                                "problem": None, "first_bad": None, "scope": VERIFY_SCOPE}}
+        if self.history is None and self.error is None:
+            out["reason"] = f"no history recorded yet ({db} does not exist)"
+            out["verification"]["problem"] = "no history to verify"
+            out["files"] = _file_states(site_files, None)
+            return out
+        if self.error is not None:
+            out.update(state="unreadable", reason=self.error)
+            out["verification"].update(state="unreadable", ok=False, problem=self.error)
+            out["files"] = _file_states(site_files, None)
+            return out
+        everything = query.revisions(self.history, ref=site.id)
         out["by_id"] = {r["id"]: r for r in everything}
         out["revisions_of_site"] = len(everything)
         out["latest_at"] = everything[-1]["at"] if everything else None
         out["revisions"] = ([r for r in everything if r["at"] >= since] if since else everything)
-        out["failing"] = query.failing_since(history)
-        acks = query.latest_acks(history)
-        out["acks"] = {ref: a for ref, a in acks.items() if ref.split("/")[0] == site.id}
-        latest = {f: v for f, v in history.latest_by_file().items() if f in site_files}
-        out["files"] = _file_states(site_files, latest)
-        rep = verify(history)
+        out["failing"] = self.failing
+        out["acks"] = {ref: a for ref, a in self.acks.items() if ref.split("/")[0] == site.id}
+        out["files"] = _file_states(site_files, {f: v for f, v in self.latest.items() if f in site_files})
+        rep = self.report
         out["verification"].update(state="intact" if rep.ok else "broken", ok=rep.ok, revisions=rep.revisions,
                                    head_hash=rep.head_hash or None, problem=rep.problem or None,
                                    first_bad=rep.first_bad)
         out["state"] = "recorded"
+        return out
+
+
+def _read_history(db: Path, site: Site, site_files: dict, since: str | None) -> dict:
+    """What the report of one site needs from the history, read in one go."""
+    reader = HistoryReader(db)
+    try:
+        return reader.for_site(site, site_files, since)
     finally:
-        history.close()
-    return out
+        reader.close()
 
 
 # -- the document --------------------------------------------------------------------------
 
 def build(site: Site, site_files: dict[str, str | None], db: Path, since: str | None = None,
-          now: datetime | None = None, warnings=()) -> dict:
-    """The report document of `site`. `site_files`: rel file -> sha256 of its bytes as loaded."""
+          now: datetime | None = None, warnings=(), reader: HistoryReader | None = None) -> dict:
+    """The report document of `site`. `site_files`: rel file -> sha256 of its bytes as loaded.
+    `reader`: a HistoryReader shared by the reports of many sites (else the history is read here)."""
     now = now or datetime.now(timezone.utc)
     sr = evaluate_site(site)
     circuits = [_circuit(sr, r) for r in sr.circuits.values()]
     boards = [_board(sr, b) for b in sr.boards.values()]
     origin = _origin(sr)
-    hist = _read_history(Path(db), site, site_files, since)
+    hist = reader.for_site(site, site_files, since) if reader else _read_history(Path(db), site, site_files, since)
     hist["files_pending"] = any(f["state"] in ("changed-since", "not-recorded") for f in hist["files"])
     problems = _problems(sr, circuits, boards, origin, hist)
     counts = {s: sum(1 for c in circuits if c["status"] == s) for s in STATUSES}

@@ -52,11 +52,12 @@ def _first_record(state: EstateState, contents: dict[str, bytes]) -> list[FileOu
 
 
 def start(root: Path, history: History, authors: Authors, folders: set[str] | None = None,
-          jobs: int | None = None) -> tuple[EstateState, list[tuple]]:
+          jobs: int | None = None, progress=None) -> tuple[EstateState, list[tuple]]:
     """(state, [(outcome, recorded)]) with every difference between disk and history recorded.
 
     `folders` limits the work to some site folders (a `replace` or `ack` needs only its site);
-    `jobs` worker processes seed the folders (default: one per core; 1: in this process).
+    `jobs` worker processes seed the folders (default: one per core; 1: in this process);
+    `progress` (a tracker.progress.Progress, or None) is advanced once per site folder.
     """
     state = EstateState(root)
     disk = {rel: p for rel, p in state.disk_files().items() if folders is None or state.folder_of(rel) in folders}
@@ -69,8 +70,12 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
         by_folder: dict[str, list[str]] = {}
         for rel in contents:
             by_folder.setdefault(state.folder_of(rel), []).append(rel)
+        if progress is not None:
+            progress.total = len(by_folder)
         for fs in seed_in_parallel(state, by_folder, jobs):
             state.adopt(fs)
+            if progress is not None:
+                progress.advance()
         outcomes = _first_record(state, contents)
         if len(outcomes) > 20:
             authors.preload()
@@ -86,6 +91,8 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
         if folder is not None:
             known.setdefault(folder, set()).add(rel)
     redo: list[str] = []
+    if progress is not None:
+        progress.total = len(on_disk)
     # Seed every folder from disk (in worker processes for a large estate); a folder whose files
     # all match the history is taken as it is — the common case, as fast as a plain check.
     for fs in seed_in_parallel(state, on_disk, jobs):
@@ -95,6 +102,8 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
             state.adopt(fs)
         else:
             redo.append(fs.folder)
+        if progress is not None:
+            progress.advance()
     redo += [f for f in known if f not in on_disk]          # folders removed while nothing watched
     pending: list[tuple[str, bytes | None]] = []
     for folder in redo:
