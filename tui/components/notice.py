@@ -1,0 +1,39 @@
+"""A visible notice above the list: open input errors (file and line) or a stopped watcher.
+
+It takes a line or two of its own and never replaces the list: the list keeps the last good
+state of a file that does not load.
+"""
+from __future__ import annotations
+
+from textual.widgets import Static
+
+from tracker.loading.errors import InputError
+
+
+class Notice(Static):
+    def __init__(self, **kwargs):
+        super().__init__("", **kwargs)
+        self.errors: tuple[InputError, ...] = ()
+        self.failure = ""
+        self.display = False
+
+    def show_errors(self, errors: tuple[InputError, ...]) -> None:
+        self.errors = tuple(errors)
+        self._draw()
+
+    def show_failure(self, text: str) -> None:
+        self.failure = text
+        self._draw()
+
+    def _draw(self) -> None:
+        lines = []
+        if self.failure:
+            lines.append(f"⚠ {self.failure} — the list shows the last state seen; restart to watch again")
+        if self.errors:
+            first = self.errors[0]
+            more = len(self.errors) - 1
+            tail = f" (+{more} more)" if more else ""
+            lines.append(f"⚠ input error: {first}{tail} — the last good state of the file is kept")
+        self.set_class(bool(self.failure), "-failure")
+        self.display = bool(lines)
+        self.update("\n".join(lines))
