@@ -98,17 +98,22 @@ def test_filters_and_search(live):
                                      S.SHOW_ALL: len(snap.rows)}
 
 
-def test_rows_of_an_unchanged_site_are_reused(live):
+def test_rows_are_rebuilt_only_where_something_changed(live):
     root, w, h, _ = live
     cache = S.RowCache()
-    S.build(w.state, h, cache)
-    before = {k: v[1] for k, v in cache._by_site.items()}
+    first = S.build(w.state, h, cache)
     edit(root / "quill-court-2" / "site.yaml", "power_kw: 7.5", "power_kw: 8.5")
     settle(w, until=lambda g: g)
-    S.build(w.state, h, cache)
-    after = {k: v[1] for k, v in cache._by_site.items()}
-    assert after["orchard-end"] is before["orchard-end"]
-    assert after["quill-court-2"] is not before["quill-court-2"]
+    second = S.build(w.state, h, cache)
+    assert second.by_ref["orchard-end/CU1/1"] is first.by_ref["orchard-end/CU1/1"]    # another site
+    assert second.by_ref[SHOWER] is not first.by_ref[SHOWER]
+    fresh = S.build(w.state, h)                                # the same picture without the cache
+    assert [r.ref for r in second.rows] == [r.ref for r in fresh.rows] and second.rows == fresh.rows
+    row = second.by_ref["orchard-end/CU1/1"]
+    h.record(NewRevision(source="ack", author=AUTHOR, site="orchard-end", note="booked",
+                         ack=(row.ref, list(row.open_checks))))
+    third = S.build(w.state, h, cache)
+    assert third.by_ref[row.ref] is not row and third.by_ref[row.ref].state == ACKED
 
 
 def test_the_working_is_the_engines_own(live):

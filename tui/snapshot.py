@@ -61,7 +61,7 @@ class Row:
     open_checks: tuple[str, ...]    # checks that do not pass (what an acknowledgement covers)
     cause: Cause | None = None
     ack: AckNote | None = None
-    order: int = 0
+    order: int = 0         # place within its site, in wiring order
     haystack: str = field(default="", compare=False)
 
     @property
@@ -115,10 +115,12 @@ def _base_rows(sr: SiteResult) -> list[tuple]:
 
 
 class RowCache:
-    """The parts of rows that depend only on a site's results, kept while its results stand."""
+    """Rows kept between snapshots: a site's rows are rebuilt only when its results change, and
+    a row only when what the history says about it (its latest event, its acknowledgement) does."""
 
     def __init__(self):
         self._by_site: dict[str, tuple[int, list[tuple]]] = {}
+        self._rows: dict[str, tuple[int, dict[str, tuple[tuple, Row]]]] = {}
 
     def base(self, sr: SiteResult) -> list[tuple]:
         key = sr.site.id
@@ -129,9 +131,20 @@ class RowCache:
         self._by_site[key] = (id(sr), rows)
         return rows
 
+    def rows_of(self, sr: SiteResult) -> dict[str, tuple[tuple, Row]]:
+        """ref -> (history key, Row) built for these results (filled in by `build`)."""
+        key = sr.site.id
+        hit = self._rows.get(key)
+        if hit is None or hit[0] != id(sr):
+            hit = (id(sr), {})
+            self._rows[key] = hit
+        return hit[1]
+
     def keep_only(self, site_ids) -> None:
-        for k in set(self._by_site) - set(site_ids):
-            del self._by_site[k]
+        keep = set(site_ids)
+        for store in (self._by_site, self._rows):
+            for k in set(store) - keep:
+                del store[k]
 
 
 def _cause(ref: str, rev: dict) -> Cause:
@@ -160,14 +173,14 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     acks = latest_acks(history)
     rows_base = []
     for sr in results:
-        for b in cache.base(sr):
-            rows_base.append((sr, b))
+        for i, b in enumerate(cache.base(sr)):
+            rows_base.append((sr, b, i))
 
     # Which revision made each failing element's problem what it is: its latest newly-failing
     # or worse event among the checks failing now.
     latest: dict[str, int] = {}
     kept_since: dict[tuple[str, str], dict] = {}
-    for sr, (ref, _kind, _b, _c, _n, _status, failing, _open) in rows_base:
+    for sr, (ref, _kind, _b, _c, _n, _status, failing, _open), _i in rows_base:
         for check in failing:
             entry = since.get((ref, check))
             if entry is None:
@@ -179,13 +192,19 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     revs = revisions_by_id(history, set(latest.values()))
 
     rows = []
-    for i, (sr, (ref, kind, board_id, circuit_id, name, status, failing, open_checks)) in enumerate(rows_base):
+    for sr, (ref, kind, board_id, circuit_id, name, status, failing, open_checks), i in rows_base:
         ack = acks.get(ref)
+        rid = latest.get(ref) if status == FAIL else None
+        key = (ack["revision"] if ack else 0, rid)
+        built = cache.rows_of(sr)
+        hit = built.get(ref)
+        if hit is not None and hit[0] == key:
+            rows.append(hit[1])
+            continue
         ack_note = (AckNote(ack["revision"], ack["at"], ack["author"], ack["note"] or "", tuple(ack["checks"]))
                     if ack else None)
         cause = None
         if status == FAIL:
-            rid = latest.get(ref)
             if rid is not None and rid in revs:
                 cause = _cause(ref, revs[rid])
             # No recorded event for a failing check counts as newly broken: nobody has seen it.
@@ -193,13 +212,15 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
         else:
             state_ = status
         site_name = sr.site.name
-        rows.append(Row(ref, kind, sr.site.id, site_name, board_id, circuit_id, name, status, state_,
-                        failing, open_checks, cause, ack_note, i,
-                        f"{ref} {name} {site_name}".lower()))
+        row = Row(ref, kind, sr.site.id, site_name, board_id, circuit_id, name, status, state_,
+                  failing, open_checks, cause, ack_note, i, f"{ref} {name} {site_name}".lower())
+        built[ref] = (key, row)
+        rows.append(row)
 
     rank = {s: k for k, s in enumerate(STATES)}
+    site_rank = {sr.site.id: k for k, sr in enumerate(results)}
     rows.sort(key=lambda r: (rank[r.state], -(r.cause.revision if r.cause else 0) if r.state in (NEW, ACKED) else 0,
-                             r.order))
+                             site_rank[r.site_id], r.order))
     counts = {s: 0 for s in STATES}
     n_circuits = 0
     for r in rows:
