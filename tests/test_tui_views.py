@@ -6,8 +6,7 @@ from datetime import datetime, timedelta, timezone
 
 import pytest
 
-from tests.tui_helpers import AUTHOR, edit
-from tests.watch_helpers import settle
+from tests.tui_helpers import AUTHOR, edit, settle_file
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.history import History, NewRevision
 from tracker.history.query import revisions
@@ -55,7 +54,7 @@ def test_first_record_lists_every_problem_as_newly_broken(live):
 def test_a_saved_change_puts_its_circuit_first_with_its_cause(live):
     root, w, h, _ = live
     edit(root / "quill-court-2" / "site.yaml", "power_kw: 7.5", "power_kw: 8.5")
-    settle(w, until=lambda g: g)
+    settle_file(w, root, "quill-court-2/site.yaml")
     snap = S.build(w.state, h)
     top = snap.rows[0]
     assert top.ref == SHOWER and top.state == NEW and top.failing == ("capacity",)
@@ -68,7 +67,7 @@ def test_acknowledged_until_it_gets_worse(live):
     root, w, h, _ = live
     site = root / "quill-court-2" / "site.yaml"
     edit(site, "power_kw: 7.5", "power_kw: 8.5")
-    settle(w, until=lambda g: g)
+    settle_file(w, root, "quill-court-2/site.yaml")
     row = S.build(w.state, h).by_ref[SHOWER]
     h.record(NewRevision(source="ack", author="A. Fenwick", site="quill-court-2", note="cable upgrade booked",
                          ack=(SHOWER, list(row.open_checks))))
@@ -78,7 +77,7 @@ def test_acknowledged_until_it_gets_worse(live):
     assert snap.counts[ACKED] == 1
     assert snap.rows.index(acked) > max(i for i, r in enumerate(snap.rows) if r.state == NEW)
     edit(site, "power_kw: 8.5", "power_kw: 9.5")     # worse than when it was acknowledged
-    settle(w, until=lambda g: g)
+    settle_file(w, root, "quill-court-2/site.yaml")
     again = S.build(w.state, h).by_ref[SHOWER]
     assert again.state == NEW and again.cause.text == "shower power 8.5 → 9.5 kW"
 
@@ -103,7 +102,7 @@ def test_rows_are_rebuilt_only_where_something_changed(live):
     cache = S.RowCache()
     first = S.build(w.state, h, cache)
     edit(root / "quill-court-2" / "site.yaml", "power_kw: 7.5", "power_kw: 8.5")
-    settle(w, until=lambda g: g)
+    settle_file(w, root, "quill-court-2/site.yaml")
     second = S.build(w.state, h, cache)
     assert second.by_ref["orchard-end/CU1/1"] is first.by_ref["orchard-end/CU1/1"]    # another site
     assert second.by_ref[SHOWER] is not first.by_ref[SHOWER]
@@ -159,7 +158,7 @@ def test_board_and_origin_working(live):
 def test_timeline_of_a_circuit(live):
     root, w, h, _ = live
     edit(root / "quill-court-2" / "site.yaml", "power_kw: 7.5", "power_kw: 8.5")
-    settle(w, until=lambda g: g)
+    settle_file(w, root, "quill-court-2/site.yaml")
     entries = timeline(revisions(h, ref=SHOWER, newest_first=True), SHOWER)
     assert entries[0].headline == "saved" and entries[0].author == AUTHOR
     texts = [i.text for i in entries[0].items]
@@ -203,3 +202,13 @@ def test_wording():
     assert ago(at(timedelta(days=2)), now) == "2 d ago"
     assert ago(at(timedelta(days=90)), now) == "2025-12-02"
     assert ago(None, now) == "—"
+
+
+def test_the_cause_of_a_board_problem_is_written_from_its_site(live):
+    root, w, h, _ = live
+    edit(root / "quill-court-2" / "site.yaml", "power_kw: 7.5", "power_kw: 9.5")   # the board's demand too
+    settle_file(w, root, "quill-court-2/site.yaml")
+    snap = S.build(w.state, h)
+    board = snap.by_ref["quill-court-2/CU1"]
+    assert board.state == NEW and board.cause.text == "CU1/3/shower power 7.5 → 9.5 kW"
+    assert snap.by_ref[SHOWER].cause.text == "shower power 7.5 → 9.5 kW"

@@ -41,5 +41,31 @@ def edit(path, old, new) -> None:
     path.write_text(text.replace(old, new, 1), encoding="utf-8")
 
 
+def replace_atomically(path, old, new) -> None:
+    """An edit saved the way many editors do it: a whole new file renamed over the old one, so
+    a watcher never reads it half-written (snapshots need the same revisions every run)."""
+    import os
+
+    text = path.read_text(encoding="utf-8")
+    assert old in text, old
+    tmp = path.with_name("." + path.name + ".tmp")
+    tmp.write_text(text.replace(old, new, 1), encoding="utf-8")
+    os.replace(tmp, path)
+
+
 def run(coro):
     return asyncio.run(coro)
+
+
+def settle_file(watcher, root, rel: str, seconds: float = 8.0) -> None:
+    """Process events until the watcher holds the file's content as it is on disk (an editor's
+    save can arrive as several writes; the first may catch the file half-written)."""
+    from tracker.loading.estate import sha256_hex
+
+    want = sha256_hex((root / rel).read_bytes())
+    deadline = time.monotonic() + seconds
+    while time.monotonic() < deadline:
+        watcher.wait_and_process(timeout=0.1)
+        if watcher.state.hashes.get(rel) == want and rel not in watcher.state.errors and watcher.pending() == 0:
+            return
+    raise AssertionError(f"the watcher never settled on {rel}")

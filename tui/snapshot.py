@@ -147,7 +147,9 @@ class RowCache:
                 del store[k]
 
 
-def _cause(ref: str, rev: dict) -> Cause:
+def _cause(ref: str, kind_: str, rev: dict) -> Cause:
+    """What a revision changed, written from where the element stands: a circuit's own loads by
+    their names ('shower power …'), anything else from its site ('WS1/4 added')."""
     if rev["first_of_file"]:
         kind = "first-record" if rev["source"] == "startup" else "file-added"
         text = "first record" if kind == "first-record" else f"{rev['file']} added"
@@ -155,7 +157,8 @@ def _cause(ref: str, rev: dict) -> Cause:
         kind = "change"
         inside = [c for c in rev["changes"] if c["ref"] == ref or c["ref"].startswith(ref + "/")]
         chosen = inside or rev["changes"]
-        parts = [change_text(c, ref) for c in chosen[:MAX_CAUSE_CHANGES]]
+        within = ref if kind_ == CIRCUIT else ref.split("/")[0]
+        parts = [change_text(c, within) for c in chosen[:MAX_CAUSE_CHANGES]]
         more = len(chosen) - MAX_CAUSE_CHANGES
         text = "; ".join(parts) + (f" (+{more} more)" if more > 0 else "")
         if not text:
@@ -206,7 +209,7 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
         cause = None
         if status == FAIL:
             if rid is not None and rid in revs:
-                cause = _cause(ref, revs[rid])
+                cause = _cause(ref, kind, revs[rid])
             # No recorded event for a failing check counts as newly broken: nobody has seen it.
             state_ = ACKED if ack_note is not None and rid is not None and rid < ack_note.revision else NEW
         else:
