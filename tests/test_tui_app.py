@@ -312,3 +312,17 @@ def test_everything_from_the_keyboard_alone(demo_copy):
             await pilot.press("q")
         assert app.return_code in (0, None)
     run(go())
+
+
+def test_a_site_that_does_not_load_at_start_is_named_in_the_notice(demo_copy):
+    edit(demo_copy / "tansy-walk-9a" / "site.yaml", "csa_mm2: 2.5", "csa_mm2: 2.7")
+
+    async def go():
+        app = make_app(demo_copy)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await loaded(pilot)
+            text = plain(app.screen.query_one(Notice))
+            assert "tansy-walk-9a/site.yaml:" in text and "2.7 is not a standard conductor size" in text
+            assert "its site is left out until it loads" in text
+            assert "tansy-walk-9a" not in app.snapshot.sites and rows(app)
+    run(go())

@@ -6,6 +6,7 @@ draws and dispatches.
 """
 from __future__ import annotations
 
+import sqlite3
 import threading
 from collections.abc import Callable
 from datetime import datetime
@@ -110,6 +111,7 @@ class IzwatchApp(App):
                 screen.show_snapshot(snap)
 
     def on_watch_status(self, message: WatchStatus) -> None:
+        # Work in progress shows in the top line; once a snapshot is in, the line says what is watched.
         if message.text.endswith("…"):
             self.overview.set_status(message.text)
 
@@ -143,7 +145,7 @@ class IzwatchApp(App):
     def load_timeline(self, ref: str) -> None:
         try:
             entries = timeline(self.records.timeline(ref), ref)
-        except (HistoryError, OSError) as exc:
+        except (HistoryError, OSError, sqlite3.Error) as exc:
             self.post_message(TimelineLoaded(ref, [], str(exc)))
             return
         self.post_message(TimelineLoaded(ref, entries))
@@ -155,7 +157,11 @@ class IzwatchApp(App):
 
     @work(thread=True, exclusive=True, group="remedy", exit_on_error=False)
     def find_remedy(self, ref: str, result) -> None:
-        found = remedies.find(result)
+        try:
+            found = remedies.find(result)
+        except Exception as exc:  # noqa: BLE001 - shown in place of the remedy, never a traceback
+            self.post_message(RemedyFound(ref, f"not found: {type(exc).__name__}: {exc}"))
+            return
         text = found["text"] if found else "none needed: nothing fails"
         self.post_message(RemedyFound(ref, text))
 
@@ -185,7 +191,7 @@ class IzwatchApp(App):
     def write_ack(self, row: Row, by: str, note: str) -> None:
         try:
             written = self.records.acknowledge(row, by, note)
-        except (AckRefused, HistoryError, OSError) as exc:
+        except (AckRefused, HistoryError, OSError, sqlite3.Error) as exc:
             self.post_message(AckFailed(row.ref, str(exc)))
             return
         self.post_message(AckDone(written))

@@ -87,6 +87,7 @@ class Snapshot:
     head: int                             # id of the newest revision seen
     since: dict[tuple[str, str], dict]    # (ref, check) -> failing_since entry, for failing checks
     first_record: bool = False            # this start made the estate's first record
+    files_in_force: frozenset = frozenset()   # site files whose (last good) content the results stand on
 
     def site_of(self, ref: str) -> SiteResult | None:
         return self.sites.get(ref.split("/")[0])
@@ -229,11 +230,12 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     for r in rows:
         counts[r.state] += 1
         n_circuits += r.kind == CIRCUIT
-    errors = tuple(sorted((e for errs in state.errors.values() for e in errs),
-                          key=lambda e: (e.file, e.line, e.col, e.message)))
+    # By file; within a file in the loader's order (its own errors before what they cause).
+    errors = tuple(e for rel in sorted(state.errors) for e in state.errors[rel])
+    in_force = frozenset(f for sr in results for f in sr.site.files)
     head, _ = history.head()
     return Snapshot(tuple(rows), {r.ref: r for r in rows}, {sr.site.id: sr for sr in results}, errors, counts,
-                    n_circuits, history.count(), head, kept_since, first_record)
+                    n_circuits, history.count(), head, kept_since, first_record, in_force)
 
 
 # -- the list's filters -------------------------------------------------------------------

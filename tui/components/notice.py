@@ -15,10 +15,12 @@ class Notice(Static):
         super().__init__("", **kwargs)
         self.errors: tuple[InputError, ...] = ()
         self.failure = ""
+        self.in_force: frozenset = frozenset()
         self.display = False
 
-    def show_errors(self, errors: tuple[InputError, ...]) -> None:
+    def show_errors(self, errors: tuple[InputError, ...], in_force: frozenset = frozenset()) -> None:
         self.errors = tuple(errors)
+        self.in_force = in_force
         self._draw()
 
     def show_failure(self, text: str) -> None:
@@ -33,7 +35,9 @@ class Notice(Static):
             first = self.errors[0]
             more = len(self.errors) - 1
             tail = f" (+{more} more)" if more else ""
-            lines.append(f"⚠ input error: {first}{tail} — the last good state of the file is kept")
+            kept = ("the last good state of the file is kept" if first.file in self.in_force
+                    else "its site is left out until it loads")
+            lines.append(f"⚠ input error: {first}{tail} — {kept}")
         self.set_class(bool(self.failure), "-failure")
         self.display = bool(lines)
         self.update("\n".join(lines))
