@@ -54,6 +54,13 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--verbose", action="store_true", help="also print one line per recorded revision")
     p.set_defaults(func=_run("tracker.commands.watch"))
 
+    p = sub.add_parser("tui", help="the terminal UI: problems first, live, with their working and history",
+                       description="Open the terminal UI on an estate: the circuits that fail, newly broken "
+                                   "first, kept up to date by a watcher while it runs. Press ? inside for every key.")
+    _add_path(p)
+    _add_db(p)
+    p.set_defaults(func=_run("tracker.commands.tui"))
+
     p = sub.add_parser("replace", help="log an appliance replacement and see what it breaks",
                        description="Rewrite the load's power or current in its site file (comments and layout "
                                    "kept), record who and why, re-check, and print before → after for the "

@@ -96,3 +96,33 @@ def failing_since(history: History) -> dict[tuple[str, str], dict]:
         else:
             out[key]["worse_revision"] = rid
     return out
+
+
+def revisions_by_id(history: History, ids) -> dict[int, dict]:
+    """id -> {id, at, source, file, site, author, note, first_of_file, changes} for some revisions.
+
+    `first_of_file`: the revision is the first recorded for its file (the first record of an
+    estate, or a file added later). Its elements are all new, so `changes` is left empty for it
+    rather than listing every element of the file; other revisions carry their changes in order.
+    """
+    wanted = sorted({int(i) for i in ids if i})
+    out: dict[int, dict] = {}
+    db = history.db
+    for start in range(0, len(wanted), 500):
+        chunk = wanted[start:start + 500]
+        marks = ",".join("?" * len(chunk))
+        for rid, at, source, file, site, author, note, prev in db.execute(
+                f"SELECT id, at, source, file, site, author, note, file_prev_id FROM revisions "
+                f"WHERE id IN ({marks})", chunk):
+            out[rid] = {"id": rid, "at": at, "source": source, "file": file, "site": site, "author": author,
+                        "note": note, "first_of_file": file is not None and prev == 0, "changes": []}
+        later = [rid for rid in chunk if rid in out and not out[rid]["first_of_file"]]
+        if not later:
+            continue
+        marks = ",".join("?" * len(later))
+        for rid, ref_, kind, fld, old, new in db.execute(
+                f"SELECT revision_id, ref, change, field, old, new FROM changes WHERE revision_id IN ({marks}) "
+                "ORDER BY revision_id, seq", later):
+            out[rid]["changes"].append({"ref": ref_, "field": fld, "old": _load(old), "new": _load(new),
+                                        "change": kind})
+    return out

@@ -1,0 +1,43 @@
+"""A visible notice above the list: open input errors (file and line) or a stopped watcher.
+
+It takes a line or two of its own and never replaces the list: the list keeps the last good
+state of a file that does not load.
+"""
+from __future__ import annotations
+
+from textual.widgets import Static
+
+from tracker.loading.errors import InputError
+
+
+class Notice(Static):
+    def __init__(self, **kwargs):
+        super().__init__("", **kwargs)
+        self.errors: tuple[InputError, ...] = ()
+        self.failure = ""
+        self.in_force: frozenset = frozenset()
+        self.display = False
+
+    def show_errors(self, errors: tuple[InputError, ...], in_force: frozenset = frozenset()) -> None:
+        self.errors = tuple(errors)
+        self.in_force = in_force
+        self._draw()
+
+    def show_failure(self, text: str) -> None:
+        self.failure = text
+        self._draw()
+
+    def _draw(self) -> None:
+        lines = []
+        if self.failure:
+            lines.append(f"⚠ {self.failure} — the list shows the last state seen; restart to watch again")
+        if self.errors:
+            first = self.errors[0]
+            more = len(self.errors) - 1
+            tail = f" (+{more} more)" if more else ""
+            kept = ("the last good state of the file is kept" if first.file in self.in_force
+                    else "its site is left out until it loads")
+            lines.append(f"⚠ input error: {first}{tail} — {kept}")
+        self.set_class(bool(self.failure), "-failure")
+        self.display = bool(lines)
+        self.update("\n".join(lines))

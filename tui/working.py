@@ -1,0 +1,331 @@
+"""The working of one circuit, board or origin, as the details screen lays it out (no Textual).
+
+Every figure here is the engine's own: read from the CheckResults, the `working` dict, the
+model and the board context. Nothing is recomputed; where the engine has no figure the line
+says "not assessed" and gives the engine's reason. The one derived quantity is each gauge's
+utilisation, the ratio of a check's own value and limit, drawn so the eye finds the tight ones.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from tracker.checks.capacity import DESIGN, DEVICE, RING
+from tracker.checks.context import device_label
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
+from tracker.checks.site import SiteResult, headroom_kw
+from tui.snapshot import BOARD, CIRCUIT, Row, Snapshot
+from tui.wording import STATUS_WORD, number, plain
+
+TIGHT = 0.9   # a passing check using this much of its limit is shown as tight
+
+GAUGE_LABELS = {
+    "design-current": "Ib / In",
+    "capacity": "needed / Iz",
+    "voltage-drop": "drop / limit",
+    "fault-loop": "Zs / max Zs",
+    "cpc-adiabatic": "cpc min/has",
+    "line-adiabatic": "csa min/has",
+    "breaking-capacity": "PFC / rating",
+    "demand": "demand/limit",
+}
+BASIS_WORDS = {
+    DEVICE: "the device rating In (433.1.1)",
+    RING: "20 A, a ring final circuit on a 30/32 A device (433.1.204)",
+    DESIGN: "the design current Ib, the load cannot overload (433.3.1(ii))",
+}
+
+
+@dataclass(frozen=True)
+class Line:
+    label: str
+    text: str
+    status: str | None = None      # where the line is the figure of a check: its status
+
+
+@dataclass(frozen=True)
+class Section:
+    title: str
+    lines: tuple[Line, ...]
+
+
+@dataclass(frozen=True)
+class Gauge:
+    check_id: str
+    label: str
+    ratio: float | None            # value/limit for '<=', limit/value for '>=' (None: no figure)
+    status: str
+    text: str
+    word: str
+
+
+@dataclass(frozen=True)
+class CheckLine:
+    check_id: str
+    status: str
+    figures: str                   # '35.00 A ≥ 36.96 A'
+    detail: str
+    since_revision: int | None = None
+    since_at: str | None = None
+
+
+@dataclass(frozen=True)
+class Working:
+    ref: str
+    kind: str
+    title: str
+    status: str
+    state: str
+    file: str | None
+    sections: tuple[Section, ...]
+    gauges: tuple[Gauge, ...]
+    checks: tuple[CheckLine, ...]
+    headroom: str
+    wants_remedy: bool
+
+
+def utilisation(c: CheckResult) -> float | None:
+    """How much of its limit a check uses: above 1 is over (the engine's status decides)."""
+    if c.value is None or c.limit is None:
+        return None
+    if c.compare == "<=":
+        return c.value / c.limit if c.limit > 0 else None
+    return c.limit / c.value if c.value > 0 else None
+
+
+def gauge(c: CheckResult) -> Gauge | None:
+    if c.id not in GAUGE_LABELS:
+        return None
+    ratio = utilisation(c)
+    word = STATUS_WORD[c.status]
+    if c.status == PASS and ratio is not None and ratio >= TIGHT:
+        word = "tight"
+    if ratio is None and c.status != NOT_ASSESSED:
+        word += " (no figure)"
+    if c.compare == "<=":
+        text = f"{number(c.value, c.unit)} of {number(c.limit, c.unit)}"
+    else:
+        text = f"needs {number(c.limit, c.unit)}, has {number(c.value, c.unit)}"
+    return Gauge(c.id, GAUGE_LABELS[c.id], ratio, c.status, text, word)
+
+
+def figures(c: CheckResult) -> str:
+    if c.value is None:
+        return "—"
+    if c.status == PASS:
+        sign = {"<=": "≤", ">=": "≥"}.get(c.compare, c.compare)
+    elif c.status == FAIL:
+        sign = {"<=": ">", ">=": "<"}.get(c.compare, c.compare)
+    else:
+        sign = "vs"
+    return f"{number(c.value, c.unit)} {sign} {number(c.limit, c.unit)}"
+
+
+def check_lines(ref: str, checks, snapshot: Snapshot | None) -> tuple[CheckLine, ...]:
+    out = []
+    for c in checks:
+        since = snapshot.since.get((ref, c.id)) if snapshot is not None and c.status == FAIL else None
+        rev = at = None
+        if since:
+            rev = max(since["revision"], since.get("worse_revision", 0))
+            at = since["at"] if rev == since["revision"] else None
+        out.append(CheckLine(c.id, c.status, figures(c), c.detail, rev, at))
+    return tuple(out)
+
+
+def _unknown(check: CheckResult | None) -> str:
+    if check is None:
+        return "not assessed"
+    detail = check.detail
+    return detail if detail.startswith("not assessed") else f"not assessed: {detail}"
+
+
+def _where(sr: SiteResult, board_id: str) -> list[Line]:
+    site = sr.site
+    sup = site.supply
+    lines = [Line("site", f"{site.id} — {site.name}" if site.name else site.id)]
+    supply = [sup.system, f"U0 {sup.u0_v:g} V", f"Ze {plain(sup.ze_ohm)} Ω" if sup.ze_ohm is not None else "Ze not given"]
+    if sup.pfc_ka is not None:
+        supply.append(f"PFC {sup.pfc_ka:g} kA")
+    if sup.service_fuse_a is not None:
+        supply.append(f"supplier's fuse {sup.service_fuse_a:g} A")
+    if sup.system == "TT" and sup.electrode_ohm is not None:
+        supply.append(f"RA {sup.electrode_ohm:g} Ω")
+    lines.append(Line("supply", ", ".join(supply)))
+    chain = []
+    b = site.board(board_id)
+    while b is not None:
+        chain.append(b)
+        if b.at_origin:
+            break
+        b = site.board(b.fed_by.split("/")[0])
+    for b in reversed(chain):
+        fed = "the supply" if b.at_origin else f"sub-main {b.fed_by}"
+        extra = f", main switch {b.main_switch_a:g} A" if b.main_switch_a is not None else ""
+        rcd = f", RCD {b.rcd_ma:g} mA on the board" if b.rcd_ma is not None else ""
+        lines.append(Line(f"board {b.id}", f"{b.name or b.id} — fed by {fed}{extra}{rcd}"))
+    return lines
+
+
+def circuit_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) -> Working:
+    r = sr.circuits[row.ref]
+    c = r.circuit
+    w = r.working
+    ctx = r.ctx
+    chk = {x.id: x for x in r.checks}
+    sections = [Section("Where", tuple(_where(sr, c.board) + [Line("file", c.src.file if c.src else "—")]))]
+
+    dev = c.device
+    kit = [Line("device", device_label(dev) + (f", breaking capacity {dev.breaking_ka:g} kA" if dev.breaking_ka else "")
+                + (f", maker's max Zs {dev.max_zs_ohm:g} Ω" if dev.max_zs_ohm is not None else ""))]
+    rcd = w.get("rcd_ma", c.rcd_ma)
+    kit.append(Line("RCD", f"{rcd:g} mA" if rcd is not None else "none"))
+    cab = c.cable
+    cpc = f", cpc {cab.cpc_mm2:g} mm²" if cab.cpc_mm2 is not None else ""
+    kit.append(Line("cable", f"{cab.csa_mm2:g} mm² {cab.kind}{cpc}, {cab.length_m:g} m, reference method {cab.method}"
+                    + (", ring final circuit" if c.is_ring else "")))
+    env = c.environment
+    amb = f"{env.ambient_c:g} °C" if env.ambient_c is not None else "default ambient"
+    group = f", grouped with {env.grouped_with} ({env.arrangement})" if env.grouped_with > 1 else ""
+    ins = f", {env.insulation_mm:g} mm in thermal insulation" if env.insulation_mm else ""
+    kit.append(Line("installed", amb + group + ins))
+    for ld in c.loads:
+        size = f"{ld.power_kw:g} kW" if ld.power_kw is not None else (
+            f"{ld.current_a:g} A" if ld.current_a is not None else "no size")
+        pf = f", pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
+        where = f", {ld.location}" if ld.location else ""
+        kit.append(Line(f"load {ld.id}", f"{ld.kind} {size}{pf}{where}"))
+    if c.feeds:
+        kit.append(Line("feeds", f"board {c.feeds}"))
+    sections.append(Section("Equipment", tuple(kit)))
+
+    cap = chk.get("capacity")
+    dc = chk.get("design-current")
+    ib = (f"{number(r.ib_a, 'A')} — {w['ib_source']}" if r.ib_a is not None and w.get("ib_source")
+          else number(r.ib_a, "A") if r.ib_a is not None else _unknown(dc))
+    cur = [Line("Ib", ib, dc.status if dc else None),
+           Line("In", f"{r.in_a:g} A ({device_label(dev)})"),
+           Line("Iz", number(r.iz_a, "A") if r.iz_a is not None else _unknown(cap), cap.status if cap else None),
+           Line("Iz must reach", f"{number(cap.limit, 'A') if cap and cap.limit is not None else '—'}: "
+                                 f"{BASIS_WORDS.get(r.basis, r.basis)}")]
+    sections.append(Section("Currents", tuple(cur)))
+
+    fac = []
+    if "it_a" in w:
+        fac.append(Line("It", f"{w['it_a']:g} A (tabulated, method {cab.method})"))
+        fac.append(Line("Ca", f"{w['ca']:.2f} (ambient)" if "ca" in w else "—"))
+        fac.append(Line("Cg", f"{w['cg']:.2f} (grouping)" if "cg" in w else "—"))
+        if "ci" in w:
+            fac.append(Line("Ci", f"{w['ci']:.2f} (thermal insulation)"))
+        fac.append(Line("Iz", number(w.get("iz_a"), "A"), cap.status if cap else None))
+    else:
+        fac.append(Line("factors", _unknown(cap), NOT_ASSESSED))
+    sections.append(Section("Rating factors", tuple(fac)))
+
+    vd = chk.get("voltage-drop")
+    if "vd_total_pct" in w:
+        vdl = [Line("cable", f"{w.get('mv_per_a_m', '—')}"),
+               Line("this circuit", number(w.get("vd_circuit_v"), "V")),
+               Line("upstream", number(w.get("vd_upstream_v"), "V")),
+               Line("total", f"{number(w['vd_total_pct'], '%')} of U0, limit {number(vd.limit, '%')}",
+                    vd.status)]
+    else:
+        vdl = [Line("voltage drop", _unknown(vd), vd.status if vd else NOT_ASSESSED)]
+    sections.append(Section("Voltage drop", tuple(vdl)))
+
+    fl = chk.get("fault-loop")
+    ze = ctx.supply.ze_ohm
+    loop = [Line("at the board", f"Ze {plain(ze)} Ω" if ze is not None else "Ze not given")
+            if ctx.fed_via is None else Line("at the board", f"{number(ctx.z_ext_ohm, 'ohm')} (Ze and sub-mains)"
+                                                           if ctx.z_ext_ohm is not None else "unknown")]
+    if "r1_r2_ohm" in w:
+        loop.append(Line("R1+R2", number(w["r1_r2_ohm"], "ohm") + " (at operating temperature)"))
+    if "zs_ohm" in w:
+        loop.append(Line("Zs", number(w["zs_ohm"], "ohm"), fl.status if fl else None))
+    if "max_zs_ohm" in w:
+        loop.append(Line("max Zs", number(w["max_zs_ohm"], "ohm")))
+    if "t_required_s" in w:
+        loop.append(Line("disconnect in", f"{w['t_required_s']:g} s"))
+    if "zs_ohm" not in w:
+        loop.append(Line("Zs", _unknown(fl), fl.status if fl else NOT_ASSESSED))
+    sections.append(Section("Earth fault loop", tuple(loop)))
+
+    cpc_c, line_c = chk.get("cpc-adiabatic"), chk.get("line-adiabatic")
+    ad = []
+    if "cpc_min_mm2" in w:
+        ad.append(Line("cpc", f"needs {number(w['cpc_min_mm2'], 'mm2')}, has {number(cpc_c.value, 'mm2')} "
+                              f"(I {number(w.get('earth_fault_a'), 'A', 0)}, t {w.get('t_disconnect_s', 0):g} s, "
+                              f"k {w.get('k_cpc', 0):.0f})", cpc_c.status))
+    else:
+        ad.append(Line("cpc", _unknown(cpc_c), cpc_c.status if cpc_c else NOT_ASSESSED))
+    if "line_min_mm2" in w:
+        ad.append(Line("live conductors", f"need {number(w['line_min_mm2'], 'mm2')}, have "
+                                          f"{number(line_c.value, 'mm2')} (I {number(w.get('short_circuit_min_a'), 'A', 0)}"
+                                          f", k {w.get('k_line', 0):.0f})", line_c.status))
+    else:
+        ad.append(Line("live conductors", _unknown(line_c), line_c.status if line_c else NOT_ASSESSED))
+    sections.append(Section("Adiabatic (minimum sizes)", tuple(ad)))
+
+    bc = chk.get("breaking-capacity")
+    fault = [Line("PFC at board", number(w.get("pfc_ka", ctx.pfc_ka), "kA")),
+             Line("PFC allowed", number(bc.limit, "kA") if bc and bc.limit is not None else _unknown(bc),
+                  bc.status if bc else None)]
+    sections.append(Section("Fault level", tuple(fault)))
+
+    hk = headroom_kw(sr, r)
+    head = ("not assessed: a check that depends on the load could not be assessed" if hk is None
+            else f"{hk:+.2f} kW " + ("more load before a check of it or upstream fails" if hk >= 0
+                                     else "over: that much load must come off"))
+    gauges = tuple(g for g in (gauge(x) for x in r.checks) if g is not None)
+    title = f"{c.name}" if c.name else row.ref
+    return Working(row.ref, CIRCUIT, title, r.status, row.state, c.src.file if c.src else None, tuple(sections),
+                   gauges, check_lines(row.ref, r.checks, snapshot), head, r.status == FAIL)
+
+
+def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) -> Working:
+    site = sr.site
+    if row.kind == BOARD:
+        b = sr.boards[row.ref]
+        board = site.board(b.board_id)
+        check = b.check
+        sections = [Section("Where", tuple(_where(sr, b.board_id)
+                                           + [Line("file", board.src.file if board and board.src else "—")]))]
+        parts = [Line(cat, f"{conn:.1f} A connected → {allowed:.1f} A after diversity") for cat, conn, allowed in
+                 b.demand.parts]
+        if b.demand.unknown:
+            parts.append(Line("not counted", "no load data: circuit " + ", ".join(b.demand.unknown), NOT_ASSESSED))
+        parts.append(Line("demand", number(b.demand.demand_a, "A"), check.status))
+        sections.append(Section("Maximum demand", tuple(parts)))
+        if b.margin_a is None:
+            margin = "not assessed: a demand or a sub-main check upstream has no figure"
+        elif b.margin_a >= 0:
+            margin = f"{b.margin_a:.1f} A more on a circuit here before this board or anything upstream fails"
+        else:
+            margin = f"{-b.margin_a:.1f} A over: this board or something upstream already fails"
+        title = board.name if board and board.name else row.ref
+        file = board.src.file if board and board.src else None
+    else:
+        check = sr.supply_check
+        sections = [Section("Where", tuple(_where(sr, next((b.id for b in site.boards if b.at_origin), ""))[:2]))]
+        origin_boards = [b.id for b in site.boards if b.at_origin]
+        sections.append(Section("Demand at the origin", (
+            Line("boards", ", ".join(origin_boards)),
+            Line("demand", number(check.value, "A"), check.status),
+            Line("supplier's fuse", number(check.limit, "A") if check.limit is not None else "not given"))))
+        margin = "—"
+        title = f"{site.name or site.id}: origin"
+        file = site.files[0] if site.files else None
+    gauges = tuple(g for g in (gauge(check),) if g is not None)
+    return Working(row.ref, row.kind, title, check.status, row.state, file, tuple(sections), gauges,
+                   check_lines(row.ref, (check,), snapshot), margin, False)
+
+
+def working_of(row: Row, snapshot: Snapshot) -> Working | None:
+    """The working of a row's element in this snapshot (None: it is no longer there)."""
+    sr = snapshot.site_of(row.ref)
+    if sr is None:
+        return None
+    if row.kind == CIRCUIT:
+        return circuit_working(row, sr, snapshot) if row.ref in sr.circuits else None
+    if row.kind == BOARD and row.ref not in sr.boards:
+        return None
+    return board_working(row, sr, snapshot)
