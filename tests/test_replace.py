@@ -150,3 +150,12 @@ def test_verify_exit_codes(demo_copy, capsys):
     assert main(["verify", str(demo_copy)]) == 1
     out = capsys.readouterr().out
     assert "FAILED" in out and "first revision that does not match" in out
+
+
+def test_ack_a_board_and_an_origin(demo_copy, capsys):
+    assert main(["ack", str(demo_copy), "orchard-end/CU1", "--by", "T", "--note", "load survey booked"]) == 0
+    assert main(["ack", str(demo_copy), "orchard-end", "--by", "T", "--note", "supply upgrade applied for"]) == 0
+    assert main(["ack", str(demo_copy), "quill-court-2/CU1", "--by", "T", "--note", "x"]) == 2   # it passes
+    assert main(["ack", str(demo_copy), "orchard-end/CU9", "--by", "T", "--note", "x"]) == 2
+    out = capsys.readouterr()
+    assert "orchard-end/CU1: acknowledged (demand)" in out.out and "no board orchard-end/CU9" in out.err

@@ -6,6 +6,8 @@ from datetime import datetime, timedelta, timezone
 
 import pytest
 
+from tracker.checks.site import explain_circuit
+
 from tests.tui_helpers import AUTHOR, edit, settle_file
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.history import History, NewRevision
@@ -119,7 +121,7 @@ def test_the_working_is_the_engines_own(live):
     _, w, h, _ = live
     snap = S.build(w.state, h)
     sr = snap.sites["orchard-end"]
-    r = sr.circuits["orchard-end/CU1/1"]
+    r = explain_circuit(sr.circuits["orchard-end/CU1/1"])   # the engine's working of that circuit
     wk = working_of(snap.by_ref["orchard-end/CU1/1"], snap)
     lines = {(sec.title, ln.label): ln for sec in wk.sections for ln in sec.lines}
     assert lines[("Currents", "Iz")].text == number(r.iz_a, "A") == "18.90 A"

@@ -86,10 +86,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.set_defaults(func=_run("tracker.commands.history"))
 
     p = sub.add_parser("ack", help="acknowledge an open problem (e.g. remedial work booked)",
-                       description="Record an acknowledgement of a circuit's open problems, with who and a note. "
-                                   "It is part of the history's chain.")
+                       description="Record an acknowledgement of a circuit's open problems (or a board's, or a "
+                                   "site origin's demand), with who and a note. It is part of the history's chain.")
     _add_path(p)
-    p.add_argument("circuit_ref", metavar="CIRCUIT_REF", help="SITE/BOARD/CIRCUIT")
+    p.add_argument("circuit_ref", metavar="CIRCUIT_REF",
+                   help="SITE/BOARD/CIRCUIT (or SITE/BOARD for a board, SITE for the origin)")
     p.add_argument("--by", required=True, metavar="NAME")
     p.add_argument("--note", required=True, metavar="TEXT")
     _add_db(p)

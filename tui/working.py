@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from tracker.checks.capacity import DESIGN, DEVICE, RING
 from tracker.checks.context import device_label
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
-from tracker.checks.site import SiteResult, headroom_kw
+from tracker.checks.site import explain_circuit, SiteResult, headroom_kw
 from tui.snapshot import BOARD, CIRCUIT, Row, Snapshot
 from tui.wording import STATUS_WORD, number, plain
 
@@ -167,7 +167,9 @@ def _where(sr: SiteResult, board_id: str) -> list[Line]:
 
 
 def circuit_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) -> Working:
-    r = sr.circuits[row.ref]
+    # The watcher keeps every circuit's verdicts and figures; the working text of the one shown
+    # is produced here, from the same inputs (a pure re-evaluation by the engine).
+    r = explain_circuit(sr.circuits[row.ref])
     c = r.circuit
     w = r.working
     ctx = r.ctx

@@ -311,9 +311,7 @@ def _problem(p: dict) -> Safe:
     cause_items = [el("li", el("code", ", ".join(ids)), ": ", _cause_text(cause, p["ref"].split("/")[0])) for cause, ids in causes.values()]
     cause_items += [el("li", el("code", ", ".join(ids)), ": ", note) for note, ids in notes.items()]
     ack = p["acknowledgement"]
-    if p["kind"] != "circuit":
-        ack_text = cat("not acknowledged (acknowledgements are recorded per circuit)")
-    elif ack is None:
+    if ack is None:
         ack_text = cat(el("span", "not acknowledged", class_="yes"))
     elif p["acknowledged"]:
         ack_text = cat(badge(PASS, "acknowledged"), " in ", _ack_text(ack))
