@@ -253,3 +253,19 @@ def test_worse_when_a_failing_check_moves_further_over(demo_copy):
     finally:
         w.stop()
         h.close()
+
+
+def test_reading_every_file_does_not_flood_the_watcher(demo_copy):
+    """Found at 100k circuits: the watcher's own reading of every file once filled the kernel's
+    event queue with opens and closes, and each overflow's rescan read everything again. Only
+    events that can mean a change are asked for now."""
+    w, h, _ = start_watcher(demo_copy)
+    try:
+        for _ in range(20):
+            for p in demo_copy.glob("*/*.yaml"):
+                p.read_bytes()
+        assert settle(w, seconds=1.5) == []
+        assert w.pending() == 0 and not w._rescan
+    finally:
+        w.stop()
+        h.close()

@@ -6,9 +6,12 @@ the debounce interval, then its content is re-read and hashed, and only a real c
 goes on. A created or moved directory is scanned (a new site folder); a removed one re-checks
 every file known under it.
 
-Events can also be lost: the kernel's queue overflows in a burst of saves. Watchdog then says so
-in its log; the watcher listens for that and rescans every site file. Every minute a cheap scan
-of file sizes and times catches anything else that slipped through.
+Only the events that can mean a change are asked of the kernel: not opens and closes without a
+write, or the watcher's own reading of every file at start would flood the kernel's queue.
+
+Events can still be lost: the queue overflows in a burst of saves. Watchdog then says so in its
+log; the watcher listens for that and rescans every site file. Every minute a scan of file sizes
+and times, in a thread of its own, catches anything else that slipped through.
 """
 from __future__ import annotations
 
@@ -20,7 +23,9 @@ import time
 from dataclasses import dataclass
 from pathlib import Path
 
-from watchdog.events import FileSystemEvent, FileSystemEventHandler
+from watchdog.events import (DirCreatedEvent, DirDeletedEvent, DirMovedEvent, FileClosedEvent, FileCreatedEvent,
+                             FileDeletedEvent, FileModifiedEvent, FileMovedEvent, FileSystemEvent,
+                             FileSystemEventHandler)
 from watchdog.observers import Observer
 
 from tracker.history import History
@@ -32,6 +37,9 @@ from tracker.tracking.state import EstateState, FileOutcome
 
 DEBOUNCE_S = 0.15
 SAFETY_SCAN_S = 60.0
+# The events that can mean a site file changed (the kernel is asked for nothing else).
+EVENTS = [FileCreatedEvent, FileModifiedEvent, FileClosedEvent, FileDeletedEvent, FileMovedEvent,
+          DirCreatedEvent, DirDeletedEvent, DirMovedEvent]
 
 
 @dataclass
@@ -69,7 +77,7 @@ class _OverflowListener(logging.Handler):
         self.w = watcher
 
     def emit(self, record: logging.LogRecord) -> None:
-        if "overflow" in record.getMessage().lower():
+        if "overflow" in record.getMessage().lower() and not self.w._stop.is_set():
             self.w.request_rescan()
 
 
@@ -87,8 +95,7 @@ class Watcher:
         self._pending: dict[str, float] = {}
         self._dirs: set[str] = set()          # folders created, moved or removed: expanded by the main thread
         self._rescan = False
-        self._stats: dict[str, tuple] = {}    # rel -> (size, mtime_ns, inode) when last looked at
-        self._last_scan = time.monotonic()
+        self._scanner: threading.Thread | None = None
         self._cond = threading.Condition()
         self._stop = threading.Event()
         self._observer = None
@@ -105,7 +112,7 @@ class Watcher:
         for name in ("watchdog.observers.inotify_c", "watchdog.observers.inotify"):
             logging.getLogger(name).addHandler(self._listener)
         self._observer = Observer()
-        self._observer.schedule(_Handler(self), str(self.abs_root), recursive=True)
+        self._observer.schedule(_Handler(self), str(self.abs_root), recursive=True, event_filter=EVENTS)
         self._observer.daemon = True
         self._observer.start()
         # The estate's state lives until the watcher stops: build it with the cyclic collector
@@ -114,21 +121,43 @@ class Watcher:
         gc.disable()
         try:
             self.state, done = start(self.root, self.history, self.authors, progress=progress)
-            self._stats = self._stat_all()
+            first = self._stat_all()
         finally:
             gc.freeze()
             gc.enable()
+        self._scanner = threading.Thread(target=self._safety_scans, args=(first,), name="izwatch-scan", daemon=True)
+        self._scanner.start()
         return [Update(o, r, "startup") for o, r in done]
 
+    def _safety_scans(self, previous: dict) -> None:
+        """Every minute: files whose size, time or inode changed since the last scan, or that came
+        or went, are looked at again (a change inotify reported is simply found unchanged)."""
+        while not self._stop.wait(SAFETY_SCAN_S):
+            try:
+                now = self._stat_all()
+            except Exception:  # noqa: BLE001 - a scan that fails is tried again next minute
+                continue
+            changed = [rel for rel in set(now) | set(previous) if now.get(rel) != previous.get(rel)]
+            previous = now
+            if changed:
+                t = time.monotonic()
+                with self._cond:
+                    for rel in changed:
+                        self._pending.setdefault(rel, t)
+                    self._cond.notify_all()
+
     def stop(self) -> None:
-        for name in ("watchdog.observers.inotify_c", "watchdog.observers.inotify"):
-            logging.getLogger(name).removeHandler(self._listener)
         self._stop.set()
         with self._cond:
             self._cond.notify_all()
         if self._observer is not None:
             self._observer.stop()
             self._observer.join(timeout=5)
+        if self._scanner is not None:
+            self._scanner.join(timeout=5)
+        # detached last: watchdog's own notes while stopping are not an overflow, nor for stderr
+        for name in ("watchdog.observers.inotify_c", "watchdog.observers.inotify"):
+            logging.getLogger(name).removeHandler(self._listener)
 
     # -- events ---------------------------------------------------------------------------
 
@@ -170,8 +199,8 @@ class Watcher:
         return out
 
     def _expand(self) -> None:
-        """Main thread, lock held: turn folder events, a rescan request or the safety scan due into
-        files to look at (their content is compared, so looking at an unchanged file costs little)."""
+        """Main thread, lock held: turn folder events and a rescan request into files to look at
+        (their content is compared, so looking at an unchanged file costs little)."""
         now = time.monotonic()
         if self._rescan:
             self._rescan = False
@@ -183,13 +212,6 @@ class Watcher:
             for r in found + [r for r in self.state.hashes if r.startswith(rel + "/")]:
                 self._pending[r] = now
         self._dirs.clear()
-        if now - self._last_scan >= SAFETY_SCAN_S and not self._pending:
-            self._last_scan = now
-            stats = self._stat_all()
-            for rel in set(stats) | set(self._stats):
-                if stats.get(rel) != self._stats.get(rel):
-                    self._pending.setdefault(rel, now - self.debounce_s)
-            self._stats = stats
 
     def _due(self) -> tuple[list[str], float | None]:
         now = time.monotonic()
@@ -224,11 +246,6 @@ class Watcher:
     def process(self, rels: list[str]) -> list[Update]:
         updates = []
         for rel in rels:
-            try:
-                st = os.stat(self.root / rel)
-                self._stats[rel] = (st.st_size, st.st_mtime_ns, st.st_ino)
-            except OSError:
-                self._stats.pop(rel, None)
             outcome = self.state.apply_disk(rel)
             if outcome is None:
                 continue
