@@ -150,13 +150,11 @@ def _results(folders, root: Path, renderer, jobs: int):
         for folder, rel in folders:
             yield check_site(folder, rel, root, renderer)
         return
-    import multiprocessing as mp
-    ctx = mp.get_context("fork" if "fork" in mp.get_all_start_methods() else "spawn")
+    from tracker.parallel import ordered_results
     size = max(1, min(50, len(folders) // (jobs * 8)))
     runs = [(root, folders[i:i + size]) for i in range(0, len(folders), size)]
-    with ctx.Pool(jobs, initializer=_init, initargs=(renderer.worker_copy(),)) as pool:
-        for batch in pool.imap(_check_run, runs):
-            yield from batch
+    for batch in ordered_results(_check_run, runs, jobs, initializer=_init, initargs=(renderer.worker_copy(),)):
+        yield from batch
 
 
 def run(args) -> int:

@@ -116,13 +116,11 @@ def seed_in_parallel(state: "EstateState", folders: dict[str, list[str]], jobs: 
     if jobs <= 1 or len(items) < 40:
         yield from _seed_run((state.root, items))
         return
-    import multiprocessing as mp
-    ctx = mp.get_context("fork" if "fork" in mp.get_all_start_methods() else "spawn")
+    from tracker.parallel import ordered_results
     size = max(1, min(50, len(items) // (jobs * 8)))
     runs = [(state.root, items[i:i + size]) for i in range(0, len(items), size)]
-    with ctx.Pool(jobs) as pool:
-        for batch in pool.imap(_seed_run, runs):
-            yield from batch
+    for batch in ordered_results(_seed_run, runs, jobs):
+        yield from batch
 
 
 class EstateState:
