@@ -47,6 +47,8 @@ def mutations(draw):
         name = draw(st.sampled_from(sorted(docs)))
         doc = docs[name]
         paths = [p for p in _paths(doc) if p]
+        if not paths:              # the document was emptied by an earlier mutation
+            continue
         path = draw(st.sampled_from(paths))
         parent, key = _get(doc, path[:-1]), path[-1]
         action = draw(st.sampled_from(["replace", "delete", "duplicate", "swap-refs", "scale"]))

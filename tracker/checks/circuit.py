@@ -1,19 +1,20 @@
 """All checks of one circuit, given the conditions at its board."""
 from __future__ import annotations
 
-from dataclasses import dataclass
+from typing import NamedTuple
 
 from tracker.checks import (breaking_capacity, capacity, cpc_adiabatic, design_current, fault_loop,
                             line_adiabatic, rcd, voltage_drop)
 from tracker.checks.context import BoardContext, Facts, build_facts
 from tracker.checks.result import CheckResult, worst
-
-_NO_WORKING: dict = {}   # shared, never written: results kept without their working
 from tracker.model import Circuit
 
+_NO_WORKING: dict = {}   # shared, never written: results kept without their working
 
-@dataclass(slots=True)
-class CircuitResult:
+
+class CircuitResult(NamedTuple):
+    """Every check of one circuit, with what they were computed from (an immutable record)."""
+
     ref: str
     circuit: Circuit
     ctx: BoardContext

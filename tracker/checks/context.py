@@ -7,9 +7,10 @@ from functools import lru_cache
 from tracker import catalogue
 from tracker.checks import rules
 from tracker.engine import disconnection, fault_level, impedance
-from tracker.model import Circuit, Site, Supply
+from tracker.model import Circuit, Site, Supply, rebuilt_by_constructor
 
 
+@rebuilt_by_constructor
 @dataclass(frozen=True, slots=True)
 class SupplyContext:
     system: str
@@ -43,6 +44,7 @@ def supply_context(supply: Supply, domestic: bool = True) -> SupplyContext:
     )
 
 
+@rebuilt_by_constructor
 @dataclass(frozen=True, slots=True)
 class BoardContext:
     """Conditions at a board's busbars, from the origin through every sub-main above it."""

@@ -1,7 +1,7 @@
 """Check results and their statuses."""
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from typing import NamedTuple
 
 PASS, FAIL, WARN, NOT_ASSESSED = "pass", "fail", "warn", "not-assessed"
 # Worst first. An unknown is worse than a caution: a not-assessed check has not been shown to hold.
@@ -15,8 +15,10 @@ BOARD_CHECKS = ("demand",)
 UNIT_DIGITS = {"A": 2, "V": 2, "%": 2, "ohm": 3, "mm2": 2, "kA": 2, "kW": 2, "mA": 0}
 
 
-@dataclass(frozen=True, slots=True)
-class CheckResult:
+class CheckResult(NamedTuple):
+    """One check's verdict. A plain immutable record (a named tuple: a whole estate's worth of
+    them is cheap to hold and to pass between processes)."""
+
     id: str
     status: str
     value: float | None
@@ -26,7 +28,7 @@ class CheckResult:
     detail: str
     # For checks that depend on the design current: the largest Ib at which the check still
     # holds (the engine's own figure, from which headroom is derived). None: independent of Ib.
-    ib_limit_a: float | None = field(default=None, compare=False)
+    ib_limit_a: float | None = None
 
     def margin(self) -> float | None:
         """How far inside the limit (negative: how far over), in the check's unit."""
