@@ -245,8 +245,9 @@ class History:
     def record(self, rev: NewRevision) -> Recorded:
         return self.record_many([rev])[0]
 
-    def record_many(self, revs: list[NewRevision]) -> list[Recorded]:
-        """Write revisions in one transaction (each chained to the one before it)."""
+    def record_many(self, revs) -> list[Recorded]:
+        """Write revisions (any iterable, consumed one by one) in one transaction, each chained to
+        the one before it."""
         out = []
         with self._write():
             head_id, head_hash = self.head()

@@ -27,8 +27,8 @@ def to_revision(outcome: FileOutcome, source: str, author: str, note: str | None
     )
 
 
-def _first_record(state: EstateState, contents: dict[str, bytes]) -> list[FileOutcome]:
-    outcomes = []
+def _first_record(state: EstateState, contents: dict[str, bytes]):
+    """The first record of every file, one outcome at a time."""
     for rel in sorted(contents):
         folder = state.folder_of(rel)
         if folder is None:
@@ -47,8 +47,7 @@ def _first_record(state: EstateState, contents: dict[str, bytes]) -> list[FileOu
             if rel == site.files[0]:
                 out.events, out.results = compare(None, ss.result)
                 state._explain_events(out.events, ss.result)
-        outcomes.append(out)
-    return outcomes
+        yield out
 
 
 def start(root: Path, history: History, authors: Authors, folders: set[str] | None = None,
@@ -76,11 +75,22 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
             state.adopt(fs)
             if progress is not None:
                 progress.advance()
-        outcomes = _first_record(state, contents)
-        if len(outcomes) > 20:
+        if len(contents) > 20:
             authors.preload()
-        revs = [to_revision(o, "startup", authors(o.file), "first record of this file") for o in outcomes]
-        return state, list(zip(outcomes, history.record_many(revs))) if revs else []
+        outcomes: list[FileOutcome] = []
+
+        def revisions():
+            # One revision at a time into one transaction: on a large estate the whole first
+            # record (every element added, every circuit's results) would not be held at once.
+            for o in _first_record(state, contents):
+                rev = to_revision(o, "startup", authors(o.file), "first record of this file")
+                o.content = None
+                if o.valid:   # what was written is not needed again: nothing to report yet
+                    o.changes, o.results, o.events = [], [], []
+                outcomes.append(o)
+                yield rev
+        recorded = history.record_many(revisions())
+        return state, list(zip(outcomes, recorded))
 
     on_disk: dict[str, list[str]] = {}
     for rel in disk:
