@@ -12,6 +12,8 @@ from tests.reliability.conftest import record
 from tracker.cli import main
 from tracker.history import History
 from tracker.history.verify import verify
+from tracker.tracking.authors import Authors
+from tracker.tracking.startup import start
 
 
 def _cli(*args):
@@ -70,7 +72,21 @@ def test_backup_and_restore(recorded, tmp_path):
     dst.close()
     src.close()
     assert verify(History.open(backup, create=False)).ok
+    # a change after the backup, then the history is damaged and the backup restored
+    assert main(["replace", str(estate), "quill-court-2/CU1/3/shower", "--power-kw", "9.5", "--by", "S"]) == 1
     _damage(db, "zeroed pages")
+    assert _cli("verify", estate).returncode != 0
     db.unlink()
     backup.replace(db)
     assert _cli("verify", estate).returncode == 0
+    # the next start finds the change the restored history lacks and records it (README, Reliability)
+    history = History.open(db, create=False)
+    before = history.count()
+    _, done = start(estate, history, Authors(estate))
+    # (the fixture's `replace` recorded only its own site: the others are recorded now as found)
+    mine = [o for o, _ in done if o.file == "quill-court-2/site.yaml"]
+    assert len(mine) == 1 and mine[0].valid
+    assert [(c.ref, c.field, c.old, c.new) for c in mine[0].changes] == [
+        ("quill-court-2/CU1/3/shower", "power_kw", 8, 9.5)]
+    assert history.count() == before + len(done) and verify(history).ok
+    history.close()
