@@ -8,6 +8,7 @@ from __future__ import annotations
 from datetime import datetime, timezone
 
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, UNIT_DIGITS, WARN
+from tracker.tracking.diff import show_value
 
 # The state of a circuit in the UI: the engine's status, with failing circuits split by
 # whether somebody has acknowledged them since they last got worse.
@@ -44,15 +45,7 @@ def number(x: float | None, u: str | None = None, digits: int | None = None) -> 
     return f"{text} {shown}" if shown else text
 
 
-def plain(x) -> str:
-    """A recorded old/new value as written in a site file."""
-    if x is None:
-        return "(none)"
-    if isinstance(x, bool):
-        return "true" if x else "false"
-    if isinstance(x, float):
-        return f"{x:g}"
-    return str(x)
+plain = show_value   # a recorded old/new value as written in a site file
 
 
 def field_and_unit(field: str | None) -> tuple[str, str]:
