@@ -58,3 +58,26 @@ print(all(a and b for a, b in ordered_results(signals, list(range(6)), 2)))
 """
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert out.stdout.strip() == "True", out.stderr
+
+
+PROBE_WITHOUT_STDERR = """
+import sys, threading, time
+class Capture:                 # what the terminal UI puts in place of stderr while it runs
+    def write(self, text): return len(text)
+    def flush(self): pass
+    def fileno(self): return -1
+sys.stderr = Capture()
+threading.Thread(target=time.sleep, args=(10,), daemon=True).start()   # threads running: spawned workers
+from tracker.parallel import ordered_results
+from tests.parallel_probe import signals
+print(list(ordered_results(signals, [1, 2, 3], 2)))
+"""
+
+
+def test_workers_start_while_stderr_has_no_descriptor():
+    """Found in a real terminal: the UI on an estate of 40 sites or more stopped watching at once
+    ("bad value(s) in fds_to_keep"), because starting workers hands stderr's descriptor on."""
+    proc = subprocess.run([sys.executable, "-c", PROBE_WITHOUT_STDERR], capture_output=True, text=True,
+                          timeout=120)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    assert proc.stdout.strip() == "[(True, True), (True, True), (True, True)]"
