@@ -1,5 +1,6 @@
 """A progress line on stderr for long runs: drawn only on a terminal, only once a run has taken
-more than a second, at most ten times a second; silent when stderr is not a terminal."""
+more than a second, at most ten times a second; silent when stderr is not a terminal.
+A subclass may draw it elsewhere (the terminal UI's status line)."""
 from __future__ import annotations
 
 import sys
@@ -25,12 +26,19 @@ class Progress:
         if now - self.start < self.delay_s or now - self._last < 0.1:
             return
         self._last = now
-        width = 30
-        frac = self.done / self.total if self.total else 1.0
-        bar = "#" * int(frac * width) + "-" * (width - int(frac * width))
-        self.stream.write(f"\r{self.label} [{bar}] {self.done}/{self.total}")
-        self.stream.flush()
+        self.draw(self.line())
         self._drawn = True
+
+    def bar(self, width: int) -> str:
+        frac = min(1.0, self.done / self.total) if self.total else 1.0
+        return "#" * int(frac * width) + "-" * (width - int(frac * width))
+
+    def line(self) -> str:
+        return f"{self.label} [{self.bar(30)}] {self.done}/{self.total}"
+
+    def draw(self, line: str) -> None:
+        self.stream.write("\r" + line)
+        self.stream.flush()
 
     def close(self) -> None:
         if self._drawn:

@@ -14,12 +14,27 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from tracker.history import History, HistoryError
+from tracker.progress import Progress
 from tracker.tracking.authors import Authors
 from tracker.watcher import DEBOUNCE_S, Update, Watcher
 from tui.snapshot import RowCache, Snapshot, build
 
 POLL_S = 0.1             # how long one wait for file events lasts (the loop's reaction time)
 HEAD_CHECK_S = 1.0       # how often to look for revisions written by other processes
+
+
+class StatusProgress(Progress):
+    """The watcher's start, shown as a bar in the UI's status line once it takes over a second."""
+
+    def __init__(self, show: Callable[[str], None], label: str):
+        super().__init__(0, label)
+        self.live, self._show = True, show
+
+    def line(self) -> str:
+        return f"{self.label} sites {self.done}/{self.total} [{self.bar(10)}]…"   # "…": work in progress
+
+    def draw(self, line: str) -> None:
+        self._show(line)
 
 
 @dataclass(frozen=True)
@@ -83,7 +98,7 @@ class LiveEstate:
             if not abandoned:     # an abandoned start still uses the connection until the process ends
                 history.close()
 
-    def _start(self, watcher: Watcher, stopped: Callable[[], bool]) -> list[Update] | None:
+    def _start(self, watcher: Watcher, stopped: Callable[[], bool], progress=None) -> list[Update] | None:
         """`watcher.start()`, which on a large estate takes a while, without holding up a quit:
         it runs in a daemon thread that is left behind (None) if the UI stops meanwhile. The
         history is safe either way: each write is one transaction, done whole or not at all."""
@@ -91,7 +106,7 @@ class LiveEstate:
 
         def start() -> None:
             try:
-                box["updates"] = watcher.start()
+                box["updates"] = watcher.start(progress)
             except BaseException as exc:  # noqa: BLE001 - handed back to the loop below
                 box["error"] = exc
 
@@ -111,10 +126,11 @@ class LiveEstate:
         reason = "start"
         while not stopped():
             self._recheck.clear()
-            cb.status("checking every circuit…" if reason == "start" else "re-checking every circuit…")
+            label = "checking every circuit…" if reason == "start" else "re-checking every circuit…"
+            cb.status(label)
             t0 = time.monotonic()
             watcher = Watcher(self.root, history, self.authors or Authors(self.root), self.debounce_s)
-            updates = self._start(watcher, stopped)
+            updates = self._start(watcher, stopped, StatusProgress(cb.status, label.split()[0]))
             if updates is None:
                 return True
             try:
