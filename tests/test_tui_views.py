@@ -115,6 +115,11 @@ def test_rows_are_rebuilt_only_where_something_changed(live):
                          ack=(row.ref, list(row.open_checks))))
     third = S.build(w.state, h, cache)
     assert third.by_ref[row.ref] is not row and third.by_ref[row.ref].state == ACKED
+    assert third.by_ref[SHOWER] is second.by_ref[SHOWER]     # the acknowledgement's site only
+    for cached in (second, third):                            # the cache changes nothing seen
+        fresh = S.build(w.state, h) if cached is third else fresh
+        assert (cached.rows, cached.counts, cached.since, cached.circuits) == (
+            fresh.rows, fresh.counts, fresh.since, fresh.circuits)
 
 
 def test_the_working_is_the_engines_own(live):
@@ -214,3 +219,32 @@ def test_the_cause_of_a_board_problem_is_written_from_its_site(live):
     board = snap.by_ref["quill-court-2/CU1"]
     assert board.state == NEW and board.cause.text == "CU1/3/shower power 7.5 → 9.5 kW"
     assert snap.by_ref[SHOWER].cause.text == "shower power 7.5 → 9.5 kW"
+
+
+def test_a_cached_snapshot_equals_a_fresh_one_over_random_edits_and_acks(live):
+    """Edits (loads, lengths) and acknowledgements in a seeded random order: after each, the
+    snapshot built from the kept cache is the one built from nothing."""
+    import random
+    import re
+    root, w, h, _ = live
+    rng = random.Random(11)
+    cache = S.RowCache()
+    S.build(w.state, h, cache)
+    files = sorted(p for p in root.glob("*/*.yaml"))
+    for step in range(12):
+        if step % 3 == 2:
+            snap = S.build(w.state, h, cache)
+            failing = [r for r in snap.rows if r.state == NEW]
+            row = rng.choice(failing)
+            h.record(NewRevision(source="ack", author=AUTHOR, site=row.site_id, note=f"step {step}",
+                                 ack=(row.ref, list(row.open_checks))))
+        else:
+            path = rng.choice(files)
+            text = path.read_text()
+            numbers = list(re.finditer(r"(power_kw|length_m): ([0-9.]+)", text))
+            m = rng.choice(numbers)
+            value = round(float(m.group(2)) * rng.choice((0.5, 1.6, 2.5)), 2)
+            path.write_text(text[:m.start(2)] + str(value) + text[m.end(2):])
+            settle_file(w, root, path.relative_to(root).as_posix())
+        cached, fresh = S.build(w.state, h, cache), S.build(w.state, h)
+        assert (cached.rows, cached.counts, cached.since) == (fresh.rows, fresh.counts, fresh.since), step

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from tracker.checks.result import FAIL, PASS
 from tracker.checks.site import SiteResult
 from tracker.history import History
-from tracker.history.query import failing_since, latest_acks, revisions_by_id
+from tracker.history.query import failing_since, latest_acks, refs_touched, revisions_by_id
 from tracker.loading.errors import InputError
 from tracker.tracking.state import EstateState
 from tui.wording import ACKED, NEW, STATES, change_text
@@ -115,37 +115,49 @@ def _base_rows(sr: SiteResult) -> list[tuple]:
     return out
 
 
+class _Piece:
+    """One site's part of a snapshot, kept while its results and its history stay the same."""
+
+    __slots__ = ("sr", "version", "by_state", "failing", "by_ref", "kept", "circuits", "count")
+
+    def __init__(self, sr: SiteResult, version: int):
+        self.sr, self.version = sr, version
+        self.by_state: dict[str, list[Row]] = {}        # rows of each state, in wiring order
+        self.failing: dict[str, list[tuple]] = {}       # NEW / ACKED: [(sort key, row)]
+        self.by_ref: dict[str, Row] = {}
+        self.kept: dict[tuple[str, str], dict] = {}     # failing_since entries of its failing checks
+        self.circuits = 0
+        self.count: dict[str, int] = {}
+
+
 class RowCache:
-    """Rows kept between snapshots: a site's rows are rebuilt only when its results change, and
-    a row only when what the history says about it (its latest event, its acknowledgement) does."""
+    """What is kept between snapshots, so that a change costs what it touches, not the estate:
+    the history's answers (failing since, latest acknowledgements), folded forward revision by
+    revision; and each site's rows, rebuilt only when its results or its history change."""
 
     def __init__(self):
-        self._by_site: dict[str, tuple[int, list[tuple]]] = {}
-        self._rows: dict[str, tuple[int, dict[str, tuple[tuple, Row]]]] = {}
+        self._pieces: dict[str, _Piece] = {}
+        self._since: dict[tuple[str, str], dict] = {}
+        self._acks: dict[str, dict] = {}
+        self._seen = 0                                   # the newest revision folded in
+        self._versions: dict[str, int] = {}              # site id -> how often its history moved
 
-    def base(self, sr: SiteResult) -> list[tuple]:
-        key = sr.site.id
-        hit = self._by_site.get(key)
-        if hit is not None and hit[0] == id(sr):
-            return hit[1]
-        rows = _base_rows(sr)
-        self._by_site[key] = (id(sr), rows)
-        return rows
-
-    def rows_of(self, sr: SiteResult) -> dict[str, tuple[tuple, Row]]:
-        """ref -> (history key, Row) built for these results (filled in by `build`)."""
-        key = sr.site.id
-        hit = self._rows.get(key)
-        if hit is None or hit[0] != id(sr):
-            hit = (id(sr), {})
-            self._rows[key] = hit
-        return hit[1]
+    def fold(self, history: History) -> None:
+        head, _ = history.head()
+        if head <= self._seen:
+            return
+        if self._seen:
+            for ref in refs_touched(history, self._seen, head):
+                site = ref.split("/", 1)[0]
+                self._versions[site] = self._versions.get(site, 0) + 1
+        failing_since(history, self._since, self._seen, head)
+        latest_acks(history, self._acks, self._seen, head)
+        self._seen = head
 
     def keep_only(self, site_ids) -> None:
         keep = set(site_ids)
-        for store in (self._by_site, self._rows):
-            for k in set(store) - keep:
-                del store[k]
+        for k in set(self._pieces) - keep:
+            del self._pieces[k]
 
 
 def _cause(ref: str, kind_: str, rev: dict) -> Cause:
@@ -167,75 +179,108 @@ def _cause(ref: str, kind_: str, rev: dict) -> Cause:
     return Cause(rev["id"], rev["at"], rev["author"], text, kind, rev.get("note"))
 
 
+def _pieces_for(dirty: list[SiteResult], cache: RowCache, history: History) -> None:
+    """Build the rows of the sites whose results or history changed."""
+    since, acks = cache._since, cache._acks
+    work = []
+    wanted: set[int] = set()
+    for sr in dirty:
+        piece = _Piece(sr, cache._versions.get(sr.site.id, 0))
+        latest: dict[str, int] = {}
+        base = _base_rows(sr)
+        for ref, _kind, _b, _c, _n, _status, failing, _open in base:
+            for check in failing:
+                entry = since.get((ref, check))
+                if entry is None:
+                    continue
+                piece.kept[(ref, check)] = entry
+                rid = max(entry["revision"], entry.get("worse_revision", 0))
+                if rid > latest.get(ref, 0):
+                    latest[ref] = rid
+        wanted.update(latest.values())
+        work.append((piece, base, latest))
+    revs = revisions_by_id(history, wanted)
+    for piece, base, latest in work:
+        sr = piece.sr
+        site_id, site_name = sr.site.id, sr.site.name
+        for i, (ref, kind, board_id, circuit_id, name, status, failing, open_checks) in enumerate(base):
+            ack = acks.get(ref)
+            ack_note = (AckNote(ack["revision"], ack["at"], ack["author"], ack["note"] or "", tuple(ack["checks"]))
+                        if ack else None)
+            cause = None
+            if status == FAIL:
+                rid = latest.get(ref)
+                if rid is not None and rid in revs:
+                    cause = _cause(ref, kind, revs[rid])
+                # No recorded event for a failing check counts as newly broken: nobody has seen it.
+                state_ = ACKED if ack_note is not None and rid is not None and rid < ack_note.revision else NEW
+            else:
+                state_ = status
+            row = Row(ref, kind, site_id, site_name, board_id, circuit_id, name, status, state_,
+                      failing, open_checks, cause, ack_note, i, f"{ref} {name} {site_name}".lower())
+            if state_ in (NEW, ACKED):
+                piece.failing.setdefault(state_, []).append(((-(cause.revision if cause else 0), site_id, i), row))
+            else:
+                piece.by_state.setdefault(state_, []).append(row)
+            piece.by_ref[ref] = row
+            piece.count[state_] = piece.count.get(state_, 0) + 1
+            piece.circuits += kind == CIRCUIT
+        cache._pieces[site_id] = piece
+
+
 def build(state: EstateState, history: History, cache: RowCache | None = None,
           first_record: bool = False) -> Snapshot:
-    """A snapshot of `state` with what the history says about each problem."""
+    """A snapshot of `state` with what the history says about each problem.
+
+    Rows come newly broken first (newest cause first), then acknowledged, then by state, each
+    state in site and wiring order. With a cache kept from the last snapshot only the sites
+    whose results or history changed are rebuilt.
+    """
     cache = cache or RowCache()
+    cache.fold(history)
     results = sorted(state.site_results(), key=lambda sr: sr.site.id)
     cache.keep_only(sr.site.id for sr in results)
-    since = failing_since(history)
-    acks = latest_acks(history)
-    rows_base = []
+    pieces = cache._pieces
+    dirty = []
     for sr in results:
-        for i, b in enumerate(cache.base(sr)):
-            rows_base.append((sr, b, i))
+        piece = pieces.get(sr.site.id)
+        if piece is None or piece.sr is not sr or piece.version != cache._versions.get(sr.site.id, 0):
+            dirty.append(sr)
+    if dirty:
+        _pieces_for(dirty, cache, history)
+    ordered = [pieces[sr.site.id] for sr in results]
 
-    # Which revision made each failing element's problem what it is: its latest newly-failing
-    # or worse event among the checks failing now.
-    latest: dict[str, int] = {}
-    kept_since: dict[tuple[str, str], dict] = {}
-    for sr, (ref, _kind, _b, _c, _n, _status, failing, _open), _i in rows_base:
-        for check in failing:
-            entry = since.get((ref, check))
-            if entry is None:
-                continue
-            kept_since[(ref, check)] = entry
-            rid = max(entry["revision"], entry.get("worse_revision", 0))
-            if rid > latest.get(ref, 0):
-                latest[ref] = rid
-    revs = revisions_by_id(history, set(latest.values()))
-
-    rows = []
-    for sr, (ref, kind, board_id, circuit_id, name, status, failing, open_checks), i in rows_base:
-        ack = acks.get(ref)
-        rid = latest.get(ref) if status == FAIL else None
-        key = (ack["revision"] if ack else 0, rid)
-        built = cache.rows_of(sr)
-        hit = built.get(ref)
-        if hit is not None and hit[0] == key:
-            rows.append(hit[1])
-            continue
-        ack_note = (AckNote(ack["revision"], ack["at"], ack["author"], ack["note"] or "", tuple(ack["checks"]))
-                    if ack else None)
-        cause = None
-        if status == FAIL:
-            if rid is not None and rid in revs:
-                cause = _cause(ref, kind, revs[rid])
-            # No recorded event for a failing check counts as newly broken: nobody has seen it.
-            state_ = ACKED if ack_note is not None and rid is not None and rid < ack_note.revision else NEW
-        else:
-            state_ = status
-        site_name = sr.site.name
-        row = Row(ref, kind, sr.site.id, site_name, board_id, circuit_id, name, status, state_,
-                  failing, open_checks, cause, ack_note, i, f"{ref} {name} {site_name}".lower())
-        built[ref] = (key, row)
-        rows.append(row)
-
-    rank = {s: k for k, s in enumerate(STATES)}
-    site_rank = {sr.site.id: k for k, sr in enumerate(results)}
-    rows.sort(key=lambda r: (rank[r.state], -(r.cause.revision if r.cause else 0) if r.state in (NEW, ACKED) else 0,
-                             site_rank[r.site_id], r.order))
+    rows: list[Row] = []
     counts = {s: 0 for s in STATES}
+    for st in STATES:
+        if st in (NEW, ACKED):
+            keyed = [kr for p in ordered for kr in p.failing.get(st, ())]
+            keyed.sort(key=_first)
+            rows.extend(r for _, r in keyed)
+        else:
+            for p in ordered:
+                part = p.by_state.get(st)
+                if part:
+                    rows.extend(part)
+    kept_since: dict[tuple[str, str], dict] = {}
+    by_ref: dict[str, Row] = {}
     n_circuits = 0
-    for r in rows:
-        counts[r.state] += 1
-        n_circuits += r.kind == CIRCUIT
+    for p in ordered:
+        kept_since.update(p.kept)
+        by_ref.update(p.by_ref)
+        n_circuits += p.circuits
+        for st, n in p.count.items():
+            counts[st] += n
     # By file; within a file in the loader's order (its own errors before what they cause).
     errors = tuple(e for rel in sorted(state.errors) for e in state.errors[rel])
     in_force = frozenset(f for sr in results for f in sr.site.files)
     head, _ = history.head()
-    return Snapshot(tuple(rows), {r.ref: r for r in rows}, {sr.site.id: sr for sr in results}, errors, counts,
+    return Snapshot(tuple(rows), by_ref, {sr.site.id: sr for sr in results}, errors, counts,
                     n_circuits, history.count(), head, kept_since, first_record, in_force)
+
+
+def _first(pair: tuple):
+    return pair[0]
 
 
 # -- the list's filters -------------------------------------------------------------------

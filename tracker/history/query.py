@@ -70,23 +70,38 @@ def _load(text):
     return None if text is None else json.loads(text)
 
 
-def latest_acks(history: History) -> dict[str, dict]:
-    """ref -> its latest acknowledgement {revision, at, author, note, checks}."""
-    out = {}
+def latest_acks(history: History, into: dict | None = None, after: int = 0,
+                upto: int | None = None) -> dict[str, dict]:
+    """ref -> its latest acknowledgement {revision, at, author, note, checks}.
+
+    With `into` and `after`, the acknowledgements of revisions after `after` (and up to `upto`)
+    are folded into an earlier answer: the history only grows, so the result is the same.
+    """
+    out = {} if into is None else into
     for rid, ref, checks, at, author, note in history.db.execute(
             "SELECT a.revision_id, a.ref, a.checks, r.at, r.author, r.note FROM acks a "
-            "JOIN revisions r ON r.id = a.revision_id ORDER BY a.revision_id"):
+            "JOIN revisions r ON r.id = a.revision_id WHERE a.revision_id > ? AND a.revision_id <= ? "
+            "ORDER BY a.revision_id", [after, _upto(upto)]):
         out[ref] = {"revision": rid, "at": at, "author": author, "note": note, "checks": json.loads(checks)}
     return out
 
 
-def failing_since(history: History) -> dict[tuple[str, str], dict]:
-    """(ref, check) -> the revision of its latest newly-failing or worse event, with the cause."""
-    out = {}
+def _upto(upto: int | None) -> int:
+    return (1 << 62) if upto is None else upto
+
+
+def failing_since(history: History, into: dict | None = None, after: int = 0,
+                  upto: int | None = None) -> dict[tuple[str, str], dict]:
+    """(ref, check) -> the revision of its latest newly-failing or worse event, with the cause.
+
+    `into`, `after`, `upto`: folded into an earlier answer, as for `latest_acks`.
+    """
+    out = {} if into is None else into
     for rid, ref, check, transition, at, author, note, file in history.db.execute(
             "SELECT e.revision_id, e.ref, e.check_id, e.transition, r.at, r.author, r.note, r.file "
             "FROM events e JOIN revisions r ON r.id = e.revision_id "
-            "WHERE e.transition IN ('newly-failing', 'worse', 'cleared') ORDER BY e.revision_id"):
+            "WHERE e.revision_id > ? AND e.revision_id <= ? "
+            "AND e.transition IN ('newly-failing', 'worse', 'cleared') ORDER BY e.revision_id", [after, _upto(upto)]):
         key = (ref, check)
         if transition == "cleared":
             out.pop(key, None)
@@ -94,8 +109,15 @@ def failing_since(history: History) -> dict[tuple[str, str], dict]:
             out[key] = {"revision": rid, "at": at, "author": author, "note": note, "file": file,
                         "transition": transition}
         else:
-            out[key]["worse_revision"] = rid
+            out[key] = {**out[key], "worse_revision": rid}
     return out
+
+
+def refs_touched(history: History, after: int, upto: int) -> set[str]:
+    """The refs with an event or an acknowledgement in the revisions after `after` up to `upto`."""
+    return {r for (r,) in history.db.execute(
+        "SELECT ref FROM events WHERE revision_id > ? AND revision_id <= ? "
+        "UNION SELECT ref FROM acks WHERE revision_id > ? AND revision_id <= ?", [after, upto, after, upto])}
 
 
 def revisions_by_id(history: History, ids) -> dict[int, dict]:
