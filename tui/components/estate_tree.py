@@ -65,7 +65,7 @@ class EstateTree(Tree[Branch]):
         self.snapshot: Snapshot = EMPTY
         self._tallies: dict[str, _SiteTally] = {}
         self._sites: dict[str, TreeNode[Branch]] = {}
-        self._results_seen: dict[str, int] = {}
+        self._results_seen: dict[str, object] = {}     # site id -> the results its branch shows
 
     # -- labels -------------------------------------------------------------------------
 
@@ -144,6 +144,7 @@ class EstateTree(Tree[Branch]):
         self._load(event.node)
 
     def show(self, snapshot: Snapshot) -> None:
+        before = self._tallies
         self.snapshot = snapshot
         self._tallies = site_tallies(snapshot)
         ids = list(snapshot.sites)
@@ -152,10 +153,11 @@ class EstateTree(Tree[Branch]):
             return
         for site_id, node in self._sites.items():
             sr = snapshot.sites[site_id]
-            if self._results_seen.get(site_id) != id(sr):
-                self._results_seen[site_id] = id(sr)
+            if self._results_seen.get(site_id) is not sr:
+                self._results_seen[site_id] = sr
                 self._reload(node)
-            else:
+            elif node.children or before.get(site_id) != self._tallies.get(site_id):
+                # a closed site's label is its tally; an opened one's rows may have changed state
                 self._relabel(node)
 
     def _open_refs(self, node: TreeNode[Branch]) -> set[str]:
@@ -205,7 +207,7 @@ class EstateTree(Tree[Branch]):
             b = Branch(SITE, site_id, site_id)
             node = self.root.add(self._label(b), data=b, allow_expand=True)
             self._sites[site_id] = node
-            self._results_seen[site_id] = id(self.snapshot.sites[site_id])
+            self._results_seen[site_id] = self.snapshot.sites[site_id]
         self.root.expand()
         for node in self._sites.values():
             self._reopen(node, keep)
