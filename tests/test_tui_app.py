@@ -260,6 +260,13 @@ def test_the_estate_tree_walks_the_wiring(demo_copy):
             await pilot.pause()
             board = next(n for n in tree.root.children if n.data.ref == "orchard-end").children[0]
             assert board.is_expanded and "✓ ok" in str(board.children[0].label)
+            # a closed site's label follows its tally
+            quill = next(n for n in tree.root.children if n.data.ref == "quill-court-2")
+            assert not quill.children and "no failures" in str(quill.label)
+            edit(demo_copy / "quill-court-2" / "site.yaml", "power_kw: 7.5", "power_kw: 8.5")
+            await until(pilot, lambda: app.snapshot.by_ref[SHOWER].status == "fail")
+            await pilot.pause()
+            assert "1 failing (1 new)" in str(quill.label)
     run(go())
 
 
