@@ -10,7 +10,7 @@ from rich.console import Console
 from textual.widgets import Static
 
 from tests.tui_helpers import AUTHOR, edit, loaded, make_app, run, until
-from tracker.history import History
+from tracker.history import History, NewRevision
 from tracker.history.query import revisions
 from tui.components.ack_dialog import AckDialog
 from tui.components.details_screen import DetailsScreen
@@ -267,6 +267,14 @@ def test_the_estate_tree_walks_the_wiring(demo_copy):
             await until(pilot, lambda: app.snapshot.by_ref[SHOWER].status == "fail")
             await pilot.pause()
             assert "1 failing (1 new)" in str(quill.label)
+            # an acknowledgement from another process changes the tally, not the results
+            h = History.open(demo_copy / ".izwatch" / "history.sqlite")
+            h.record(NewRevision(source="ack", author=AUTHOR, site="quill-court-2", note="booked",
+                                 ack=(SHOWER, ["capacity"])))
+            h.close()
+            await until(pilot, lambda: app.snapshot.by_ref[SHOWER].state == ACKED)
+            await pilot.pause()
+            assert "1 failing" in str(quill.label) and "new" not in str(quill.label)
     run(go())
 
 
