@@ -10,7 +10,7 @@ process so that one measurement cannot warm the next:
   ratios hold);
 - a cold `izwatch check --json` (wall time and peak resident memory);
 - one incremental re-check in-process after a one-load edit (median of 50 edits on 50 sites,
-  the state held as the watcher holds it);
+  the state held as the watcher holds it), and the terminal UI's new snapshot after it;
 - at the smallest and the largest size: end-to-end latency from a saved file to its event printed
   by `izwatch watch --json` (p50 and p95 over --edits edits), the watcher's first start (which
   makes the history's first record), and its start on the unchanged estate with that history.
@@ -60,9 +60,15 @@ gc.disable()
 st.seed({rel: p.read_bytes() for rel, p in st.disk_files().items()})
 gc.freeze()        # as the watcher holds its state (tracker/watcher.py)
 gc.enable()
+from tracker.history import History
+from tracker.tracking.startup import to_revision
+from tui.snapshot import RowCache, build
+history = History.open(None)            # in memory: the UI's snapshot needs a history to read
+cache = RowCache()
+build(st, history, cache)
 rng = random.Random(3)
 folders = rng.sample(sorted(st.sites), min(50, len(st.sites)))
-times, rechecked = [], []
+times, rechecked, ui = [], [], []
 for folder in folders:
     rel = folder + '/site.yaml'
     text = (root / rel).read_text()
@@ -73,8 +79,13 @@ for folder in folders:
     out = st.apply_bytes(rel, new.encode())
     times.append(time.perf_counter() - t)
     rechecked.append(out.rechecked)
+    history.record(to_revision(out, "watch", "benchmark"))
+    t = time.perf_counter()
+    build(st, history, cache)             # what the terminal UI then shows
+    ui.append(time.perf_counter() - t)
 print(json.dumps({"median_s": statistics.median(times), "edits": len(times),
-                  "circuits_rechecked_median": statistics.median(rechecked)}))
+                  "circuits_rechecked_median": statistics.median(rechecked),
+                  "ui_snapshot_median_s": statistics.median(ui)}))
 """
 
 
