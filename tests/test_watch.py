@@ -278,3 +278,54 @@ def test_reading_every_file_does_not_flood_the_watcher(demo_copy, monkeypatch):
     finally:
         w.stop()
         h.close()
+
+
+def _two_problems(path):
+    """A schema error and a reference that does not resolve, in one save."""
+    edit(path, "ze_ohm: 0.28", "ze_ohm: -0.28")
+    edit(path, "board: CU1", "board: CU9")
+
+
+def _check_errors(root):
+    proc = subprocess.run([sys.executable, "-m", "tracker.cli", "check", str(root)], capture_output=True,
+                          text=True, timeout=120)
+    assert proc.returncode == 2
+    return proc.stderr.strip().splitlines()
+
+
+def test_a_bad_save_reports_every_problem_as_check_does(demo_copy):
+    w, h, _ = start_watcher(demo_copy)
+    try:
+        _two_problems(demo_copy / SHOWER)
+        got = settle(w, until=lambda g: g)
+        assert [str(e) for e in got[0].outcome.errors] == _check_errors(demo_copy)
+        assert len(got[0].outcome.errors) == 2 and "CU9" in got[0].outcome.events[0]["detail"]
+    finally:
+        w.stop()
+        h.close()
+
+
+def test_a_bad_file_found_at_start_reports_every_problem_as_check_does(demo_copy):
+    w, h, _ = start_watcher(demo_copy)
+    w.stop()
+    h.close()
+    _two_problems(demo_copy / SHOWER)
+    w, h, updates = start_watcher(demo_copy)
+    try:
+        assert [str(e) for e in w.state.errors[SHOWER]] == _check_errors(demo_copy)
+        assert [u.outcome.valid for u in updates if u.outcome.file == SHOWER] == [False]
+    finally:
+        w.stop()
+        h.close()
+
+
+def test_a_bad_file_at_the_first_start_reports_every_problem_as_check_does(demo_copy):
+    _two_problems(demo_copy / SHOWER)
+    w, h, updates = start_watcher(demo_copy)
+    try:
+        assert [str(e) for e in w.state.errors[SHOWER]] == _check_errors(demo_copy)
+        bad = [u.outcome for u in updates if u.outcome.file == SHOWER]
+        assert len(bad) == 1 and not bad[0].valid and "CU9" in bad[0].events[0]["detail"]
+    finally:
+        w.stop()
+        h.close()

@@ -68,12 +68,13 @@ class FolderSeed:
 
 def seed_folder(folder: str, folder_name: str, files: dict[str, bytes], last_good=None) -> FolderSeed:
     """A folder's files → its last good file results, its site and the site's results."""
-    good, hashes, errors, unloadable = {}, {}, {}, []
+    good, hashes, errors, unloadable, now = {}, {}, {}, [], {}
     for rel in sorted(files):
         raw = files[rel]
         digest = sha256_hex(raw)
         hashes[rel] = digest
         fr = _read_text(raw, rel, digest)
+        now[rel] = fr
         if fr.errors:
             errors[rel] = list(fr.errors)
             older = last_good(rel) if last_good else None
@@ -84,14 +85,33 @@ def seed_folder(folder: str, folder_name: str, files: dict[str, bytes], last_goo
             if fr.errors:
                 continue
         good[rel] = fr
+    if errors:
+        errors = _all_problems(folder_name, folder, now, errors)
     fs = FolderSeed(folder, good, hashes, errors, unloadable=tuple(unloadable))
     sl = assemble_site(folder_name, folder, _order(list(good.values())))
     if sl.site is None:
-        for e in sl.errors:
-            fs.errors.setdefault(e.file, []).append(e)
+        if not unloadable:   # (without a file that does not load, what remains says little)
+            for e in sl.errors:
+                fs.errors.setdefault(e.file, []).append(e)
         return fs
     fs.site, fs.result = sl.site, evaluate_site(sl.site, explain=False)
     return fs
+
+
+def _all_problems(folder_name: str, folder: str, now: dict[str, FileResult],
+                  errors: dict[str, list]) -> dict[str, list]:
+    """Every problem of a folder's files as they are now — what `check` reports: a file's own
+    errors and, where every file parses, what assembling the site finds too (a reference that
+    does not resolve, ...). Each is kept under its own file where that file is at fault, else
+    under the first file at fault (whose fix is what clears them)."""
+    if not all(fr.parsed for fr in now.values()):
+        return errors
+    sl = assemble_site(folder_name, folder, _order(list(now.values())))
+    first = min(errors)
+    out: dict[str, list] = {}
+    for e in sl.errors:
+        out.setdefault(e.file if e.file in errors else first, []).append(e)
+    return out or errors
 
 
 def _seed_run(job) -> list[FolderSeed]:
@@ -273,10 +293,14 @@ class EstateState:
         else:
             self.hashes[rel] = digest
         fr = _read_text(raw, rel, digest) if raw is not None else None
-        if fr is not None and fr.errors:
-            return self._input_error(rel, folder, raw, digest, fr.errors)
-        self.errors.pop(rel, None)
         good = dict(self.good.get(folder, {}))
+        if fr is not None and fr.errors:
+            errors = fr.errors
+            if fr.parsed:   # every problem at once, as `check` reports them
+                sl = assemble_site(self.folder_name(folder), folder, _order(list({**good, rel: fr}.values())))
+                errors = sl.errors or errors
+            return self._input_error(rel, folder, raw, digest, errors)
+        self.errors.pop(rel, None)
         if fr is None:
             good.pop(rel, None)
         else:
