@@ -55,7 +55,17 @@ def test_json_shape_of_the_spec(capsys):
 def test_clean_site_exits_zero(site_factory, capsys):
     root = site_factory(MINIMAL)
     assert main(["check", str(root)]) == 0
-    assert "1 circuits in 1 site(s): 0 fail" in capsys.readouterr().out
+    assert "1 circuit in 1 site: 0 fail" in capsys.readouterr().out
+
+
+def test_the_summary_counts_board_demand_and_problems_lists_only_problems(capsys):
+    from tests.conftest import DEMO
+    assert main(["check", str(DEMO), "--problems"]) == 1
+    out = capsys.readouterr().out
+    # demo: orchard-end's origin, house board and workshop board fail their maximum demand
+    assert out.strip().splitlines()[-2].endswith("pass; demand: 3 of 11 boards and origins fail")
+    assert "quill-court-2" not in out            # a site with nothing to list is left out
+    assert "orchard-end/WS1" in out and "== larkspur-yard-4" in out
 
 
 def test_invalid_input_exit_2_with_located_errors(site_factory):

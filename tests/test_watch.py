@@ -329,3 +329,30 @@ def test_a_bad_file_at_the_first_start_reports_every_problem_as_check_does(demo_
     finally:
         w.stop()
         h.close()
+
+
+def test_history_of_a_site_shows_the_save_that_made_it_load_again(demo_copy):
+    w, h, _ = start_watcher(demo_copy)
+    try:
+        path = demo_copy / SHOWER
+        good = path.read_text()
+        path.write_text(good.replace("power_kw: 7.5", "power_kw: [7.5"))
+        settle(w, until=lambda g: g)
+        path.write_text(good)                                  # as it last loaded
+        got = settle(w, until=lambda g: g)
+        rid = got[0].recorded.id
+        assert got[0].outcome.valid and got[0].outcome.changes == [] and got[0].outcome.events == []
+    finally:
+        w.stop()
+        h.close()
+    h = History.open(demo_copy / ".izwatch" / "history.sqlite")
+    assert rid in [r["id"] for r in revisions(h, ref="quill-court-2")]
+    assert rid not in [r["id"] for r in revisions(h, ref="orchard-end")]
+    h.close()
+    proc = subprocess.run([sys.executable, "-m", "tracker.cli", "history", str(demo_copy), "--ref", "quill-court-2"],
+                          capture_output=True, text=True, timeout=60)
+    block = proc.stdout.split(f"#{rid} ")[1]
+    assert "no element changed" in block.splitlines()[1]
+    proc = subprocess.run([sys.executable, "-m", "tracker.cli", "history", str(demo_copy), "--ref", "nosuch"],
+                          capture_output=True, text=True, timeout=60)
+    assert proc.stdout.strip() == "no revisions match"

@@ -19,9 +19,20 @@ def _add_path(p: argparse.ArgumentParser) -> None:
     p.add_argument("path", metavar="PATH", help="an estate folder (of site folders) or one site folder")
 
 
-def _add_db(p: argparse.ArgumentParser) -> None:
+def _add_db(p: argparse.ArgumentParser, creates: bool = True) -> None:
     p.add_argument("--db", metavar="FILE",
-                   help="history database (default PATH/.izwatch/history.sqlite, created on first use)")
+                   help="history database (default PATH/.izwatch/history.sqlite, "
+                        + ("created on first use)" if creates else "only read; never created)"))
+
+
+def _jobs(text: str) -> int:
+    try:
+        n = int(text)
+    except ValueError:
+        n = -1
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"{text!r}: give a whole number of worker processes, 1 or more")
+    return n
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -41,7 +52,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_path(p)
     p.add_argument("--json", action="store_true", help="print the izwatch.check/1 JSON document")
     p.add_argument("--problems", action="store_true", help="text output: list only circuits that do not pass")
-    p.add_argument("--jobs", type=int, default=0, metavar="N",
+    p.add_argument("--jobs", type=_jobs, default=0, metavar="N",
                    help="worker processes for large estates (default: one per core; 1: a single process)")
     p.set_defaults(func=_run("tracker.commands.check"))
 
@@ -82,7 +93,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--ref", metavar="REF", help="only what concerns this site, board, circuit or load")
     p.add_argument("--since", metavar="DATE", help="only revisions at or after DATE (YYYY-MM-DD)")
     p.add_argument("--json", action="store_true", help="print a JSON list of revisions")
-    _add_db(p)
+    _add_db(p, creates=False)
     p.set_defaults(func=_run("tracker.commands.history"))
 
     p = sub.add_parser("ack", help="acknowledge an open problem (e.g. remedial work booked)",
@@ -100,7 +111,7 @@ def build_parser() -> argparse.ArgumentParser:
                        description="Recompute the history's hash chain and SQLite's integrity check. Exit 0 "
                                    "when intact, 1 otherwise (naming the first revision that does not match).")
     _add_path(p)
-    _add_db(p)
+    _add_db(p, creates=False)
     p.set_defaults(func=_run("tracker.commands.verify"))
 
     p = sub.add_parser("report", help="the landlord's report: the installation, its state and its change history",
@@ -119,7 +130,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", required=True, metavar="FILE",
                    help="the file to write ('-': standard output); with --all-sites, a folder")
     p.add_argument("--since", metavar="DATE", help="history section: only revisions at or after DATE (YYYY-MM-DD)")
-    _add_db(p)
+    _add_db(p, creates=False)
     p.set_defaults(func=_run("tracker.commands.report"))
     return parser
 

@@ -83,9 +83,9 @@ def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
         return None, "", False
     idn = f.rcd_ma / 1000.0
     if current_a >= 5 * idn:
-        return 0.04, f"t ≤ 0.04 s ({f.rcd_ma:g} mA RCD at ≥ 5 IΔn; BS EN 61008/61009, recalled)", True
+        return 0.04, f"t ≤ 0.04 s ({f.rcd_ma:g} mA RCD at ≥ 5 IΔn; BS EN 61008/61009) [recalled]", True
     if current_a >= idn:
-        return 0.3, f"t ≤ 0.3 s ({f.rcd_ma:g} mA RCD at ≥ IΔn; BS EN 61008/61009, recalled)", True
+        return 0.3, f"t ≤ 0.3 s ({f.rcd_ma:g} mA RCD at ≥ IΔn; BS EN 61008/61009) [recalled]", True
     return None, "", False
 
 

@@ -84,25 +84,37 @@ class _TextOut:
         if self.t is None:
             from tracker.output import text_out
             self.t = text_out
-        out.text = "\n".join(self.t.render_site(sr, self.only)) + "\n\n"
+        lines = self.t.render_site(sr, self.only)
+        out.text = "\n".join(lines) + "\n\n" if lines else ""
         for r in sr.circuits.values():
             out.counts[r.status] = out.counts.get(r.status, 0) + 1
+        demands = [b.status for b in sr.boards.values()] + ([sr.supply_check.status] if sr.supply_check else [])
+        out.counts["demand-checked"] = len(demands)
+        out.counts["demand-fail"] = demands.count("fail")
 
     def write(self, out: "SiteOut") -> None:
         self.out.write(out.text)
         self.sites += 1
         for k, v in out.counts.items():
-            self.counts[k] += v
+            self.counts[k] = self.counts.get(k, 0) + v
 
     def close(self, errors, warnings) -> None:
         c = self.counts
-        n = sum(c.values())
+        n = sum(c.get(k, 0) for k in ("fail", "warn", "not-assessed", "pass"))
         if self.sites or not errors:
-            self.out.write(f"{n} circuits in {self.sites} site(s): {c['fail']} fail, {c['warn']} warn, "
-                           f"{c['not-assessed']} not fully assessed, {c['pass']} pass\n")
+            d = c.get("demand-checked", 0)
+            demand = f"; demand: {c.get('demand-fail', 0)} of {d} {_plural(d, 'board or origin', 'boards and origins')} fail" \
+                if d else ""
+            self.out.write(f"{n} {_plural(n, 'circuit')} in {self.sites} {_plural(self.sites, 'site')}: "
+                           f"{c.get('fail', 0)} fail, {c.get('warn', 0)} warn, "
+                           f"{c.get('not-assessed', 0)} not fully assessed, {c.get('pass', 0)} pass{demand}\n")
         else:
             self.out.write(f"nothing checked: {len(errors)} input error(s), listed above\n")
         self.out.write(f"Caution: {self.t.CAUTION}\n")
+
+
+def _plural(n: int, one: str, many: str | None = None) -> str:
+    return one if n == 1 else (many or one + "s")
 
 
 @dataclass

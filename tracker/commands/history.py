@@ -12,7 +12,7 @@ from tracker.tracking.diff import show_value
 DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
 
 
-def render(revisions: list[dict]) -> str:
+def render(revisions: list[dict], filtered: bool = False) -> str:
     lines = []
     for r in revisions:
         what = r["file"] or (f"acknowledgement of {r['ack']['ref']}" if r.get("ack") else "")
@@ -30,7 +30,11 @@ def render(revisions: list[dict]) -> str:
                 lines.append(f"    ! {e['ref']} {e['check']} {e['transition']}")
         if r.get("ack"):
             lines.append(f"    acknowledged: {r['ack']['ref']} ({', '.join(r['ack']['checks'])})")
-    return "\n".join(lines) if lines else "no revisions recorded"
+        elif not r["changes"] and not r["events"] and r["file"]:
+            lines.append("    no element changed (comments or layout only, or the file loads again as it last did)")
+    if lines:
+        return "\n".join(lines)
+    return "no revisions match" if filtered else "no revisions recorded"
 
 
 def run(args) -> int:
@@ -50,5 +54,5 @@ def run(args) -> int:
     if args.json:
         print(json.dumps(revs, indent=2, ensure_ascii=False))
     else:
-        print(render(revs))
+        print(render(revs, filtered=bool(args.ref or args.since)))
     return EXIT_OK

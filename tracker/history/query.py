@@ -25,8 +25,9 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
         where.append(f"(id IN (SELECT revision_id FROM changes WHERE {below}) "
                      f"OR id IN (SELECT revision_id FROM events WHERE {below}) "
                      f"OR id IN (SELECT revision_id FROM acks WHERE {below}) "
-                     "OR id IN (SELECT revision_id FROM events WHERE transition = 'input-error' AND ref = ?))")
-        args += [ref, ref + "/", ref + "0"] * 3 + [ref.split("/")[0]]
+                     "OR id IN (SELECT revision_id FROM events WHERE transition = 'input-error' AND ref = ?) "
+                     "OR site = ?)")   # a site: also its revisions that changed no element (a file loads again)
+        args += [ref, ref + "/", ref + "0"] * 3 + [ref.split("/")[0], ref]
     sql = "SELECT id, at, source, file, site, content_hash, valid, author, note, hash FROM revisions"
     if where:
         sql += " WHERE " + " AND ".join(where)

@@ -5,7 +5,7 @@ from __future__ import annotations
 from tracker.checks import remedy as remedies
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.checks.site import SiteResult, headroom_kw
-from tracker.output.json_out import CAUTION
+from tracker.output.json_out import CAUTION  # noqa: F401 - the check command prints it from here
 
 MARK = {PASS: "ok  ", FAIL: "FAIL", WARN: "warn", NOT_ASSESSED: "n/a "}
 SYMBOL = {FAIL: "✗", WARN: "!", NOT_ASSESSED: "?"}
@@ -26,6 +26,8 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
     for r in sr.circuits.values():
         by_board.setdefault(r.board_id, []).append(r)
     for bref, b in sr.boards.items():
+        if only_problems and b.status == PASS and all(r.status == PASS for r in by_board.get(b.board_id, [])):
+            continue
         board = site.board(b.board_id)
         fed = "supply" if board.at_origin else board.fed_by
         lines.append(f"-- {bref}  {board.name}  (fed by {fed}; demand {b.demand.demand_a:.1f} A) "
@@ -48,27 +50,6 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
                     lines.append(f"        → remedy: {rem['text']}")
     if sr.supply_check is not None and sr.supply_check.status != PASS:
         lines.append(f"   {SYMBOL[sr.supply_check.status]} origin demand: {sr.supply_check.detail}")
+    if only_problems and len(lines) == 2:
+        return []          # nothing of this site to list
     return lines
-
-
-def summary(results) -> tuple[str, dict]:
-    counts = {PASS: 0, WARN: 0, NOT_ASSESSED: 0, FAIL: 0}
-    n = 0
-    for sr in results:
-        for r in sr.circuits.values():
-            counts[r.status] += 1
-            n += 1
-    text = (f"{n} circuits in {len(results)} site(s): {counts[FAIL]} fail, {counts[WARN]} warn, "
-            f"{counts[NOT_ASSESSED]} not fully assessed, {counts[PASS]} pass")
-    return text, counts
-
-
-def render(results, only_problems: bool = False) -> str:
-    lines = []
-    for sr in results:
-        lines.extend(render_site(sr, only_problems))
-        lines.append("")
-    text, _ = summary(results)
-    lines.append(text)
-    lines.append(f"Caution: {CAUTION}")
-    return "\n".join(lines)
