@@ -12,6 +12,7 @@ after the element's latest acknowledgement (or that was never acknowledged).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from operator import itemgetter
 
 from tracker.checks.result import FAIL, PASS
 from tracker.checks.site import SiteResult
@@ -255,7 +256,7 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     for st in STATES:
         if st in (NEW, ACKED):
             keyed = [kr for p in ordered for kr in p.failing.get(st, ())]
-            keyed.sort(key=_first)
+            keyed.sort(key=itemgetter(0))
             rows.extend(r for _, r in keyed)
         else:
             for p in ordered:
@@ -277,10 +278,6 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     head, _ = history.head()
     return Snapshot(tuple(rows), by_ref, {sr.site.id: sr for sr in results}, errors, counts,
                     n_circuits, history.count(), head, kept_since, first_record, in_force)
-
-
-def _first(pair: tuple):
-    return pair[0]
 
 
 # -- the list's filters -------------------------------------------------------------------

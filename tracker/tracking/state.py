@@ -294,11 +294,8 @@ class EstateState:
             self.hashes[rel] = digest
         fr = _read_text(raw, rel, digest) if raw is not None else None
         good = dict(self.good.get(folder, {}))
-        if fr is not None and fr.errors:
-            errors = fr.errors
-            if fr.parsed:   # every problem at once, as `check` reports them
-                sl = assemble_site(self.folder_name(folder), folder, _order(list({**good, rel: fr}.values())))
-                errors = sl.errors or errors
+        if fr is not None and fr.errors:   # every problem at once, as `check` reports them
+            errors = _all_problems(self.folder_name(folder), folder, {**good, rel: fr}, {rel: fr.errors})[rel]
             return self._input_error(rel, folder, raw, digest, errors)
         self.errors.pop(rel, None)
         if fr is None:
