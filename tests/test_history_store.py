@@ -2,13 +2,14 @@
 chain catching an edited and a deleted row, and deduplication of the same change."""
 from __future__ import annotations
 
+import shutil
 import sqlite3
 
 import pytest
 
 from tracker.history import History, HistoryError, NewRevision
 from tracker.history.query import revisions
-from tracker.history.store import SCHEMA_VERSION
+from tracker.history.store import migration_files, migrations_dir
 from tracker.history.verify import verify
 from tracker.loading.estate import sha256_hex
 
@@ -26,18 +27,42 @@ def store(tmp_path):
     h.close()
 
 
+# The schema as schema/history/0001-initial.sql declares it, written out here by hand so that a
+# table, index or trigger added, renamed or dropped without this test changing fails it.
+EXPECTED_SQLITE_OBJECTS = {
+    ("table", "revisions"), ("table", "blobs"), ("table", "changes"), ("table", "results"),
+    ("table", "events"), ("table", "acks"), ("table", "_sqlite_migrations"),
+    ("index", "revisions_file_succession"), ("index", "revisions_file"), ("index", "revisions_at"),
+    ("index", "changes_ref"), ("index", "results_ref"), ("index", "events_ref"), ("index", "acks_ref"),
+    ("index", "idx__sqlite_migrations_migration_set_name"),
+    *(("trigger", f"{t}_append_only_{op}") for t in ("revisions", "changes", "results", "events", "acks", "blobs")
+      for op in "ud"),
+}
+EXPECTED_COLUMNS = {
+    "revisions": ["id", "at", "source", "file", "site", "content_hash", "valid", "file_prev_id", "author", "note",
+                  "tool_version", "prev_hash", "hash"],
+    "blobs": ["hash", "size", "content"],
+    "changes": ["revision_id", "seq", "ref", "change", "field", "old", "new"],
+    "results": ["revision_id", "ref", "status", "checks"],
+    "events": ["revision_id", "seq", "ref", "check_id", "transition", "value", "limit_value", "unit", "detail"],
+    "acks": ["revision_id", "ref", "checks"],
+    "_sqlite_migrations": ["id", "migration_set", "name", "applied_at"],
+}
+
+
 def test_exact_schema_version_and_wal(store):
     db = store.db
-    assert db.execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 1
+    assert db.execute("PRAGMA user_version").fetchone()[0] == 1   # one migration applied
     assert db.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
-    assert set(db.table_names()) == {"revisions", "blobs", "changes", "results", "events", "acks",
-                                     "_sqlite_migrations"}
-    assert [c.name for c in db["revisions"].columns] == [
-        "id", "at", "source", "file", "site", "content_hash", "valid", "file_prev_id", "author", "note",
-        "tool_version", "prev_hash", "hash"]
-    assert [c.name for c in db["events"].columns] == [
-        "revision_id", "seq", "ref", "check_id", "transition", "value", "limit_value", "unit", "detail"]
+    objects = {(t, n) for t, n in db.execute("SELECT type, name FROM sqlite_master")
+               if not n.startswith("sqlite_autoindex_")}    # SQLite's own indexes of keys and UNIQUE
+    assert objects == EXPECTED_SQLITE_OBJECTS
+    for table, columns in EXPECTED_COLUMNS.items():
+        assert [c.name for c in db[table].columns] == columns, table
     assert db.execute("SELECT name FROM _sqlite_migrations").fetchall() == [("0001-initial",)]
+    # the partial unique index of a file's succession keeps its WHERE clause
+    sql = db.execute("SELECT sql FROM sqlite_master WHERE name = 'revisions_file_succession'").fetchone()[0]
+    assert "UNIQUE" in sql and "WHERE file IS NOT NULL" in sql
 
 
 def test_migrations_are_not_reapplied(tmp_path):
@@ -46,6 +71,57 @@ def test_migrations_are_not_reapplied(tmp_path):
     h = History.open(path)
     assert h.db.execute("SELECT count(*) FROM _sqlite_migrations").fetchone()[0] == 1
     h.close()
+
+
+def _copy_of_migrations(tmp_path):
+    folder = tmp_path / "migrations"
+    shutil.copytree(migrations_dir(), folder)
+    return folder
+
+
+def test_a_new_migration_is_applied_to_an_existing_history(tmp_path):
+    path = tmp_path / "h.sqlite"
+    folder = _copy_of_migrations(tmp_path)
+    shipped = len(migration_files(folder))
+    h = History.open(path, migrations=folder)
+    h.record(rev(b"a: 1\n"))
+    h.close()
+    (folder / f"{shipped + 1:04d}-site-labels.sql").write_text(
+        "-- a later migration\nCREATE TABLE site_labels (site TEXT PRIMARY KEY, label TEXT NOT NULL);\n"
+        "CREATE INDEX site_labels_label ON site_labels (label);\n")
+    h = History.open(path, migrations=folder)
+    assert h.db.execute("PRAGMA user_version").fetchone()[0] == shipped + 1
+    assert "site_labels" in h.db.table_names()
+    assert [n for (n,) in h.db.execute("SELECT name FROM _sqlite_migrations ORDER BY id")][-1] == \
+        f"{shipped + 1:04d}-site-labels"
+    assert verify(h).ok and h.count() == 1     # the recorded revision is untouched
+    h.close()
+    # the shipped set is now older than the file: refused, and the file is left as it is
+    before = path.read_bytes()
+    with pytest.raises(HistoryError, match="newer izwatch"):
+        History.open(path)
+    assert path.read_bytes() == before
+
+
+def test_migrations_must_be_numbered_without_a_gap(tmp_path):
+    folder = _copy_of_migrations(tmp_path)
+    (folder / "0007-far-ahead.sql").write_text("CREATE TABLE x (y);\n")
+    with pytest.raises(HistoryError, match="without a gap"):
+        History.open(tmp_path / "h.sqlite", migrations=folder)
+
+
+def test_a_failing_migration_leaves_the_history_as_it_was(tmp_path):
+    path = tmp_path / "h.sqlite"
+    folder = _copy_of_migrations(tmp_path)
+    History.open(path, migrations=folder).close()
+    (folder / f"{len(migration_files(folder)) + 1:04d}-broken.sql").write_text(
+        "CREATE TABLE fine (a);\nCREATE TABLE revisions (a);\n")
+    with pytest.raises(HistoryError):
+        History.open(path, migrations=folder)
+    conn = sqlite3.connect(path)
+    assert conn.execute("PRAGMA user_version").fetchone()[0] == 1
+    assert conn.execute("SELECT count(*) FROM sqlite_master WHERE name = 'fine'").fetchone()[0] == 0
+    conn.close()
 
 
 def test_records_chain_and_read_back(store):

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import sqlite3
 import tempfile
 import zlib
@@ -23,14 +24,50 @@ from sqlite_utils.migrations import Migrations
 
 from tracker import __version__
 from tracker.history import chain
-from tracker.schemas_access import schema_text
+from tracker.schemas_access import schema_dir
 
 DB_DIR, DB_NAME = ".izwatch", "history.sqlite"
 BUSY_TIMEOUT_MS = 30_000
 
 
 class HistoryError(Exception):
-    """The history database cannot be used (corrupt, not a database, newer than this version)."""
+    """The history database cannot be used. `kind` says why, so that a full disk or a read-only
+    folder is never reported as damage: "damaged", "unwritable", "full", "foreign", "newer",
+    "missing" or "unusable"."""
+
+    def __init__(self, message: str, kind: str = "unusable"):
+        super().__init__(message)
+        self.kind = kind
+
+
+def plain_error(path: Path, exc: BaseException) -> HistoryError:
+    """One line saying what is wrong with opening or writing the history, in the words that fit:
+    a full disk or a read-only place is not a damaged history."""
+    text = str(exc)
+    errno_ = getattr(exc, "errno", None)
+    low = text.lower()
+    if errno_ == 28 or "disk is full" in low or "no space" in low:
+        return HistoryError(f"{path}: the disk is full; the history is left as it is and nothing was "
+                            "recorded — free some space and run again", "full")
+    if errno_ in (1, 13, 30) or "readonly" in low or "read-only" in low or "unable to open" in low:
+        return HistoryError(f"{path}: cannot write there ({text}): the history and its folder (SQLite makes "
+                            "its -wal and -shm files beside it) must be writable by you; the history is left "
+                            "as it is", "unwritable")
+    return HistoryError(f"{path}: not a usable izwatch history ({text}); it is left as it is — "
+                        "restore it from a backup or move it aside", "damaged")
+
+
+def current_umask() -> int:
+    """The process's umask, read without changing it where Linux shows it (/proc/self/status)."""
+    try:
+        for line in Path("/proc/self/status").read_text().splitlines():
+            if line.startswith("Umask:"):
+                return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
 
 
 def default_db_path(root: Path) -> Path:
@@ -52,16 +89,37 @@ def _statements(sql: str):
             buf = ""
 
 
-MIGRATIONS = Migrations("izwatch-history")
+MIGRATION_NAME = re.compile(r"(\d{4})-[a-z0-9-]+\.sql")
 
 
-@MIGRATIONS(name="0001-initial")
-def _m0001(db: sqlite_utils.Database) -> None:
-    for statement in _statements(schema_text("history/0001-initial.sql")):
-        db.execute(statement)
+def migrations_dir() -> Path:
+    """The SQLite history's migrations: `schema/history/NNNN-name.sql`, applied in order."""
+    return schema_dir() / "history"
 
 
-SCHEMA_VERSION = 1   # the number of migrations above; PRAGMA user_version
+def migration_files(directory: Path | None = None) -> list[tuple[str, str]]:
+    """(name, SQL) of every migration in `directory`, in the order of their numbers.
+
+    Numbers must run 1, 2, 3 … without a gap or a repeat: a history's `user_version` is the
+    number of migrations applied, so a hole would make two different sets look alike."""
+    directory = Path(directory) if directory is not None else migrations_dir()
+    found = sorted((int(m.group(1)), f.name) for f in directory.iterdir()
+                   if f.is_file() and (m := MIGRATION_NAME.fullmatch(f.name)))
+    numbers = [n for n, _ in found]
+    if numbers != list(range(1, len(found) + 1)):
+        raise HistoryError(f"{directory}: the history's migrations must be numbered 1, 2, 3 … without a gap "
+                           f"(found {numbers})")
+    return [(name[:-len(".sql")], (directory / name).read_text(encoding="utf-8")) for _, name in found]
+
+
+def _migration_set(files: list[tuple[str, str]]) -> Migrations:
+    migrations = Migrations("izwatch-history")
+    for name, sql in files:
+        def run(db: sqlite_utils.Database, sql=sql) -> None:
+            for statement in _statements(sql):
+                db.execute(statement)
+        migrations(name=name)(run)
+    return migrations
 
 
 @dataclass
@@ -91,45 +149,60 @@ class Recorded:
 
 
 class History:
-    def __init__(self, db: sqlite_utils.Database, path: Path | None):
+    def __init__(self, db: sqlite_utils.Database, path: Path | None, migrations: Path | None = None):
         self.db = db
         self.path = path
+        self.migrations = migrations   # a folder of migrations other than the shipped one (tests)
 
     # -- opening -------------------------------------------------------------------------
 
     @classmethod
-    def open(cls, path: Path | str | None, create: bool = True) -> History:
-        """Open (and on first use create) the store. Never replaces an existing file: a file
-        that is not a healthy izwatch history raises HistoryError."""
+    def open(cls, path: Path | str | None, create: bool = True, migrations: Path | None = None) -> History:
+        """Open (and on first use create) the store, applying every pending migration. Never
+        replaces or alters an existing file that is not a healthy izwatch history of a schema
+        this version knows: that raises HistoryError and the file is left exactly as it is (a
+        foreign or newer database is not even switched to WAL)."""
         if path is None or str(path) == ":memory:":
             db = sqlite_utils.Database(memory=True)
-            store = cls(db, None)
+            store = cls(db, None, migrations)
             store._migrate()
             return store
         path = Path(path)
-        if not path.exists():
-            if not create:
-                raise HistoryError(f"{path}: no history recorded yet")
-            cls._create(path)
-        if path.stat().st_size == 0:
-            raise HistoryError(f"{path}: the history file is empty (truncated?); it is left as it is — "
-                               "restore it from a backup or move it aside")
+        try:
+            if not path.exists():
+                if not create:
+                    raise HistoryError(f"{path}: no history recorded yet", "missing")
+                cls._create(path, migrations)
+            if path.stat().st_size == 0:
+                raise HistoryError(f"{path}: the history file is empty (truncated?); it is left as it is — "
+                                   "restore it from a backup or move it aside", "damaged")
+        except OSError as exc:
+            raise plain_error(path, exc) from None
+        conn = None
         try:
             conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
             db = sqlite_utils.Database(conn)
+            bad = [r[0] for r in db.execute("PRAGMA integrity_check").fetchall()]
+            if bad != ["ok"]:
+                raise HistoryError(f"{path}: the history database is damaged ({bad[0]}); it is left as it "
+                                   "is — restore it from a backup (see README, 'Reliability')", "damaged")
+            store = cls(db, path, migrations)
+            pending = store._pending()     # refuses a foreign or newer file before anything is written
             db.execute("PRAGMA journal_mode = WAL")
             db.execute("PRAGMA synchronous = NORMAL")
-            if path.stat().st_size > 0:
-                bad = [r[0] for r in db.execute("PRAGMA integrity_check").fetchall()]
-                if bad != ["ok"]:
-                    raise HistoryError(f"{path}: the history database is damaged ({bad[0]}); it is left as it "
-                                       "is — restore it from a backup (see README, 'Reliability')")
-            store = cls(db, path)
-            store._migrate()
-        except sqlite3.DatabaseError as exc:
-            raise HistoryError(f"{path}: not a usable izwatch history ({exc}); it is left as it is — "
-                               "restore it from a backup or move it aside") from None
+            if pending:
+                store._migrate()
+        except HistoryError as exc:
+            if conn is not None:
+                conn.close()
+            if str(path) in str(exc):
+                raise
+            raise HistoryError(f"{path}: {exc}", exc.kind) from None
+        except (sqlite3.DatabaseError, OSError) as exc:
+            if conn is not None:
+                conn.close()
+            raise plain_error(path, exc) from None
         return store
 
     @classmethod
@@ -142,9 +215,9 @@ class History:
         the folder and the database's bytes are as they were."""
         path = Path(path)
         if not path.exists():
-            raise HistoryError(f"{path}: no history recorded yet")
+            raise HistoryError(f"{path}: no history recorded yet", "missing")
         if path.stat().st_size == 0:
-            raise HistoryError(f"{path}: the history file is empty (truncated?)")
+            raise HistoryError(f"{path}: the history file is empty (truncated?)", "damaged")
         try:
             conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
             conn.execute("PRAGMA query_only = ON")
@@ -152,25 +225,30 @@ class History:
             bad = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall()]
             if bad != ["ok"]:
                 conn.close()
-                raise HistoryError(f"{path}: the history database is damaged ({bad[0]})")
+                raise HistoryError(f"{path}: the history database is damaged ({bad[0]})", "damaged")
             version = conn.execute("PRAGMA user_version").fetchone()[0]
-            if version != SCHEMA_VERSION:
+            known = len(migration_files())
+            if version != known:
                 conn.close()
-                raise HistoryError(f"{path}: history schema {version}, this izwatch reads schema {SCHEMA_VERSION}")
+                raise HistoryError(f"{path}: history schema {version}, this izwatch reads schema {known}"
+                                   + (" (open it once with `watch` or `verify` to bring it up to date)"
+                                      if 0 < version < known else ""))
         except sqlite3.DatabaseError as exc:
             raise HistoryError(f"{path}: not a usable izwatch history ({exc})") from None
         return cls(sqlite_utils.Database(conn), path)
 
     @classmethod
-    def _create(cls, path: Path) -> None:
+    def _create(cls, path: Path, migrations: Path | None = None) -> None:
         """Make a new, migrated history at `path` atomically: built in a temporary file beside it and
-        linked into place only if nothing is there yet (another process may be creating it too)."""
+        linked into place only if nothing is there yet (another process may be creating it too).
+        The file's mode follows the umask, as any other file the user makes."""
         path.parent.mkdir(parents=True, exist_ok=True)
         fd, tmp = tempfile.mkstemp(prefix=".history-", suffix=".sqlite", dir=str(path.parent))
         os.close(fd)
         try:
+            os.chmod(tmp, 0o666 & ~current_umask())
             conn = sqlite3.connect(tmp)
-            store = cls(sqlite_utils.Database(conn), Path(tmp))
+            store = cls(sqlite_utils.Database(conn), Path(tmp), migrations)
             store._migrate()
             conn.close()
             try:
@@ -182,18 +260,39 @@ class History:
                 if os.path.exists(leftover):
                     os.unlink(leftover)
 
-    def _migrate(self) -> None:
+    def _applied(self) -> list[str]:
+        if "_sqlite_migrations" not in self.db.table_names():
+            return []
+        return [r[0] for r in self.db.execute("SELECT name FROM _sqlite_migrations "
+                                               "WHERE migration_set = 'izwatch-history' ORDER BY id")]
+
+    def _pending(self) -> list[tuple[str, str]]:
+        """The migrations not yet applied, in order; HistoryError for a file that is not an izwatch
+        history or was written by a newer izwatch (its applied set is not a start of ours)."""
+        files = migration_files(self.migrations)
+        names = [name for name, _ in files]
         version = self.db.execute("PRAGMA user_version").fetchone()[0]
-        if version > SCHEMA_VERSION:
-            raise HistoryError(f"the history was written by a newer izwatch (schema {version} > {SCHEMA_VERSION})")
-        if version == SCHEMA_VERSION:
+        applied = self._applied()
+        if version == 0 and not applied and set(self.db.table_names()) - {"_sqlite_migrations"}:
+            raise HistoryError("the file holds tables that are not an izwatch history; it is left as it is", "foreign")
+        if version > len(names) or applied != names[:len(applied)]:
+            raise HistoryError(f"the history was written by a newer izwatch (schema {version}, this version "
+                               f"knows {len(names)}); it is left as it is", "newer")
+        if version != len(applied):
+            raise HistoryError(f"the history's schema number ({version}) does not match the migrations recorded "
+                               f"in it ({len(applied)}); it is left as it is")
+        return files[len(applied):]
+
+    def _migrate(self) -> None:
+        """Apply every pending migration, in one write transaction; `user_version` is then the
+        number of migrations applied."""
+        if not self._pending():
             return
-        tables = set(self.db.table_names())
-        if version == 0 and tables - {"_sqlite_migrations"}:
-            raise HistoryError("the file holds tables that are not an izwatch history; it is left as it is")
         with self._write():
-            MIGRATIONS.apply(self.db)
-            self.db.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
+            pending = self._pending()    # again under the lock: another process may have migrated
+            if pending:
+                _migration_set(migration_files(self.migrations)).apply(self.db)
+                self.db.execute(f"PRAGMA user_version = {len(self._applied())}")
 
     def close(self) -> None:
         self.db.conn.close()
