@@ -6,7 +6,7 @@ checks turn ``None`` into ``not-assessed``.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
 
@@ -49,15 +49,34 @@ class CableKind:
     cpc_default: str | None       # 'equal' where a core equal to the line conductor is the cpc
     ground_reference_c: float | None
     sources: dict
+    # Three loaded conductors (a three-phase circuit): the tables' three-phase columns. Empty
+    # for a kind that has none (flat twin and cpc is a single-phase cable).
+    ratings_3ph: dict = field(default_factory=dict)       # csa -> {method: Value}
+    mv_per_a_m_3ph: dict = field(default_factory=dict)    # csa -> Value
+    sources_3ph: dict = field(default_factory=dict)
 
-    def rating(self, csa_mm2: float, method: str) -> Value | None:
-        return self.ratings.get(_size_key(csa_mm2), {}).get(method)
+    @property
+    def three_phase(self) -> bool:
+        """Whether the catalogue holds three-phase columns for this kind."""
+        return bool(self.ratings_3ph)
 
-    def voltage_drop(self, csa_mm2: float) -> Value | None:
-        return self.mv_per_a_m.get(_size_key(csa_mm2))
+    def methods_for(self, phases: int = 1) -> list[str]:
+        table = self.ratings_3ph if phases == 3 else self.ratings
+        return [m for m in self.methods if any(m in row for row in table.values())]
 
-    def sizes(self, method: str) -> list[float]:
-        return sorted(c for c, row in self.ratings.items() if method in row)
+    def rating(self, csa_mm2: float, method: str, phases: int = 1) -> Value | None:
+        table = self.ratings_3ph if phases == 3 else self.ratings
+        return table.get(_size_key(csa_mm2), {}).get(method)
+
+    def voltage_drop(self, csa_mm2: float, phases: int = 1) -> Value | None:
+        """mV/A/m: the single-phase column (line and neutral), or for phases=3 the three-phase
+        column (a line-to-line figure for a balanced load)."""
+        table = self.mv_per_a_m_3ph if phases == 3 else self.mv_per_a_m
+        return table.get(_size_key(csa_mm2))
+
+    def sizes(self, method: str, phases: int = 1) -> list[float]:
+        table = self.ratings_3ph if phases == 3 else self.ratings
+        return sorted(c for c, row in table.items() if method in row)
 
     def default_cpc_mm2(self, csa_mm2: float) -> float | None:
         if self.cpc_default == "equal":
@@ -92,8 +111,20 @@ def cable_kinds() -> dict[str, CableKind]:
             cpc_default=raw.get("cpc_default"),
             ground_reference_c=raw.get("ground_reference_c"),
             sources=raw["sources"],
+            **_three_phase(raw.get("three_phase")),
         )
     return kinds
+
+
+def _three_phase(raw: dict | None) -> dict:
+    if not raw:
+        return {}
+    return {
+        "ratings_3ph": {_size_key(c): {str(m): _value(v) for m, v in row.items()}
+                        for c, row in raw["ratings_a"].items()},
+        "mv_per_a_m_3ph": {_size_key(c): _value(v) for c, v in raw["mv_per_a_m"].items()},
+        "sources_3ph": raw["sources"],
+    }
 
 
 def cable_kind(kind: str) -> CableKind | None:
@@ -128,6 +159,14 @@ def standard_ratings(kind: str) -> list[float]:
 @lru_cache(maxsize=None)
 def factors() -> dict:
     return _load("factors.yaml")
+
+
+@lru_cache(maxsize=None)
+def triplen_harmonic_rows() -> tuple[tuple[float | None, Value, str], ...]:
+    """BS 7671 Appendix 4 Table 4Aa as (up to %, factor, 'line' | 'neutral') rows, in order."""
+    rows = factors()["triplen_harmonics"]["rows"]
+    return tuple((None if r["up_to_pct"] is None else float(r["up_to_pct"]), _value(r["factor"]), r["size_on"])
+                 for r in rows)
 
 
 @lru_cache(maxsize=None)

@@ -12,6 +12,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field, fields
 
 SUPPLY = "supply"  # the reserved value of `fed_by` for a board at the origin
+PHASES = ("L1", "L2", "L3")
+THREE_PHASE_SQRT3 = 3 ** 0.5
 
 
 def rebuilt_by_constructor(cls):
@@ -47,7 +49,18 @@ class Supply:
     service_fuse_a: float | None = None
     electrode_ohm: float | None = None
     private: bool = False
+    phases: int = 1
+    u_line_v: float | None = None   # None: √3 · U0 on a three-phase supply
     src: Src | None = field(default=None, compare=False)
+
+    @property
+    def three_phase(self) -> bool:
+        return self.phases == 3
+
+    @property
+    def line_v(self) -> float:
+        """Line-to-line voltage of a three-phase supply (given, or √3 · U0)."""
+        return self.u_line_v if self.u_line_v is not None else THREE_PHASE_SQRT3 * self.u0_v
 
 
 @rebuilt_by_constructor
@@ -59,11 +72,16 @@ class Board:
     main_switch_a: float | None = None
     conditional_rating_ka: float | None = None
     rcd_ma: float | None = None
+    phases: int = 1
     src: Src | None = field(default=None, compare=False)
 
     @property
     def at_origin(self) -> bool:
         return self.fed_by == SUPPLY
+
+    @property
+    def three_phase(self) -> bool:
+        return self.phases == 3
 
 
 @rebuilt_by_constructor
@@ -106,6 +124,7 @@ class Load:
     current_a: float | None = None
     power_factor: float = 1.0
     location: str | None = None
+    phase_currents_a: tuple[float, float, float] | None = None   # L1, L2, L3 of an unbalanced three-phase load
     src: Src | None = field(default=None, compare=False)
 
 
@@ -124,7 +143,14 @@ class Circuit:
     rcd_ma: float | None = None
     environment: Environment = Environment()
     loads: tuple[Load, ...] = ()
+    phases: int = 1
+    phase: str | None = None                 # L1 | L2 | L3: a single-phase circuit on a three-phase board
+    triplen_harmonics_pct: float | None = None
     src: Src | None = field(default=None, compare=False)
+
+    @property
+    def three_phase(self) -> bool:
+        return self.phases == 3
 
     @property
     def is_ring(self) -> bool:

@@ -8,7 +8,7 @@ from __future__ import annotations
 import difflib
 import math
 
-from tracker.model import Board, Cable, Circuit, Device, Environment, Load, Src, Supply
+from tracker.model import PHASES, Board, Cable, Circuit, Device, Environment, Load, Src, Supply
 from tracker.schemas_access import schema_json
 
 
@@ -75,6 +75,8 @@ def build_supply(d: dict, p: Problems) -> Supply:
         service_fuse_a=_num(d, "service_fuse_a", path, p),
         electrode_ohm=_num(d, "electrode_ohm", path, p),
         private=bool(d.get("private", False)),
+        phases=int(d.get("phases", 1)),
+        u_line_v=_num(d, "u_line_v", path, p),
         src=Src(p.file, path),
     )
 
@@ -89,6 +91,7 @@ def build_board(d: dict, index: int, p: Problems) -> Board:
         main_switch_a=_num(d, "main_switch_a", path, p),
         conditional_rating_ka=_num(d, "conditional_rating_ka", path, p),
         rcd_ma=_num(d, "rcd_ma", path, p),
+        phases=int(d.get("phases", 1)),
         src=Src(p.file, path),
     )
 
@@ -137,6 +140,9 @@ def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
         rcd_ma=_num(d, "rcd_ma", path, p),
         environment=environment,
         loads=loads,
+        phases=int(d.get("phases", 1)),
+        phase=d.get("phase"),
+        triplen_harmonics_pct=_num(d, "triplen_harmonics_pct", path, p),
         src=Src(p.file, path),
     )
 
@@ -152,5 +158,14 @@ def build_load(d: dict, circuit_index: int, index: int, p: Problems) -> Load:
         current_a=_num(d, "current_a", path, p),
         power_factor=_num(d, "power_factor", path, p, 1.0),
         location=d.get("location"),
+        phase_currents_a=_phase_currents(d, path, p),
         src=Src(p.file, path),
     )
+
+
+def _phase_currents(d: dict, path: tuple, p: Problems) -> tuple[float, float, float] | None:
+    given = d.get("phase_currents_a")
+    if not given:
+        return None
+    values = tuple(_num(given, ph, path + ("phase_currents_a",), p, 0.0) for ph in PHASES)
+    return values

@@ -267,7 +267,7 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
     circuits = [c for r in results for c in r.circuits]
     text_of = {r.rel: r.text for r in results}
     locators: dict[str, yamlread.Locator] = {}
-    for file, path, message in semantic.check_site(boards, circuits, broken):
+    for file, path, message in semantic.check_site(boards, circuits, broken, supply=main.supply):
         loc = locators.setdefault(file, yamlread.Locator(text_of[file]))
         errors.append(InputError(file, *loc.locate(path), message, path))
     if errors:

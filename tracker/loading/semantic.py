@@ -7,6 +7,7 @@ catalogue; loads say how big they are.
 from __future__ import annotations
 
 from tracker import catalogue
+from tracker.loading import phases
 from tracker.model import SUPPLY, Board, Circuit
 
 
@@ -14,16 +15,17 @@ def _fmt_rating(value: float) -> str:
     return f"{value:g}"
 
 
-def check_site(boards: list[Board], circuits: list[Circuit], broken: set = frozenset()):
+def check_site(boards: list[Board], circuits: list[Circuit], broken: set = frozenset(), supply=None):
     """Yield (file, path, message) for every problem found.
 
     `broken` names elements that failed the schema and were not built: references to them
-    are not reported again.
+    are not reported again. `supply` (when built) lets the phases be checked against it.
     """
     yield from _check_boards(boards)
     by_id = {b.id: b for b in boards}
     yield from _check_circuits(circuits, by_id, broken)
     yield from _check_feeding(boards, circuits, by_id, broken)
+    yield from phases.check_phases(supply, boards, circuits, broken)
 
 
 def _err(obj, sub: tuple, message: str):
@@ -80,7 +82,8 @@ def _check_circuits(circuits: list[Circuit], boards: dict[str, Board], broken):
             load_ids.add(ld.id)
             if ld.power_kw is not None and ld.current_a is not None:
                 yield _err(ld, ("current_a",), "give power_kw or current_a, not both")
-            elif ld.power_kw is None and ld.current_a is None and ld.kind != "socket-outlets":
+            elif (ld.power_kw is None and ld.current_a is None and ld.phase_currents_a is None
+                  and ld.kind != "socket-outlets"):
                 yield _err(ld, (), f"a {ld.kind} load needs power_kw or current_a")
 
 
