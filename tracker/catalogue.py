@@ -172,3 +172,50 @@ def triplen_harmonic_rows() -> tuple[tuple[float | None, Value, str], ...]:
 @lru_cache(maxsize=None)
 def diversity() -> dict:
     return _load("diversity.yaml")
+
+
+@lru_cache(maxsize=None)
+def let_through_table() -> dict:
+    return _load("let_through.yaml")
+
+
+def energy_class_rows(energy_class: int, rating_a: float, curve: str | None
+                      ) -> tuple[list[float], list[Value], float] | None:
+    """(prospective currents A, maximum I²t A²s, the band's upper In) of an energy-limiting class
+    for a breaker of that rating and type, or None where the class sets no limit (class 1) or
+    the table holds no band or type for it (type D, In over 32 A)."""
+    table = let_through_table()
+    bands = table["classes"].get(int(energy_class))
+    if not bands or curve is None:
+        return None
+    for top in sorted(bands):
+        if rating_a <= top:
+            row = bands[top].get(curve)
+            if row is None:
+                return None
+            return [float(a) for a in table["prospective_a"]], [_value(v) for v in row], float(top)
+    return None
+
+
+@lru_cache(maxsize=None)
+def protective_k() -> dict:
+    return _load("protective_k.yaml")
+
+
+@dataclass(frozen=True, slots=True)
+class KFactor:
+    k: Value
+    initial_c: float
+    final_c: float
+    table: str
+
+
+def k_factor(role: str, conductor_c: float, route: str | None = None) -> KFactor | None:
+    """k of BS 7671 Tables 43.1 / 54.2 / 54.3 / 54.4: role 'line', 'cpc' (route 'in-cable' or
+    'separate') or 'armour', for a cable whose conductors run at `conductor_c`."""
+    raw = protective_k()
+    rows = raw[role] if role != "cpc" else raw["cpc"].get(route or "in-cable", {})
+    row = rows.get(int(conductor_c))
+    if row is None:
+        return None
+    return KFactor(_value(row["k"]), float(row["initial_c"]), float(row["final_c"]), str(row["table"]))

@@ -91,6 +91,8 @@ def _label(kind: str, curve: str | None, rating_a: float) -> str:
         "rcbo": f"{curve}{r} RCBO",
         "fuse-gg": f"{r} A BS 88-2 gG fuse",
         "fuse-domestic-cartridge": f"{r} A BS 88-3 fuse",
+        "fuse-bs1361": f"{r} A BS 1361 fuse",
+        "fuse-bs1362": f"{r} A BS 1362 fuse",
         "fuse-semi-enclosed": f"{r} A BS 3036 rewirable fuse",
     }.get(kind, f"{r} A {kind}")
 

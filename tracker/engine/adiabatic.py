@@ -44,3 +44,16 @@ def min_csa_from_energy_mm2(energy_a2s: float, k: float) -> float:
 def fault_current_a(u0_v: float, loop_ohm: float) -> float:
     """Fault current through a loop of impedance Z at U0: I = U0 / Z (BS 7671 543.1.3)."""
     return u0_v / loop_ohm
+
+
+# Steel (armour) constants of the same Table A.1: Qc 3.8×10⁻³ J/(°C·mm³), β 202 °C, ρ20
+# 138×10⁻⁶ Ω·mm, giving K = sqrt(3.8e-3 × 222 / 138e-6) = 78.
+STEEL_BETA_C = 202.0
+STEEL_K_CONSTANT = 78.0
+
+
+def armour_k_factor(initial_c: float, final_c: float) -> float:
+    """k for steel armour used as a protective conductor (IEC 60364-5-54:2011 Annex A, A.1 with
+    the steel constants): 80 → 200 °C gives 46.4, BS 7671:2018 Table 54.4's 46 for the armour of
+    a 90 °C thermosetting cable."""
+    return k_factor(initial_c, final_c, STEEL_K_CONSTANT, STEEL_BETA_C)

@@ -39,3 +39,25 @@ def required_disconnection_s(system: str, distribution: bool, rating_a: float, s
     if system == "TT":
         return 0.2 if final_limited else 1.0
     return 0.4 if final_limited else 5.0
+
+
+def ia_from_max_zs_a(u0_v: float, max_zs_ohm: float, cmin: float = CMIN) -> float:
+    """The current Ia behind a tabulated maximum Zs: Ia = Cmin · U0 / Zs.
+
+    The inverse of :func:`max_zs_from_ia_ohm`: BS 7671:2018 Tables 41.2–41.4 are Cmin U0 / Ia with
+    Ia read off the device's time-current characteristic (Appendix 3), so a table gives back the
+    current that operates the device within the table's time (e.g. a 32 A BS 88-2 fuse, 0.99 Ω
+    at 0.4 s: Ia = 0.95 × 230 / 0.99 = 221 A).
+    """
+    return cmin * u0_v / max_zs_ohm
+
+
+def operating_time_bound_s(current_a: float, points: list[tuple[float, float]]) -> float | None:
+    """The shortest time the device is known to operate within at a current, from its
+    time-current points [(Ia, t)]: each point says 'at Ia or more, within t' (the operating time
+    falls as the current rises). None where the current is below every point.
+
+    BS 7671:2018 411.4.4 and Appendix 3; BS EN 60898-1 Table 7 for circuit-breakers.
+    """
+    times = [t for ia, t in points if current_a >= ia]
+    return min(times) if times else None

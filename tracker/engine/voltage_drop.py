@@ -45,3 +45,36 @@ def mv_per_a_m_from_resistance(resistance_20c_mohm_per_m: float, resistance_mult
     check on the catalogue).
     """
     return 2.0 * resistance_20c_mohm_per_m * resistance_multiplier
+
+
+def conductor_temperature_factor(max_conductor_c: float, ca: float, cg: float, ib_a: float, it_a: float,
+                                 reference_ambient_c: float = 30.0) -> float:
+    """Correction Ct of the tabulated voltage drop for a conductor running below its maximum
+    operating temperature.
+
+    Ct = (230 + tp − (Ca² Cg² − Ib² / It²)(tp − 30)) / (230 + tp)
+
+    Parameters
+    ----------
+    max_conductor_c : tp, the conductor's maximum operating temperature, °C (70 thermoplastic,
+        90 thermosetting)
+    ca, cg : the ambient and grouping factors applied to the cable's rating
+    ib_a : design current Ib, A
+    it_a : tabulated current-carrying capacity It of the cable for its installation method, A
+    reference_ambient_c : the ambient of the tabulated ratings, °C (30 in air)
+
+    Returns
+    -------
+    Ct: 1 for a cable carrying its full rating It × Ca × Cg (conductor at tp); less for a
+    lighter load. Above the full rating it exceeds 1 (the conductor runs hotter than tp).
+
+    Notes
+    -----
+    BS 7671:2018 Appendix 4, section 6.1 (seen in secondary sources quoting the formula). The
+    tabulated mV/A/m are at tp; the conductor's temperature rise is taken as proportional to
+    the square of the current, and 230 stands for the reciprocal of copper's temperature
+    coefficient of resistance, in °C, as the formula gives it. Appendix 4 applies it to the
+    resistive part of the voltage drop, all of it for conductors up to 16 mm².
+    """
+    tp = max_conductor_c
+    return (230.0 + tp - (ca ** 2 * cg ** 2 - ib_a ** 2 / it_a ** 2) * (tp - reference_ambient_c)) / (230.0 + tp)
