@@ -145,19 +145,26 @@ def _run(module: str):
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    if args.command == "tui":   # the UI owns the terminal
+        return _call(args)
+    from tracker.output.streams import guarded
+    with guarded():
+        return _call(args)
+
+
+def _call(args) -> int:
     try:
         return args.func(args)
     except KeyboardInterrupt:
         return 130
-    except BrokenPipeError:
-        try:
-            sys.stdout = open(os.devnull, "w")  # noqa: SIM115 - keep Python from complaining at exit
-        except OSError:
-            pass
-        return EXIT_OK
     except Exception as exc:  # noqa: BLE001 - the last line of defence: never a traceback
         if os.environ.get("IZWATCH_DEBUG"):
             raise
+        from tracker.commands.common import disk_full
+        if disk_full(exc):   # a write refused: SQLite rolled its transaction back, nothing is half-written
+            print(f"izwatch: disk full ({exc}): nothing was recorded by this command; free some space and run it "
+                  "again", file=sys.stderr)
+            return EXIT_INPUT
         print(f"izwatch: internal error: {type(exc).__name__}: {exc} "
               "(set IZWATCH_DEBUG=1 for details, and please report it)", file=sys.stderr)
         return EXIT_INTERNAL

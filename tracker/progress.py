@@ -36,11 +36,15 @@ class Progress:
     def line(self) -> str:
         return f"{self.label} [{self.bar(30)}] {self.done}/{self.total}"
 
+    def _write(self, text: str) -> None:
+        # the command line's stream escapes control characters; the carriage return is ours
+        getattr(self.stream, "write_control", self.stream.write)(text)
+
     def draw(self, line: str) -> None:
-        self.stream.write("\r" + line)
+        self._write("\r" + line)
         self.stream.flush()
 
     def close(self) -> None:
         if self._drawn:
-            self.stream.write("\r" + " " * (len(self.label) + 50) + "\r")
+            self._write("\r" + " " * (len(self.label) + 50) + "\r")
             self.stream.flush()

@@ -13,12 +13,14 @@ from datetime import datetime
 from pathlib import Path
 
 from textual import work
+from rich.markup import escape
 from textual.app import App
 from textual.binding import Binding
 from textual.worker import get_current_worker
 
 from tracker.checks import remedy as remedies
 from tracker.history import HistoryError, default_db_path
+from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors, os_user
 from tracker.watcher import DEBOUNCE_S
 from tui.components.ack_dialog import AckAnswer, AckDialog
@@ -46,7 +48,7 @@ def news_lines(news: list[News]) -> tuple[list[str], list[str]]:
         for e in n.events:
             if e["transition"] in ("newly-failing", "worse"):
                 word = "▲ newly failing" if e["transition"] == "newly-failing" else "▼ worse"
-                bad.append(f"{word}: {e['ref']} {e['check']} ({n.file}, by {n.author})")
+                bad.append(f"{word}: {clean(e['ref'])} {e['check']} ({n.file}, by {n.author})")
             elif e["transition"] == "cleared":
                 good.append(f"✓ cleared: {e['ref']} {e['check']} ({n.file})")
     return bad, good
@@ -125,7 +127,7 @@ class IzwatchApp(App):
         for lines, severity in ((bad, "warning"), (good, "information")):
             if lines:
                 more = f"\n(+{len(lines) - NEWS_SHOWN} more)" if len(lines) > NEWS_SHOWN else ""
-                self.notify("\n".join(lines[:NEWS_SHOWN]) + more, severity=severity, timeout=6)
+                self.notify(escape("\n".join(lines[:NEWS_SHOWN]) + more), severity=severity, timeout=6)
 
     def action_recheck(self) -> None:
         if self.failure:
@@ -198,14 +200,14 @@ class IzwatchApp(App):
 
     def on_ack_done(self, message: AckDone) -> None:
         w = message.written
-        self.notify(f"△ {w.ref} acknowledged ({', '.join(w.checks)}) as revision {w.revision} by {w.author}",
-                    timeout=5)
+        self.notify(escape(f"△ {w.ref} acknowledged ({', '.join(w.checks)}) as revision {w.revision} "
+                           f"by {clean(w.author)}"), timeout=5)
         if self.screen is self.overview:
             self.overview.hold_position()
         self.live.request_refresh()
 
     def on_ack_failed(self, message: AckFailed) -> None:
-        self.notify(f"⚠ not acknowledged: {message.text}", severity="error", timeout=8)
+        self.notify(escape(f"⚠ not acknowledged: {clean(message.text)}"), severity="error", timeout=8)
 
     # -- help -------------------------------------------------------------------------------
 

@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from tracker.history import History, HistoryError
+from tracker.output.terminal_text import clean
 from tracker.progress import Progress
 from tracker.tracking.authors import Authors
 from tracker.watcher import DEBOUNCE_S, Update, Watcher
@@ -52,8 +53,8 @@ class News:
     @classmethod
     def of(cls, u: Update) -> "News":
         o = u.outcome
-        return cls(o.file, o.valid, o.first_record, tuple(o.events), tuple(str(e) for e in o.errors),
-                   u.recorded.author, u.recorded.id)
+        return cls(clean(o.file), o.valid, o.first_record, tuple(o.events), tuple(clean(e) for e in o.errors),
+                   clean(u.recorded.author), u.recorded.id)
 
 
 @dataclass

@@ -19,6 +19,7 @@ from tracker.checks.site import SiteResult
 from tracker.history import History
 from tracker.history.query import failing_since, latest_acks, refs_touched, revisions_by_id
 from tracker.loading.errors import InputError
+from tracker.output.terminal_text import clean
 from tracker.tracking.state import EstateState
 from tui.wording import ACKED, NEW, STATES, change_text
 
@@ -107,10 +108,10 @@ def _base_rows(sr: SiteResult) -> list[tuple]:
                     (c.id,) if c.status == FAIL else (), (c.id,) if c.status != PASS else ()))
     for bref, b in sr.boards.items():
         board = site.board(b.board_id)
-        out.append((bref, BOARD, b.board_id, "", board.name if board else "", b.status,
+        out.append((bref, BOARD, b.board_id, "", clean(board.name) if board else "", b.status,
                     (b.check.id,) if b.status == FAIL else (), (b.check.id,) if b.status != PASS else ()))
     for ref, r in sr.circuits.items():
-        out.append((ref, CIRCUIT, r.circuit.board, r.circuit.id, r.circuit.name, r.status,
+        out.append((ref, CIRCUIT, r.circuit.board, r.circuit.id, clean(r.circuit.name), r.status,
                     tuple(c.id for c in r.checks if c.status == FAIL),
                     tuple(c.id for c in r.checks if c.status != PASS)))
     return out
@@ -177,7 +178,8 @@ def _cause(ref: str, kind_: str, rev: dict) -> Cause:
         text = "; ".join(parts) + (f" (+{more} more)" if more > 0 else "")
         if not text:
             text = f"re-checked after a save of {rev['file']}" if rev["file"] else "re-checked"
-    return Cause(rev["id"], rev["at"], rev["author"], text, kind, rev.get("note"))
+    note = rev.get("note")
+    return Cause(rev["id"], rev["at"], clean(rev["author"]), clean(text), kind, None if note is None else clean(note))
 
 
 def _pieces_for(dirty: list[SiteResult], cache: RowCache, history: History) -> None:
@@ -203,10 +205,10 @@ def _pieces_for(dirty: list[SiteResult], cache: RowCache, history: History) -> N
     revs = revisions_by_id(history, wanted)
     for piece, base, latest in work:
         sr = piece.sr
-        site_id, site_name = sr.site.id, sr.site.name
+        site_id, site_name = sr.site.id, clean(sr.site.name)
         for i, (ref, kind, board_id, circuit_id, name, status, failing, open_checks) in enumerate(base):
             ack = acks.get(ref)
-            ack_note = (AckNote(ack["revision"], ack["at"], ack["author"], ack["note"] or "", tuple(ack["checks"]))
+            ack_note = (AckNote(ack["revision"], ack["at"], clean(ack["author"]), clean(ack["note"]), tuple(ack["checks"]))
                         if ack else None)
             cause = None
             if status == FAIL:

@@ -7,6 +7,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from tracker.output.terminal_text import clean
+
 from tui.wording import change_text, number
 
 MAX_CHANGE_LINES = 6
@@ -50,18 +52,18 @@ def entry(rev: dict, ref: str) -> Entry:
     headline = "first record" if first else HEADLINES.get(rev["source"], rev["source"])
     items: list[Item] = []
     if rev.get("note"):
-        items.append(Item("“", rev["note"], "note"))
+        items.append(Item("“", clean(rev["note"]), "note"))
     if rev.get("ack"):
         checks = ", ".join(rev["ack"]["checks"]) or "—"
         items.append(Item("△", f"acknowledged: {checks}", "ack"))
     changes = rev.get("changes") or []
     for c in changes[:MAX_CHANGE_LINES]:
-        items.append(Item(CHANGE_MARK.get(c["change"], "~"), change_text(c, ref), "change"))
+        items.append(Item(CHANGE_MARK.get(c["change"], "~"), clean(change_text(c, ref)), "change"))
     if len(changes) > MAX_CHANGE_LINES:
         items.append(Item("…", f"{len(changes) - MAX_CHANGE_LINES} more changes", "change"))
     for e in rev.get("events") or []:
-        items.append(Item(EVENT_MARK.get(e["transition"], "·"), _event_text(e, ref), "event", e["transition"]))
-    return Entry(rev["id"], rev["at"], rev["author"], headline, rev.get("file"), tuple(items))
+        items.append(Item(EVENT_MARK.get(e["transition"], "·"), clean(_event_text(e, ref)), "event", e["transition"]))
+    return Entry(rev["id"], rev["at"], clean(rev["author"]), headline, rev.get("file"), tuple(items))
 
 
 def timeline(revs: list[dict], ref: str) -> list[Entry]:

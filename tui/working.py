@@ -13,6 +13,7 @@ from tracker.checks.capacity import DESIGN, DEVICE, RING
 from tracker.checks.context import device_label
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
 from tracker.checks.site import explain_circuit, SiteResult, headroom_kw
+from tracker.output.terminal_text import clean
 from tui.snapshot import BOARD, CIRCUIT, Row, Snapshot
 from tui.wording import STATUS_WORD, number, plain
 
@@ -128,7 +129,7 @@ def check_lines(ref: str, checks, snapshot: Snapshot | None) -> tuple[CheckLine,
         if since:
             rev = max(since["revision"], since.get("worse_revision", 0))
             at = since["at"] if rev == since["revision"] else None
-        out.append(CheckLine(c.id, c.status, figures(c), c.detail, rev, at))
+        out.append(CheckLine(c.id, c.status, figures(c), clean(c.detail), rev, at))
     return tuple(out)
 
 
@@ -142,7 +143,7 @@ def _unknown(check: CheckResult | None) -> str:
 def _where(sr: SiteResult, board_id: str) -> list[Line]:
     site = sr.site
     sup = site.supply
-    lines = [Line("site", f"{site.id} — {site.name}" if site.name else site.id)]
+    lines = [Line("site", f"{site.id} — {clean(site.name)}" if site.name else site.id)]
     supply = [sup.system, f"U0 {sup.u0_v:g} V", f"Ze {plain(sup.ze_ohm)} Ω" if sup.ze_ohm is not None else "Ze not given"]
     if sup.pfc_ka is not None:
         supply.append(f"PFC {sup.pfc_ka:g} kA")
@@ -162,7 +163,7 @@ def _where(sr: SiteResult, board_id: str) -> list[Line]:
         fed = "the supply" if b.at_origin else f"sub-main {b.fed_by}"
         extra = f", main switch {b.main_switch_a:g} A" if b.main_switch_a is not None else ""
         rcd = f", RCD {b.rcd_ma:g} mA on the board" if b.rcd_ma is not None else ""
-        lines.append(Line(f"board {b.id}", f"{b.name or b.id} — fed by {fed}{extra}{rcd}"))
+        lines.append(Line(f"board {b.id}", f"{clean(b.name) or b.id} — fed by {fed}{extra}{rcd}"))
     return lines
 
 
@@ -278,7 +279,7 @@ def circuit_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) 
             else f"{hk:+.2f} kW " + ("more load before a check of it or upstream fails" if hk >= 0
                                      else "over: that much load must come off"))
     gauges = tuple(g for g in (gauge(x) for x in r.checks) if g is not None)
-    title = f"{c.name}" if c.name else row.ref
+    title = clean(c.name) if c.name else row.ref
     return Working(row.ref, CIRCUIT, title, r.status, row.state, c.src.file if c.src else None, tuple(sections),
                    gauges, check_lines(row.ref, r.checks, snapshot), head, r.status == FAIL)
 
@@ -303,7 +304,7 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
             margin = f"{b.margin_a:.1f} A more on a circuit here before this board or anything upstream fails"
         else:
             margin = f"{-b.margin_a:.1f} A over: this board or something upstream already fails"
-        title = board.name if board and board.name else row.ref
+        title = clean(board.name) if board and board.name else row.ref
         file = board.src.file if board and board.src else None
     else:
         check = sr.supply_check
@@ -314,7 +315,7 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
             Line("demand", number(check.value, "A"), check.status),
             Line("supplier's fuse", number(check.limit, "A") if check.limit is not None else "not given"))))
         margin = "—"
-        title = f"{site.name or site.id}: origin"
+        title = f"{clean(site.name) or site.id}: origin"
         file = site.files[0] if site.files else None
     gauges = tuple(g for g in (gauge(check),) if g is not None)
     return Working(row.ref, row.kind, title, check.status, row.state, file, tuple(sections), gauges,

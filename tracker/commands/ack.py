@@ -7,7 +7,8 @@ from __future__ import annotations
 
 from tracker.checks.result import PASS
 from tracker.cli import EXIT_OK
-from tracker.commands.common import CommandError, check_root, fail, folder_of_site, open_history
+from tracker.commands.common import CommandError, check_root, fail, folder_of_site, open_history, plain_name
+from tracker.output.terminal_text import clean
 from tracker.history import NewRevision
 from tracker.tracking.authors import Authors
 from tracker.tracking.startup import start
@@ -34,6 +35,7 @@ def run(args) -> int:
         parts = args.circuit_ref.split("/")
         if len(parts) > 3 or not all(parts):
             raise CommandError(f"'{args.circuit_ref}' is not a ref (SITE/BOARD/CIRCUIT, SITE/BOARD or SITE)")
+        by = plain_name("--by", args.by)
         if not args.note.strip():
             raise CommandError("--note must say what is being done about it")
         folder = folder_of_site(root, parts[0])
@@ -47,8 +49,9 @@ def run(args) -> int:
             raise CommandError(f"{args.circuit_ref} passes every check: nothing to acknowledge")
     except CommandError as exc:
         return fail(exc)
-    rec = history.record(NewRevision(source="ack", author=args.by, site=parts[0], note=args.note,
+    rec = history.record(NewRevision(source="ack", author=by, site=parts[0], note=args.note,
                                      ack=(args.circuit_ref, open_checks)))
     history.close()
-    print(f"{args.circuit_ref}: acknowledged ({', '.join(open_checks)}) as revision {rec.id} by {args.by}: {args.note}")
+    print(f"{args.circuit_ref}: acknowledged ({', '.join(open_checks)}) as revision {rec.id} by {clean(by)}: "
+          f"{clean(args.note)}")
     return EXIT_OK

@@ -20,6 +20,7 @@ from tracker.checks.site import evaluate_site
 from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
 from tracker.loading.errors import InputError, sort_problems
 from tracker.loading.estate import EstateError, load_site, site_folders
+from tracker.output.terminal_text import clean
 from tracker.progress import Progress
 
 
@@ -174,7 +175,7 @@ def run(args) -> int:
     try:
         single, folders, warnings = site_folders(root)
     except EstateError as exc:
-        print(f"izwatch: {exc}", file=sys.stderr)
+        print(f"izwatch: {clean(exc)}", file=sys.stderr)
         if args.json:
             print(json.dumps({"schema": "izwatch.check/1", "circuits": [], "boards": [],
                               "errors": [{"file": str(args.path), "line": 0, "col": 0, "path": "",
@@ -202,9 +203,9 @@ def run(args) -> int:
     progress.close()
     errors, warnings = sort_problems(errors), sort_problems(warnings)
     for w in warnings:
-        print(w, file=sys.stderr)
+        print(clean(w), file=sys.stderr)
     for e in errors:
-        print(e, file=sys.stderr)
+        print(clean(e), file=sys.stderr)
     out.close(errors, warnings)
     if errors:
         return EXIT_INPUT

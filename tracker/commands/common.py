@@ -1,17 +1,29 @@
 """Shared by the commands: opening the history, finding a site, printing events."""
 from __future__ import annotations
 
+import errno
 import json
+import sqlite3
 import sys
 from pathlib import Path
 
 from tracker.cli import EXIT_INPUT
 from tracker.history import History, HistoryError, default_db_path
 from tracker.loading.estate import SITE_FILE, EstateError, site_folders
+from tracker.output.terminal_text import clean, clean_lines, first_unsafe
 
 
 class CommandError(Exception):
     """A clear, one-line reason to stop with exit code 2."""
+
+
+def disk_full(exc: BaseException) -> bool:
+    """A write refused for want of space (the file system's or the user's quota), from the OS or
+    from SQLite (SQLITE_FULL)."""
+    if isinstance(exc, OSError) and exc.errno in (errno.ENOSPC, errno.EDQUOT):
+        return True
+    return isinstance(exc, sqlite3.Error) and (getattr(exc, "sqlite_errorcode", None) == sqlite3.SQLITE_FULL
+                                               or "disk is full" in str(exc))
 
 
 def db_path(args) -> Path:
@@ -57,7 +69,7 @@ def folder_of_site(root: Path, site_id: str) -> str:
 
 
 def fail(exc: Exception) -> int:
-    print(f"izwatch: {exc}", file=sys.stderr)
+    print(f"izwatch: {clean_lines(exc)}", file=sys.stderr)
     return EXIT_INPUT
 
 
@@ -81,10 +93,22 @@ def event_line(e: dict, outcome, recorded, as_json: bool) -> str:
             doc.update(line=first.line, col=first.col, message=first.message,
                        errors=[x.as_json() for x in outcome.errors])
         return json.dumps(doc, ensure_ascii=False)
-    who = f" by {recorded.author}" if recorded else ""
+    who = f" by {clean(recorded.author)}" if recorded else ""
     if e["transition"] == "input-error":
-        return f"INPUT ERROR  {e['detail']}  (last good state kept; {outcome.file}{who})"
+        return f"INPUT ERROR  {clean(e['detail'])}  (last good state kept; {clean(outcome.file)}{who})"
     mark = {"newly-failing": "NEWLY FAILING", "cleared": "cleared", "worse": "WORSE"}[e["transition"]]
     need = {"<=": "at most", ">=": "at least"}.get(e.get("compare"), "limit")
-    return (f"{mark:<13} {e['ref']}  {e['check']}: {_fmt(e.get('value'), e.get('unit'))}, needs {need} "
-            f"{_fmt(e.get('limit'), e.get('unit'))}  ({outcome.file}{who})")
+    return (f"{mark:<13} {clean(e['ref'])}  {e['check']}: {_fmt(e.get('value'), e.get('unit'))}, needs {need} "
+            f"{_fmt(e.get('limit'), e.get('unit'))}  ({clean(outcome.file)}{who})")
+
+
+def plain_name(option: str, text: str) -> str:
+    """A name given on the command line (`--by`): refused if it holds a control or bidirectional
+    character, which would show one name and record another."""
+    at = first_unsafe(text)
+    if at is not None:
+        raise CommandError(f"{option} {clean(text)!s}: character {at + 1} is a control or direction character; "
+                           "give the name as plain text")
+    if not text.strip():
+        raise CommandError(f"{option} is empty: say who")
+    return text.strip()

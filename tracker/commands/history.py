@@ -7,6 +7,7 @@ import re
 from tracker.cli import EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path, fail, open_history
 from tracker.history import query
+from tracker.output.terminal_text import clean
 from tracker.tracking.diff import show_value
 
 DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
@@ -15,21 +16,22 @@ DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
 def render(revisions: list[dict], filtered: bool = False) -> str:
     lines = []
     for r in revisions:
-        what = r["file"] or (f"acknowledgement of {r['ack']['ref']}" if r.get("ack") else "")
-        note = f" — {r['note']}" if r["note"] else ""
-        lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {r['author']}{note}")
+        what = clean(r["file"] or (f"acknowledgement of {r['ack']['ref']}" if r.get("ack") else ""))
+        note = f" — {clean(r['note'])}" if r["note"] else ""
+        lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {clean(r['author'])}{note}")
         for c in r["changes"]:
             if c["change"] == "modified":
-                lines.append(f"    {c['ref']} {c['field']} {show_value(c['old'])} → {show_value(c['new'])}")
+                lines.append(f"    {clean(c['ref'])} {clean(c['field'])} {clean(show_value(c['old']))} → "
+                             f"{clean(show_value(c['new']))}")
             else:
-                lines.append(f"    {c['ref']} {c['change']}")
+                lines.append(f"    {clean(c['ref'])} {c['change']}")
         for e in r["events"]:
             if e["transition"] == "input-error":
-                lines.append(f"    ! input error: {e['detail']}")
+                lines.append(f"    ! input error: {clean(e['detail'])}")
             else:
-                lines.append(f"    ! {e['ref']} {e['check']} {e['transition']}")
+                lines.append(f"    ! {clean(e['ref'])} {e['check']} {e['transition']}")
         if r.get("ack"):
-            lines.append(f"    acknowledged: {r['ack']['ref']} ({', '.join(r['ack']['checks'])})")
+            lines.append(f"    acknowledged: {clean(r['ack']['ref'])} ({', '.join(r['ack']['checks'])})")
         elif not r["changes"] and not r["events"] and r["file"]:
             lines.append("    no element changed (comments or layout only, or the file loads again as it last did)")
     if lines:

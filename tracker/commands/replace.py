@@ -3,7 +3,9 @@ from __future__ import annotations
 
 import math
 import os
+import sqlite3
 import tempfile
+from dataclasses import dataclass
 from pathlib import Path
 
 from tracker import graph as G
@@ -11,8 +13,10 @@ from tracker.checks import remedy as remedies
 from tracker.checks.result import FAIL
 from tracker.checks.site import headroom_kw
 from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
-from tracker.commands.common import CommandError, check_root, fail, folder_of_site, open_history
+from tracker.commands.common import (CommandError, check_root, disk_full, fail, folder_of_site, open_history,
+                                     plain_name)
 from tracker.edit import EditError, format_number, set_scalar
+from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors
 from tracker.tracking.startup import start, to_revision
 from tracker.tracking.state import EstateState
@@ -20,16 +24,23 @@ from tracker.tracking.state import EstateState
 MAX_KW, MAX_A = 2000.0, 4000.0   # the schema's ranges for power_kw and current_a
 
 
+MAX_TRIES = 5   # another edit of the same file between reading it and recording: start again, this often
+BOM = b"\xef\xbb\xbf"
+
+
+class FileChanged(Exception):
+    """The site file changed between reading it and taking the history's write lock."""
+
+
 def _parse_ref(ref: str) -> tuple[str, str, str, str]:
     parts = ref.split("/")
     if len(parts) != 4 or not all(parts):
-        raise CommandError(f"'{ref}' is not a load ref (SITE/BOARD/CIRCUIT/LOAD)")
+        raise CommandError(f"'{clean(ref)}' is not a load ref (SITE/BOARD/CIRCUIT/LOAD)")
     return tuple(parts)
 
 
-def atomic_write(path: Path, data: bytes) -> None:
-    """Write `data` to `path` by a temporary file in the same folder and a rename."""
-    mode = path.stat().st_mode & 0o7777 if path.exists() else 0o644
+def _write_temp(path: Path, data: bytes, mode: int) -> str:
+    """`data` in a new temporary file beside `path` (flushed to disk); its name."""
     fd, tmp = tempfile.mkstemp(prefix=".izwatch-", suffix=".tmp", dir=str(path.parent))
     try:
         with os.fdopen(fd, "wb") as fh:
@@ -37,11 +48,107 @@ def atomic_write(path: Path, data: bytes) -> None:
             fh.flush()
             os.fsync(fh.fileno())
         os.chmod(tmp, mode)
-        os.replace(tmp, path)
     except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+        os.unlink(tmp)
         raise
+    return tmp
+
+
+class FileSwap:
+    """Replace a file's content only if it is still what was read, and be able to put it back.
+
+    `swap` (run under the history's write lock) re-reads the file: if it is not the content the
+    replacement was computed from, FileChanged. The new content is written to a temporary file
+    first (a full disk fails there, with the file untouched); the old file is kept by a second
+    link until `done`, so `undo` is a rename, which needs no free space."""
+
+    def __init__(self, path: Path, expected: bytes, new: bytes):
+        self.path, self.expected, self.new = path, expected, new
+        self.keep: str | None = None
+
+    def swap(self) -> None:
+        try:
+            now = self.path.read_bytes()
+        except OSError as exc:
+            raise FileChanged(f"it cannot be read now ({exc.strerror})") from None
+        if now != self.expected:
+            raise FileChanged("it was changed meanwhile")
+        mode = self.path.stat().st_mode & 0o7777
+        tmp = _write_temp(self.path, self.new, mode)
+        try:
+            keep = tmp[:-len(".tmp")] + ".old"
+            os.link(self.path, keep)
+            self.keep = keep
+            os.replace(tmp, self.path)
+        except BaseException:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
+            self.done()
+            raise
+
+    def undo(self) -> None:
+        if self.keep is not None:
+            os.replace(self.keep, self.path)
+            self.keep = None
+
+    def done(self) -> None:
+        if self.keep is not None:
+            try:
+                os.unlink(self.keep)
+            except OSError:
+                pass
+            self.keep = None
+
+
+@dataclass
+class _Plan:
+    """The replacement worked out from the site file as read."""
+
+    state: object
+    ss: object
+    circuit: object
+    load: object
+    path: Path
+    original: bytes
+    new: bytes
+    old_key: str
+    old_value: float | None
+
+
+def _plan(root: Path, folder: str, history, ref: tuple, key: str, other: str, value: float) -> _Plan:
+    site_id, board_id, circuit_id, load_id = ref
+    if history is None:
+        state = EstateState(root)
+        state.seed({rel: p.read_bytes() for rel, p in state.disk_files().items()
+                    if state.folder_of(rel) == folder})
+    else:
+        # Anything changed while nothing watched is recorded first, so the replacement is
+        # diffed against the file as it really was.
+        state, _ = start(root, history, Authors(root), folders={folder})
+    ss = state.site_by_id(site_id)
+    if ss is None:
+        errs = [str(e) for errs in state.errors.values() for e in errs]
+        raise CommandError(f"site {site_id} does not load; fix it first:\n" + "\n".join(errs))
+    circuit = next((c for c in ss.site.circuits if c.board == board_id and c.id == circuit_id), None)
+    load = next((ld for ld in circuit.loads if ld.id == load_id), None) if circuit else None
+    if load is None:
+        raise CommandError(f"no load {'/'.join(ref)} in the site files")
+    old_value = getattr(load, key) if getattr(load, key) is not None else getattr(load, other)
+    old_key = key if getattr(load, key) is not None else other
+    path = root / load.src.file
+    original = path.read_bytes()
+    # Every byte but the value is kept: a byte-order mark (which libyaml does not count in its
+    # positions) is set aside and put back; line ends are not translated (CRLF stays CRLF).
+    bom = BOM if original.startswith(BOM) else b""
+    try:
+        text = original[len(bom):].decode("utf-8")
+    except UnicodeDecodeError:
+        raise CommandError(f"{load.src.file}: not valid UTF-8") from None
+    try:
+        new_text = set_scalar(text, load.src.path, key, value, drop=(other,))
+    except EditError as exc:
+        raise CommandError(f"{load.src.file}: {exc}") from None
+    return _Plan(state, ss, circuit, load, path, original, bom + new_text.encode("utf-8"), old_key, old_value)
 
 
 def _fmt_check(c) -> str:
@@ -78,7 +185,9 @@ def _table(title: str, before, after) -> list[str]:
 def run(args) -> int:
     try:
         root = check_root(args.path)
-        site_id, board_id, circuit_id, load_id = _parse_ref(args.load_ref)
+        ref = _parse_ref(args.load_ref)
+        site_id, board_id, circuit_id, load_id = ref
+        by = plain_name("--by", args.by)
         value = args.power_kw if args.power_kw is not None else args.current_a
         key, other = ("power_kw", "current_a") if args.power_kw is not None else ("current_a", "power_kw")
         if not math.isfinite(value) or value <= 0 or value > (MAX_KW if key == "power_kw" else MAX_A):
@@ -86,60 +195,70 @@ def run(args) -> int:
                                f"{MAX_KW if key == 'power_kw' else MAX_A:g})")
         folder = folder_of_site(root, site_id)
         history = None if args.dry_run else open_history(args)
-        authors = Authors(root, by=args.by)
-        if history is None:
-            state = EstateState(root)
-            state.seed({rel: p.read_bytes() for rel, p in state.disk_files().items()
-                        if state.folder_of(rel) == folder})
-        else:
-            # Anything changed while nothing watched is recorded first, so the replacement is
-            # diffed against the file as it really was.
-            state, _ = start(root, history, Authors(root), folders={folder})
-        ss = state.site_by_id(site_id)
-        if ss is None:
-            errs = [str(e) for errs in state.errors.values() for e in errs]
-            raise CommandError(f"site {site_id} does not load; fix it first:\n" + "\n".join(errs))
-        circuit = next((c for c in ss.site.circuits if c.board == board_id and c.id == circuit_id), None)
-        load = next((ld for ld in circuit.loads if ld.id == load_id), None) if circuit else None
-        if load is None:
-            raise CommandError(f"no load {args.load_ref} in the site files")
-        old_value = getattr(load, key) if getattr(load, key) is not None else getattr(load, other)
-        old_key = key if getattr(load, key) is not None else other
-        path = root / load.src.file
-        text = path.read_text(encoding="utf-8")
-        try:
-            new_text = set_scalar(text, load.src.path, key, value, drop=(other,))
-        except EditError as exc:
-            raise CommandError(f"{load.src.file}: {exc}") from None
     except CommandError as exc:
         return fail(exc)
-
-    before = ss.result
+    authors = Authors(root, by=by)
     circuit_ref = f"{site_id}/{board_id}/{circuit_id}"
-    outcome = state.apply_bytes(load.src.file, new_text.encode("utf-8"))
-    if outcome is None or not outcome.valid or {c.ref for c in outcome.changes} != {args.load_ref}:
-        detail = "; ".join(str(e) for e in (outcome.errors if outcome else [])) or \
-            "the edit changed more than the one value"
-        print(f"izwatch: the edit was not made: {detail}")
-        return EXIT_INPUT
-    after = state.site_by_id(site_id).result
     recorded = None
-    if history is not None:
-        rev = to_revision(outcome, "replace", authors(load.src.file), args.note)
-        recorded = history.record_after(rev, lambda: atomic_write(path, new_text.encode("utf-8")))
-        history.close()
+    try:
+        for attempt in range(MAX_TRIES):
+            try:
+                plan = _plan(root, folder, history, ref, key, other, value)
+            except CommandError as exc:
+                return fail(exc)
+            except OSError as exc:
+                if disk_full(exc):
+                    return fail(CommandError(f"disk full: {exc.strerror}; nothing was changed"))
+                raise
+            state, ss, load = plan.state, plan.ss, plan.load
+            before = ss.result
+            outcome = state.apply_bytes(load.src.file, plan.new)
+            if outcome is None or not outcome.valid or {c.ref for c in outcome.changes} != {args.load_ref}:
+                detail = "; ".join(str(e) for e in (outcome.errors if outcome else [])) or \
+                    "the edit changed more than the one value"
+                print(f"izwatch: the edit was not made: {clean(detail)}")
+                return EXIT_INPUT
+            after = state.site_by_id(site_id).result
+            if history is None:
+                break
+            rev = to_revision(outcome, "replace", authors(load.src.file), args.note)
+            swap = FileSwap(plan.path, plan.original, plan.new)
+            try:
+                recorded = history.record_after(rev, swap.swap, undo=swap.undo)
+                break
+            except FileChanged:
+                continue     # another edit landed meanwhile: work it out again from the file as it is now
+            except (OSError, sqlite3.Error) as exc:
+                if not disk_full(exc):
+                    raise
+                if swap.keep is not None:   # could not be put back: say exactly that
+                    return fail(CommandError(
+                        f"disk full while recording: {load.src.file} has the new value but the history could not "
+                        "record it; free some space and run `izwatch watch` to record it"))
+                return fail(CommandError(f"disk full: the replacement was not made and nothing was recorded "
+                                         f"({load.src.file} is unchanged); free some space and run it again"))
+            finally:
+                swap.done()
+        else:
+            return fail(CommandError(f"{load.src.file} kept changing while the replacement was being recorded "
+                                     f"({MAX_TRIES} tries): nothing was written; run it again"))
+    finally:
+        if history is not None:
+            history.close()
+    circuit = plan.circuit
+    old_key, old_value = plan.old_key, plan.old_value
 
     # -- what it did ----------------------------------------------------------------------
     old_show = f"{old_key} {format_number(old_value)}" if old_value is not None else "(none)"
     lines = [f"{args.load_ref}: {old_show} → {key} {format_number(value)}"
-             + (f" ({load.name})" if load.name else "")]
+             + (f" ({clean(load.name)})" if load.name else "")]
     if recorded is not None:
-        lines.append(f"  recorded as revision {recorded.id} by {recorded.author}"
-                     + (f": {args.note}" if args.note else ""))
+        lines.append(f"  recorded as revision {recorded.id} by {clean(recorded.author)}"
+                     + (f": {clean(args.note)}" if args.note else ""))
     else:
         lines.append("  dry run: nothing written")
     r_old, r_new = before.circuits[circuit_ref], after.circuits[circuit_ref]
-    lines += _table(f"circuit {circuit_ref} \"{circuit.name}\"", r_old.checks, r_new.checks)
+    lines += _table(f"circuit {circuit_ref} \"{clean(circuit.name)}\"", r_old.checks, r_new.checks)
     failing = r_new.status == FAIL
     g = state.graph
     for up in G.upstream(g, circuit_ref):
@@ -162,7 +281,7 @@ def run(args) -> int:
     if r_new.status == FAIL:
         fix = remedies.find(r_new)
         if fix:
-            lines.append(f"remedy: {fix['text']}")
+            lines.append(f"remedy: {clean(fix['text'])}")
     lines.append("Caution: verify against the current regulations and the maker's data; work on "
                  "installations is for qualified people.")
     print("\n".join(lines))

@@ -6,14 +6,18 @@ the history is only read. Exit 0: written; 2: bad input (nothing written for tha
 """
 from __future__ import annotations
 
+import os
 import sys
+import tempfile
 from pathlib import Path
 
 from tracker.cli import EXIT_INPUT, EXIT_OK
-from tracker.commands.common import CommandError, check_root, db_path, fail, folder_of_site
+from tracker.commands.common import CommandError, check_root, db_path, disk_full, fail, folder_of_site
 from tracker.commands.history import DATE
+from tracker.output.terminal_text import clean
 from tracker.progress import Progress
 from tracker.loading import load_estate, load_site
+from tracker.loading.estate import EstateError, _inside, site_folders
 
 FORMATS = ("html", "csv", "json")
 
@@ -32,32 +36,84 @@ def _since(text: str | None) -> str | None:
     return text.replace(" ", "T")
 
 
-def _guard(target: Path, protected: set[Path]) -> None:
-    """Never let a report overwrite a site file or the history."""
+class _Protected:
+    """What a report must never be written over: every site file of the estate and the history
+    with its companions (-wal, -shm, -journal), known by device and inode (a hard link or a
+    symbolic link to one is the same file) and by path (a companion not made yet)."""
+
+    def __init__(self, root: Path, db: Path):
+        self.root = root
+        self.ids: set[tuple[int, int]] = set()
+        self.paths: set[Path] = set()
+        files = [db.with_name(db.name + tail) for tail in ("", "-wal", "-shm", "-journal")]
+        try:
+            _, folders, _ = site_folders(root)
+        except EstateError:
+            folders = []
+        for folder, _rel in folders:
+            files += sorted(folder.glob("*.yaml"))
+        for f in files:
+            self.paths.add(_where(f))
+            try:
+                st = os.stat(f)
+            except OSError:
+                continue
+            self.ids.add((st.st_dev, st.st_ino))
+
+    def check(self, target: Path) -> None:
+        refuse = _where(target) in self.paths
+        for stat in (os.stat, os.lstat):
+            try:
+                st = stat(target)
+            except OSError:
+                continue
+            refuse |= (st.st_dev, st.st_ino) in self.ids
+        if refuse:
+            raise CommandError(f"-o {target}: that is a site file or the history (or one of its companion "
+                               "files); give another file name")
+        if target.suffix.lower() in (".yaml", ".yml") and _inside(self.root, _where(target)):
+            raise CommandError(f"-o {target}: a .yaml file in the estate would be read as a site file; "
+                               "give another file name")
+
+
+def _where(path: Path) -> Path:
+    """The path with its folder resolved but not its last part (a link there is not followed)."""
     try:
-        resolved = target.resolve()
+        return path.absolute().parent.resolve() / path.name
     except OSError:
-        return
-    if resolved in protected:
-        raise CommandError(f"-o {target}: that is a site file or the history; give another file name")
-
-
-def _protected(root: Path, db: Path, files) -> set[Path]:
-    out = {db.resolve()}
-    out.update((root / rel).resolve() for rel in files)
-    return out
+        return path.absolute()
 
 
 def _write(target: Path, text: str) -> None:
+    """Write a report: into a temporary file beside `target`, then renamed over it. A link at
+    `target` is replaced, never followed; the file gets the usual permissions (the umask's)."""
+    data = text.encode("utf-8")
     try:
-        target.write_text(text, encoding="utf-8", newline="")
+        if target.is_dir() and not target.is_symlink():
+            raise CommandError(f"cannot write {target}: it is a folder")
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=str(target.absolute().parent))
     except OSError as exc:
+        raise CommandError(f"cannot write {target}: {exc.strerror or exc}") from None
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
+        os.replace(tmp, target)
+    except OSError as exc:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        if disk_full(exc):
+            raise CommandError(f"cannot write {target}: disk full") from None
         raise CommandError(f"cannot write {target}: {exc.strerror or exc}") from None
 
 
 def _print_problems(problems) -> None:
     for p in problems:
-        print(p, file=sys.stderr)
+        print(clean(p), file=sys.stderr)
 
 
 def _one_site(root: Path, args, since, db: Path) -> int:
@@ -77,7 +133,7 @@ def _one_site(root: Path, args, since, db: Path) -> int:
         sys.stdout.write(text)
         return EXIT_OK
     target = Path(args.output)
-    _guard(target, _protected(root, db, loaded.files))
+    _Protected(root, db).check(target)
     _write(target, text)
     print(f"report of {args.site} written to {target} ({args.format}; history: {doc['verification']['state']})",
           file=sys.stderr)
@@ -92,12 +148,10 @@ def _all_sites(root: Path, args, since, db: Path) -> int:
     estate = load_estate(root)
     _print_problems(estate.warnings)
     _print_problems(estate.errors)
-    files = [rel for sl in estate.loads.values() for rel in sl.files]
-    protected = _protected(root, db, files)
+    protected = _Protected(root, db)
     if out.exists() and not out.is_dir():
+        protected.check(out)
         raise CommandError(f"-o {out}: not a folder (--all-sites writes one file per site and an index into it)")
-    if out.resolve() in protected:
-        raise CommandError(f"-o {out}: that is a site file or the history")
     render, render_index = _renderers(args.format)
     pages = []
     reader = gather.HistoryReader(db)   # the history read once for every site
@@ -119,10 +173,11 @@ def _all_sites(root: Path, args, since, db: Path) -> int:
         out.mkdir(exist_ok=True)
     except OSError as exc:
         raise CommandError(f"cannot make the folder {out}: {exc.strerror or exc}") from None
+    for _, name, _text in pages:
+        protected.check(out / name)
+    protected.check(out / f"index.{args.format}")
     for _, name, text in pages:
-        _guard(out / name, protected)
         _write(out / name, text)
-    _guard(out / f"index.{args.format}", protected)
     _write(out / f"index.{args.format}", render_index(index))
     print(f"{len(pages)} report{'s' if len(pages) != 1 else ''} and index.{args.format} written to {out}"
           + (f"; {len(failed)} site(s) did not load (listed in the index)" if failed else ""), file=sys.stderr)

@@ -9,6 +9,8 @@ import threading
 from tracker.cli import EXIT_OK
 from tracker.progress import Progress
 from tracker.commands.common import CommandError, check_root, db_path, event_line, fail, open_history
+from tracker.output.streams import stdout_gone
+from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors
 from tracker.watcher import Watcher
 
@@ -23,9 +25,9 @@ def emit_updates(updates, as_json: bool, verbose: bool = False) -> None:
         if o.first_record and o.valid:
             continue   # the first record lists no events: nothing changed yet (the ready line counts them)
         if verbose and not as_json:
-            changes = "; ".join(str(c) for c in o.changes[:6]) + (" …" if len(o.changes) > 6 else "")
+            changes = "; ".join(clean(c) for c in o.changes[:6]) + (" …" if len(o.changes) > 6 else "")
             tag = "already recorded" if rec.duplicate else f"revision {rec.id}"
-            _print(f"· {o.file}: {tag} ({u.source}, by {rec.author}) {changes}")
+            _print(f"· {clean(o.file)}: {tag} ({u.source}, by {clean(rec.author)}) {changes}")
         for e in o.events:
             _print(event_line(e, o, rec, as_json))
 
@@ -54,7 +56,7 @@ def run(args) -> int:
         n_circuits = sum(len(s.site.circuits) for s in state.sites.values() if s.site is not None)
         for _, errs in sorted(state.errors.items()):
             for e in errs:
-                print(e, file=sys.stderr)
+                print(clean(e), file=sys.stderr)
         failing = sum(1 for sr in state.site_results() for r in sr.circuits.values() if r.status == "fail")
         first = bool(updates) and all(u.outcome.first_record for u in updates)
         if args.json:
@@ -66,7 +68,12 @@ def run(args) -> int:
             what = "first record made" if first else f"{history.count()} revisions"
             _print(f"izwatch: watching {n_sites} sites, {n_circuits} circuits ({failing} failing) in {root} "
                    f"(history {db_path(args)}: {what}) — ready; Ctrl-C stops")
-        watcher.run(lambda u: emit_updates([u], args.json, args.verbose), stop)
+        def on_update(u) -> None:
+            emit_updates([u], args.json, args.verbose)
+            if stdout_gone():   # nobody reads what the watcher says (`watch | head`): stop as a pipe expects
+                stop.set()
+
+        watcher.run(on_update, stop)
     finally:
         watcher.stop()
         history.close()

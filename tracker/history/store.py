@@ -357,13 +357,37 @@ class History:
                 out.append(rec)
         return out
 
-    def record_after(self, rev: NewRevision, action) -> Recorded:
-        """Do `action` (write the file) and record `rev`, both under the write lock, so a watcher
-        that sees the file change finds it already recorded."""
-        with self._write():
+    def record_after(self, rev: NewRevision, action, undo=None) -> Recorded:
+        """Record `rev` and do `action` (write the file) in one write transaction, so a watcher
+        that sees the file change finds it already recorded.
+
+        The revision is written first: a full disk or any other failure to record stops before
+        the file is touched. `action` may raise to abandon the whole (nothing is recorded). If the
+        commit itself fails after `action`, `undo` puts the file back before the error goes on:
+        a file is never left changed without its revision."""
+        conn = self.db.conn
+        conn.execute("BEGIN IMMEDIATE")
+        try:
             head_id, head_hash = self.head()
+            rec = self._insert(rev, head_id, head_hash)
             action()
-            return self._insert(rev, head_id, head_hash)
+        except BaseException:
+            conn.execute("ROLLBACK")
+            raise
+        try:
+            conn.execute("COMMIT")
+        except BaseException:
+            try:
+                if undo is not None:
+                    undo()
+            finally:
+                if conn.in_transaction:
+                    try:
+                        conn.execute("ROLLBACK")
+                    except sqlite3.Error:
+                        pass
+            raise
+        return rec
 
     def _hash_of(self, rev_id: int) -> str:
         return self.db.execute("SELECT hash FROM revisions WHERE id = ?", [rev_id]).fetchone()[0]

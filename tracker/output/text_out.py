@@ -6,6 +6,7 @@ from tracker.checks import remedy as remedies
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.checks.site import SiteResult, headroom_kw
 from tracker.output.json_out import CAUTION  # noqa: F401 - the check command prints it from here
+from tracker.output.terminal_text import clean
 
 MARK = {PASS: "ok  ", FAIL: "FAIL", WARN: "warn", NOT_ASSESSED: "n/a "}
 SYMBOL = {FAIL: "✗", WARN: "!", NOT_ASSESSED: "?"}
@@ -18,7 +19,7 @@ def _num(x, fmt="{:.1f}") -> str:
 def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
     site = sr.site
     sup = site.supply
-    lines = [f"== {site.id}  {site.name}".rstrip(),
+    lines = [f"== {site.id}  {clean(site.name)}".rstrip(),
              f"   supply {sup.system}, U0 {sup.u0_v:g} V, Ze {_num(sup.ze_ohm, '{:g}')} Ω"
              + (f", PFC {sup.pfc_ka:g} kA" if sup.pfc_ka else "")
              + (f", supplier's fuse {sup.service_fuse_a:g} A" if sup.service_fuse_a else "")]
@@ -30,26 +31,26 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
             continue
         board = site.board(b.board_id)
         fed = "supply" if board.at_origin else board.fed_by
-        lines.append(f"-- {bref}  {board.name}  (fed by {fed}; demand {b.demand.demand_a:.1f} A) "
+        lines.append(f"-- {bref}  {clean(board.name)}  (fed by {fed}; demand {b.demand.demand_a:.1f} A) "
                      f"[{MARK[b.status].strip()}]")
         if b.status != PASS:
-            lines.append(f"     {SYMBOL[b.status]} demand: {b.check.detail}")
+            lines.append(f"     {SYMBOL[b.status]} demand: {clean(b.check.detail)}")
         for r in by_board.get(b.board_id, []):
             if only_problems and r.status in (PASS,):
                 continue
             hk = headroom_kw(sr, r)
-            lines.append(f"   {MARK[r.status]} {r.circuit.id:<5} {r.circuit.name[:34]:<34} "
+            lines.append(f"   {MARK[r.status]} {r.circuit.id:<5} {clean(r.circuit.name)[:34]:<34} "
                          f"Ib {_num(r.ib_a):>6}  In {r.in_a:>5g}  Iz {_num(r.iz_a):>6}  "
                          f"headroom {_num(hk, '{:+.2f}')} kW")
             for chk in r.checks:
                 if chk.status in (FAIL, WARN, NOT_ASSESSED):
-                    lines.append(f"        {SYMBOL[chk.status]} {chk.id}: {chk.detail}")
+                    lines.append(f"        {SYMBOL[chk.status]} {chk.id}: {clean(chk.detail)}")
             if r.status == FAIL:
                 rem = remedies.find(r)
                 if rem:
-                    lines.append(f"        → remedy: {rem['text']}")
+                    lines.append(f"        → remedy: {clean(rem['text'])}")
     if sr.supply_check is not None and sr.supply_check.status != PASS:
-        lines.append(f"   {SYMBOL[sr.supply_check.status]} origin demand: {sr.supply_check.detail}")
+        lines.append(f"   {SYMBOL[sr.supply_check.status]} origin demand: {clean(sr.supply_check.detail)}")
     if only_problems and len(lines) == 2:
         return []          # nothing of this site to list
     return lines

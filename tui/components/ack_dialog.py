@@ -30,8 +30,8 @@ class AckDialog(ModalScreen[AckAnswer | None]):
     def compose(self) -> ComposeResult:
         r = self.row
         with Vertical(id="ack-box"):
-            yield Static(f"Acknowledge {r.ref}", id="ack-title")
-            yield Static(f"{r.name} — open: {', '.join(r.open_checks)}", id="ack-what")
+            yield Static(f"Acknowledge {r.ref}", id="ack-title", markup=False)
+            yield Static(f"{r.name} — open: {', '.join(r.open_checks)}", id="ack-what", markup=False)
             yield Static("Recorded in the history (part of its hash chain) with your name and note. "
                          "The problem stays listed as acknowledged until it is fixed or gets worse.",
                          id="ack-explain")

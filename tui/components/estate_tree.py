@@ -14,6 +14,7 @@ from textual.widgets import Tree
 from textual.widgets.tree import TreeNode
 
 from tui.messages import OpenElement
+from tracker.output.terminal_text import clean
 from tui.snapshot import EMPTY, Row, Snapshot
 from tui.wording import ACKED, NEW, PASS, STATE_MARK, STATE_SHORT, STATES
 
@@ -88,7 +89,7 @@ class EstateTree(Tree[Branch]):
         if b.kind == SITE:
             sr = snap.sites.get(b.site_id)
             t = self._tallies.get(b.site_id, _SiteTally())
-            name = sr.site.name if sr else ""
+            name = clean(sr.site.name) if sr else ""
             tail = f"{t.failing} failing" + (f" ({t.new} new)" if t.new else "") if t.failing else "no failures"
             return self._labelled(t.worst, b.site_id, tail, f"{t.circuits} circuits · {name}" if name else "")
         row = snap.by_ref.get(b.ref)

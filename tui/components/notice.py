@@ -8,11 +8,12 @@ from __future__ import annotations
 from textual.widgets import Static
 
 from tracker.loading.errors import InputError
+from tracker.output.terminal_text import clean
 
 
 class Notice(Static):
     def __init__(self, **kwargs):
-        super().__init__("", **kwargs)
+        super().__init__("", markup=False, **kwargs)
         self.errors: tuple[InputError, ...] = ()
         self.failure = ""
         self.in_force: frozenset = frozenset()
@@ -30,14 +31,14 @@ class Notice(Static):
     def _draw(self) -> None:
         lines = []
         if self.failure:
-            lines.append(f"⚠ {self.failure} — the list shows the last state seen; restart to watch again")
+            lines.append(f"⚠ {clean(self.failure)} — the list shows the last state seen; restart to watch again")
         if self.errors:
             first = self.errors[0]
             more = len(self.errors) - 1
             tail = f" (+{more} more)" if more else ""
             kept = ("the last good state of the file is kept" if first.file in self.in_force
                     else "its site is left out until it loads")
-            lines.append(f"⚠ input error: {first}{tail} — {kept}")
+            lines.append(f"⚠ input error: {clean(first)}{tail} — {kept}")
         self.set_class(bool(self.failure), "-failure")
         self.display = bool(lines)
         self.update("\n".join(lines))
