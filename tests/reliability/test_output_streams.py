@@ -6,9 +6,15 @@ import os
 import subprocess
 import sys
 
+from tests.reliability.conftest import FIGURES
 from tracker.cli import main
 
 CLI = [sys.executable, "-m", "tracker.cli"]
+
+
+def _count() -> None:
+    key = "check into a closed pipe, a closed stdout (text, JSON), a Latin-1 stdout: real exit code"
+    FIGURES[key] = FIGURES.get(key, 0) + 1
 
 
 def test_check_piped_into_a_reader_that_stops_keeps_its_exit_code(demo_copy):
@@ -21,6 +27,7 @@ def test_check_piped_into_a_reader_that_stops_keeps_its_exit_code(demo_copy):
     finally:
         os.close(write_end)
     assert proc.returncode == 1                       # the demo has failing circuits (README)
+    _count()
     assert "Traceback" not in proc.stderr and "internal error" not in proc.stderr and "Exception" not in proc.stderr
 
 
@@ -32,6 +39,7 @@ def test_a_closed_standard_output_is_not_an_internal_error(demo_copy):
                               preexec_fn=lambda: os.close(1))
         assert proc.returncode == 1, proc.stderr
         assert "internal error" not in proc.stderr
+        _count()
 
 
 def test_an_output_that_cannot_encode_a_character_gets_an_escape(demo_copy):
@@ -41,6 +49,7 @@ def test_an_output_that_cannot_encode_a_character_gets_an_escape(demo_copy):
     assert proc.returncode == 1, proc.stderr
     out = proc.stdout.decode("latin-1")
     assert "\\u03a9" in out and "internal error" not in proc.stderr.decode("latin-1")
+    _count()
 
 
 def test_in_process_a_reader_that_goes_away_does_not_change_the_answer(demo_copy, monkeypatch):

@@ -8,6 +8,7 @@ import sqlite3
 
 import pytest
 
+from tests.reliability.conftest import FIGURES, record
 from tracker.cli import main
 from tracker.history import History
 from tracker.history.verify import verify
@@ -60,6 +61,7 @@ def test_two_replacements_of_one_file_at_once_keep_both(demo_copy, monkeypatch, 
     revs = [r for r in json.loads(capsys.readouterr().out) if r["source"] == "replace"]
     assert [(r["author"], r["changes"][0]["ref"]) for r in revs] == [("Inner", COOKER), ("Outer", SHOWER)]
     assert verify(History.open(demo_copy / ".izwatch" / "history.sqlite")).ok
+    record("two replacements of one file at once", "both edits in the file and recorded, in order")
 
 
 def test_a_file_that_keeps_changing_is_refused_not_overwritten(demo_copy, monkeypatch, capsys):
@@ -77,6 +79,7 @@ def test_a_file_that_keeps_changing_is_refused_not_overwritten(demo_copy, monkey
     err = capsys.readouterr().err
     assert code == 2 and "kept changing" in err and "nothing was written" in err
     assert "power_kw: 7.5" in path.read_text()          # the replacement was not made
+    record("a file that keeps changing under replace", f"refused after {n[0]} tries, nothing written")
 
 
 @pytest.mark.parametrize("where", ["temporary file", "revision", "commit"])
@@ -115,6 +118,8 @@ def test_disk_full_leaves_file_and_history_in_step(demo_copy, monkeypatch, capsy
     assert path.read_bytes() == before                              # the file is as it was
     assert latest_hash(demo_copy, FILE) == sha256_hex(before)       # and the history says so
     assert not [p for p in path.parent.iterdir() if p.name.startswith(".izwatch-")]   # no leftovers
+    FIGURES["disk full cases: file and history agree, \"disk full\" said"] = \
+        FIGURES.get("disk full cases: file and history agree, \"disk full\" said", 0) + 1
 
 
 def test_disk_full_while_recording_what_changed_meanwhile(demo_copy, monkeypatch, capsys):
@@ -135,6 +140,8 @@ def test_disk_full_while_recording_what_changed_meanwhile(demo_copy, monkeypatch
     err = capsys.readouterr().err
     assert code == 2 and "disk full" in err and "internal error" not in err
     assert (demo_copy / FILE).read_bytes() == before
+    FIGURES["disk full cases: file and history agree, \"disk full\" said"] = \
+        FIGURES.get("disk full cases: file and history agree, \"disk full\" said", 0) + 1
 
 
 def test_crlf_line_ends_are_kept(demo_copy):

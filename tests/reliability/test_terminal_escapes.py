@@ -8,6 +8,7 @@ import json
 import pytest
 
 from tests.watch_helpers import settle, start_watcher
+from tests.reliability.conftest import FIGURES
 from tracker.cli import main
 from tracker.commands.common import event_line
 from tracker.output.terminal_text import clean, first_unsafe, is_unsafe
@@ -20,7 +21,12 @@ SHOWN = "Shower\\rok    \\x1b]0;owned\\x07\\x1b[2J\\u202eevil"
 
 
 def is_clean(text: str) -> bool:
-    return not any(is_unsafe(ch) for ch in text.replace("\n", ""))
+    FIGURES["text outputs with hostile names, notes or authors checked"] = \
+        FIGURES.get("text outputs with hostile names, notes or authors checked", 0) + 1
+    ok = not any(is_unsafe(ch) for ch in text.replace("\n", ""))
+    FIGURES["… of them with a raw control or direction character"] = \
+        FIGURES.get("… of them with a raw control or direction character", 0) + (not ok)
+    return ok
 
 
 def hostile_copy(root):
