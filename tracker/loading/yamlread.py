@@ -6,6 +6,7 @@ needs them, by composing the file into nodes (which carry line and column marks)
 """
 from __future__ import annotations
 
+import datetime
 import math
 from dataclasses import dataclass
 
@@ -27,6 +28,7 @@ class _Refused(Exception):
 _TAG = "tag:yaml.org,2002:"
 _STR, _INT, _FLOAT, _BOOL, _NULL = (_TAG + t for t in ("str", "int", "float", "bool", "null"))
 _MAP, _SEQ, _MERGE = _TAG + "map", _TAG + "seq", _TAG + "merge"
+_TIMESTAMP = _TAG + "timestamp"
 
 
 class _Unusual(Exception):
@@ -95,10 +97,22 @@ class _Loader(yaml.CSafeLoader):
             out = self.construct_yaml_bool(node)
         elif tag == _NULL:
             out = None
+        elif tag == _TIMESTAMP:
+            out = self.construct_yaml_timestamp(node)
         else:
             raise _Unusual
         memo[key] = out
         return out
+
+    def construct_yaml_timestamp(self, node):
+        # A plain scalar shaped like a date but naming no day of the calendar (2026-02-30) would
+        # raise from deep inside the constructor: refuse it with its place in the file instead.
+        try:
+            return super().construct_yaml_timestamp(node)
+        except ValueError:
+            m = node.start_mark
+            raise _Refused(f"'{node.value}' is not a date of the calendar (YYYY-MM-DD)",
+                           m.line + 1, m.column + 1) from None
 
     def construct_mapping(self, node, deep=False):
         # the standard path (documents with merge keys or explicit tags) refuses duplicates too
@@ -111,6 +125,9 @@ class _Loader(yaml.CSafeLoader):
                                    m.line + 1, m.column + 1)
                 seen.add(key_node.value)
         return super().construct_mapping(node, deep=deep)
+
+
+_Loader.add_constructor(_TIMESTAMP, _Loader.construct_yaml_timestamp)   # the standard path too
 
 
 @dataclass(slots=True)
@@ -180,6 +197,33 @@ def parse(text: str, rel: str) -> tuple[object, list[InputError]]:
         return None, [InputError(rel, 1, 1, f"the top level is {kind}; a site file is a mapping with the keys "
                                             "site, supply, boards, circuits")]
     return data, []
+
+
+def dates_as_text(doc: dict, keys=("site", "inspections")) -> dict:
+    """Dates under `keys` as ISO text (YYYY-MM-DD), as the schema describes them.
+
+    YAML reads an unquoted 2026-03-11 as a date and a quoted one as text; both mean the same day,
+    so the document is validated and built from one form. Only the parts of a site file that hold
+    dates are walked (a large board file is not).
+    """
+    for key in keys:
+        if key in doc:
+            doc[key] = _dates_as_text(doc[key], 0)
+    return doc
+
+
+def _dates_as_text(obj, depth: int):
+    if isinstance(obj, datetime.date):   # (a datetime is a date too: its text keeps the time)
+        return obj.isoformat()
+    if depth > MAX_DEPTH:
+        return obj
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            obj[k] = _dates_as_text(v, depth + 1)
+    elif isinstance(obj, list):
+        for i, v in enumerate(obj):
+            obj[i] = _dates_as_text(v, depth + 1)
+    return obj
 
 
 def _tag_of(exc: yaml.MarkedYAMLError) -> str:
