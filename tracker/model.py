@@ -9,6 +9,7 @@ Refs (SPEC §2): board ``SITE/BOARD``, circuit ``SITE/BOARD/CIRCUIT``, load
 """
 from __future__ import annotations
 
+import datetime
 from dataclasses import dataclass, field, fields
 
 SUPPLY = "supply"  # the reserved value of `fed_by` for a board at the origin
@@ -163,6 +164,65 @@ class Circuit:
 
 @rebuilt_by_constructor
 @dataclass(frozen=True, slots=True)
+class RingReading:
+    """End-to-end resistances of a ring final circuit's conductors, ohms."""
+
+    r1_ohm: float | None = None
+    rn_ohm: float | None = None
+    r2_ohm: float | None = None
+
+
+@rebuilt_by_constructor
+@dataclass(frozen=True, slots=True)
+class Measurement:
+    """One circuit's readings at an inspection. `ref` is BOARD/CIRCUIT within the site."""
+
+    ref: str
+    r1_r2_ohm: float | None = None
+    zs_ohm: float | None = None
+    ir_mohm: float | None = None
+    ir_test_v: float | None = None
+    rcd_ms: float | None = None
+    ring: RingReading | None = None
+    src: Src | None = field(default=None, compare=False)
+
+
+@rebuilt_by_constructor
+@dataclass(frozen=True, slots=True)
+class Observation:
+    code: str                       # C1 | C2 | C3 | FI
+    text: str
+    ref: str | None = None          # BOARD/CIRCUIT within the site
+    within_days: int | None = None  # a shorter period the report sets for the work
+    done_on: datetime.date | None = None
+    confirmed_on: datetime.date | None = None
+    src: Src | None = field(default=None, compare=False)
+
+
+@rebuilt_by_constructor
+@dataclass(frozen=True, slots=True)
+class Inspection:
+    date: datetime.date
+    by: str
+    kind: str                       # periodic | initial | minor-works | remedial
+    next_due: datetime.date | None = None
+    ze_ohm: float | None = None
+    pfc_ka: float | None = None
+    test_temp_c: float = 20.0
+    copy_to_tenant_on: datetime.date | None = None
+    results: tuple[Measurement, ...] = ()
+    observations: tuple[Observation, ...] = ()
+    key: str = ""                   # the date, made unique within the site (2026-03-11, 2026-03-11.2)
+    src: Src | None = field(default=None, compare=False)
+
+    @property
+    def restarts_interval(self) -> bool:
+        """A periodic or initial inspection restarts the interval to the next one."""
+        return self.kind in ("periodic", "initial")
+
+
+@rebuilt_by_constructor
+@dataclass(frozen=True, slots=True)
 class Site:
     id: str
     supply: Supply
@@ -171,6 +231,9 @@ class Site:
     premises: str = "domestic"
     boards: tuple[Board, ...] = ()
     circuits: tuple[Circuit, ...] = ()
+    jurisdiction: str = "england"
+    tenure: str | None = None
+    inspections: tuple[Inspection, ...] = ()   # oldest first
     folder: str = ""  # relative to the path the user gave ('' for a single site)
     files: tuple[str, ...] = ()  # every site file read, relative to the user's path
 
@@ -193,6 +256,11 @@ def circuit_ref(site_id: str, circuit: Circuit) -> str:
 
 def load_ref(site_id: str, circuit: Circuit, load: Load) -> str:
     return f"{site_id}/{circuit.board}/{circuit.id}/{load.id}"
+
+
+def inspection_ref(site_id: str, inspection: Inspection) -> str:
+    """``SITE/inspection:2026-03-11`` (':' never appears in a board id, so it cannot be mistaken for one)."""
+    return f"{site_id}/inspection:{inspection.key}"
 
 
 def data_fields(obj) -> list[str]:

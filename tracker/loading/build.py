@@ -5,10 +5,12 @@ that look like misspellings of known ones (a warning: unknown keys are allowed).
 """
 from __future__ import annotations
 
+import datetime
 import difflib
 import math
 
-from tracker.model import PHASES, Board, Cable, Circuit, Device, Environment, Load, Src, Supply
+from tracker.model import (PHASES, Board, Cable, Circuit, Device, Environment, Inspection, Load, Measurement,
+                           Observation, RingReading, Src, Supply)
 from tracker.schemas_access import schema_json
 
 
@@ -169,3 +171,52 @@ def _phase_currents(d: dict, path: tuple, p: Problems) -> tuple[float, float, fl
         return None
     values = tuple(_num(given, ph, path + ("phase_currents_a",), p, 0.0) for ph in PHASES)
     return values
+
+
+def _date(d: dict, key: str, path: tuple, p: Problems) -> datetime.date | None:
+    """A date the schema has checked for its form (YYYY-MM-DD); quoted text may still name no day."""
+    value = d.get(key)
+    if value is None:
+        return None
+    try:
+        return datetime.date.fromisoformat(value)
+    except (TypeError, ValueError):
+        p.error(path + (key,), f"'{value}' is not a date of the calendar (YYYY-MM-DD)")
+        return None
+
+
+def build_inspection(d: dict, index: int, p: Problems) -> Inspection | None:
+    """One inspection with its results and observations; None where its date is not a date."""
+    path = ("inspections", index)
+    _check_keys(d, _KNOWN["inspection"], path, p)
+    when = _date(d, "date", path, p)
+    results = []
+    for j, r in enumerate(d.get("results") or ()):
+        rpath = path + ("results", j)
+        _check_keys(r, _KNOWN["result"], rpath, p)
+        ring = None
+        if isinstance(r.get("ring"), dict):
+            _check_keys(r["ring"], _KNOWN["ring"], rpath + ("ring",), p)
+            ring = RingReading(r1_ohm=_num(r["ring"], "r1_ohm", rpath + ("ring",), p),
+                               rn_ohm=_num(r["ring"], "rn_ohm", rpath + ("ring",), p),
+                               r2_ohm=_num(r["ring"], "r2_ohm", rpath + ("ring",), p))
+        results.append(Measurement(
+            ref=r["ref"], r1_r2_ohm=_num(r, "r1_r2_ohm", rpath, p), zs_ohm=_num(r, "zs_ohm", rpath, p),
+            ir_mohm=_num(r, "ir_mohm", rpath, p), ir_test_v=_num(r, "ir_test_v", rpath, p),
+            rcd_ms=_num(r, "rcd_ms", rpath, p), ring=ring, src=Src(p.file, rpath)))
+    observations = []
+    for j, o in enumerate(d.get("observations") or ()):
+        opath = path + ("observations", j)
+        _check_keys(o, _KNOWN["observation"], opath, p)
+        observations.append(Observation(
+            code=o["code"], text=o["text"], ref=o.get("ref"), within_days=o.get("within_days"),
+            done_on=_date(o, "done_on", opath, p), confirmed_on=_date(o, "confirmed_on", opath, p),
+            src=Src(p.file, opath)))
+    if when is None:
+        return None
+    return Inspection(
+        date=when, by=d["by"], kind=d["kind"], next_due=_date(d, "next_due", path, p),
+        ze_ohm=_num(d, "ze_ohm", path, p), pfc_ka=_num(d, "pfc_ka", path, p),
+        test_temp_c=_num(d, "test_temp_c", path, p, 20.0),
+        copy_to_tenant_on=_date(d, "copy_to_tenant_on", path, p),
+        results=tuple(results), observations=tuple(observations), key=when.isoformat(), src=Src(p.file, path))

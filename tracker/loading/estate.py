@@ -44,6 +44,7 @@ class FileResult:
     site_meta: dict | None = None
     boards: list = field(default_factory=list)
     circuits: list = field(default_factory=list)
+    inspections: list = field(default_factory=list)
     errors: list = field(default_factory=list)    # InputError
     warnings: list = field(default_factory=list)  # LoadWarning
     broken: set = field(default_factory=set)      # ids of elements not built (schema errors)
@@ -170,6 +171,7 @@ def _read_text(raw: bytes, rel: str, digest: str) -> FileResult:
         result.errors = errors
         return result
     result.keys = frozenset(k for k in doc if isinstance(k, str))
+    yamlread.dates_as_text(doc)
     locator = None
     bad: set[tuple] = set()
     if not schema_check.is_valid(doc):
@@ -192,6 +194,8 @@ def _read_text(raw: bytes, rel: str, digest: str) -> FileResult:
         result.broken.add("supply")
     result.boards = [build.build_board(b, i, p) for i, b in _good(doc, "boards", bad)]
     result.circuits = [build.build_circuit(c, i, p) for i, c in _good(doc, "circuits", bad)]
+    result.inspections = [x for x in (build.build_inspection(d, i, p) for i, d in _good(doc, "inspections", bad))
+                          if x is not None]
     if p.errors or p.warnings:
         locator = locator or yamlread.Locator(text)
         result.errors += [InputError(f, *locator.locate(path), m, path) for f, path, m in p.errors]
@@ -212,6 +216,8 @@ def _broken_ids(doc: dict, bad: set[tuple]) -> set:
     """Ids of elements left unbuilt, so references to them draw no second error."""
     broken: set = set()
     for key, index in (b for b in bad if len(b) == 2):
+        if key not in ("boards", "circuits"):
+            continue
         items = doc.get(key)
         if not isinstance(items, list) or not isinstance(index, int):
             continue
@@ -265,9 +271,12 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
                                                  "(lower-case letters, digits, '.', '_', '-'); give site.id"))
     boards = [b for r in results for b in r.boards]
     circuits = [c for r in results for c in r.circuits]
+    inspections = semantic.keyed_inspections([x for r in results for x in r.inspections])
     text_of = {r.rel: r.text for r in results}
     locators: dict[str, yamlread.Locator] = {}
-    for file, path, message in semantic.check_site(boards, circuits, broken, supply=main.supply):
+    found = list(semantic.check_site(boards, circuits, broken, supply=main.supply))
+    found += semantic.check_inspections(inspections, circuits, broken)
+    for file, path, message in found:
         loc = locators.setdefault(file, yamlread.Locator(text_of[file]))
         errors.append(InputError(file, *loc.locate(path), message, path))
     if errors:
@@ -280,6 +289,9 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
         premises=meta.get("premises", "domestic"),
         boards=tuple(boards),
         circuits=tuple(circuits),
+        jurisdiction=meta.get("jurisdiction", "england"),
+        tenure=meta.get("tenure"),
+        inspections=inspections,
         folder=rel_folder,
         files=tuple(r.rel for r in results),
     )

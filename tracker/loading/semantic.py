@@ -6,9 +6,11 @@ catalogue; loads say how big they are.
 """
 from __future__ import annotations
 
+from dataclasses import replace
+
 from tracker import catalogue
 from tracker.loading import phases
-from tracker.model import SUPPLY, Board, Circuit
+from tracker.model import SUPPLY, Board, Circuit, Inspection
 
 
 def _fmt_rating(value: float) -> str:
@@ -131,3 +133,49 @@ def _check_feeding(boards: list[Board], circuits: list[Circuit], by_id: dict[str
                 break
             chain.append(nxt.id)
             cur = nxt
+
+
+def keyed_inspections(inspections: list[Inspection]) -> tuple[Inspection, ...]:
+    """Oldest first (files in the site's order, then the order of each list, for one day), each
+    with its key: the date, and for a second inspection of the same day the date and '.2'."""
+    ordered = sorted(inspections, key=lambda x: x.date)
+    seen: dict[str, int] = {}
+    out = []
+    for x in ordered:
+        day = x.date.isoformat()
+        seen[day] = seen.get(day, 0) + 1
+        out.append(replace(x, key=day if seen[day] == 1 else f"{day}.{seen[day]}"))
+    return tuple(out)
+
+
+def check_inspections(inspections, circuits: list[Circuit], broken=frozenset()) -> list:
+    """(file, path, message) for every result or observation whose ref names no circuit of the
+    site, and every circuit measured twice in one inspection."""
+    refs = {f"{c.board}/{c.id}" for c in circuits}
+    out = []
+
+    def unknown(ref: str) -> bool:
+        return ref not in refs and ("circuit", ref) not in broken
+
+    for x in inspections:
+        measured: dict[str, object] = {}
+        for m in x.results:
+            if unknown(m.ref):
+                out.append((m.src.file, m.src.path + ("ref",), _no_circuit(m.ref, refs)))
+            elif m.ref in measured:
+                first = measured[m.ref].src
+                out.append((m.src.file, m.src.path + ("ref",),
+                            f"circuit {m.ref} is already measured in this inspection (results[{first.path[-1]}])"))
+            else:
+                measured[m.ref] = m
+        for o in x.observations:
+            if o.ref is not None and unknown(o.ref):
+                out.append((o.src.file, o.src.path + ("ref",), _no_circuit(o.ref, refs)))
+    return out
+
+
+def _no_circuit(ref: str, refs: set[str]) -> str:
+    board = ref.split("/", 1)[0]
+    on_board = sorted(r for r in refs if r.startswith(board + "/"))
+    hint = f" (circuits of {board}: {', '.join(on_board)})" if on_board else ""
+    return f"no circuit '{ref}' in this site{hint}"

@@ -2,9 +2,10 @@
 (field by field, nested fields dotted: `device.rating_a`)."""
 from __future__ import annotations
 
+import datetime
 from dataclasses import dataclass, fields, is_dataclass
 
-from tracker.model import Site, board_ref, circuit_ref, load_ref
+from tracker.model import Site, board_ref, circuit_ref, inspection_ref, load_ref
 
 ADDED, REMOVED, MODIFIED = "added", "removed", "modified"
 
@@ -44,9 +45,30 @@ def _flat(obj, prefix: str = "", skip=("loads",)) -> dict:
             continue
         value = getattr(obj, f.name)
         if is_dataclass(value):
-            out.update(_flat(value, f"{prefix}{f.name}."))
+            out.update(_flat(value, f"{prefix}{f.name}.", skip))
+        elif isinstance(value, datetime.date):
+            out[prefix + f.name] = value.isoformat()   # (the history keeps values as JSON)
         else:
             out[prefix + f.name] = value
+    return out
+
+
+_INSPECTION_SKIP = ("results", "observations", "key", "date")
+
+
+def _inspection_elements(site: Site, file: str) -> dict[str, dict]:
+    """An inspection (`SITE/inspection:DATE`), each circuit's readings in it
+    (`SITE/inspection:DATE/BOARD/CIRCUIT`) and each observation (`…/observation:N`, from 1)."""
+    out: dict[str, dict] = {}
+    for x in site.inspections:
+        if x.src is None or x.src.file != file:
+            continue
+        ref = inspection_ref(site.id, x)
+        out[ref] = {"date": x.date.isoformat(), **_flat(x, "", _INSPECTION_SKIP)}
+        for m in x.results:
+            out[f"{ref}/{m.ref}"] = _flat(m, "", ("ref",))
+        for n, o in enumerate(x.observations, 1):
+            out[f"{ref}/observation:{n}"] = _flat(o)
     return out
 
 
@@ -56,7 +78,8 @@ def elements(site: Site | None, file: str) -> dict[str, dict]:
         return {}
     out: dict[str, dict] = {}
     if site.files and site.files[0] == file:
-        meta = {"site.name": site.name, "site.rules": site.rules, "site.premises": site.premises}
+        meta = {"site.name": site.name, "site.rules": site.rules, "site.premises": site.premises,
+                "site.jurisdiction": site.jurisdiction, "site.tenure": site.tenure}
         meta.update(_flat(site.supply, "supply."))
         out[site.id] = meta
     for b in site.boards:
@@ -67,6 +90,7 @@ def elements(site: Site | None, file: str) -> dict[str, dict]:
             out[circuit_ref(site.id, c)] = _flat(c)
             for ld in c.loads:
                 out[load_ref(site.id, c, ld)] = _flat(ld)
+    out.update(_inspection_elements(site, file))
     return out
 
 
