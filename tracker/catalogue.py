@@ -219,3 +219,9 @@ def k_factor(role: str, conductor_c: float, route: str | None = None) -> KFactor
     if row is None:
         return None
     return KFactor(_value(row["k"]), float(row["initial_c"]), float(row["final_c"]), str(row["table"]))
+
+
+@lru_cache(maxsize=None)
+def deadlines() -> dict:
+    """The inspection cycle's deadline rules (tracker/data/deadlines.yaml)."""
+    return _load("deadlines.yaml")

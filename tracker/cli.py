@@ -114,6 +114,17 @@ def build_parser() -> argparse.ArgumentParser:
     _add_db(p, creates=False)
     p.set_defaults(func=_run("tracker.commands.verify"))
 
+    p = sub.add_parser("due", help="every deadline of the inspection cycle: inspections, remedial work, copies",
+                       description="List every site's deadlines on a day — the next inspection and test, the copy "
+                                   "of the report to the tenants, remedial work for each C1, C2 or FI observation, "
+                                   "written confirmation of completed work — from the rules of the site's "
+                                   "jurisdiction and tenure, each with the rule it comes from. Exit 0: nothing "
+                                   "overdue; 1: something is overdue; 2: bad input.")
+    _add_path(p)
+    p.add_argument("--on", metavar="DATE", help="the day to judge the deadlines on (YYYY-MM-DD; default today)")
+    p.add_argument("--json", action="store_true", help="print the izwatch.due/1 JSON document")
+    p.set_defaults(func=_run("tracker.commands.due"))
+
     p = sub.add_parser("report", help="the landlord's report: the installation, its state and its change history",
                        description="Write a site's report: site and supply, one-line diagram, every circuit's "
                                    "figures and verdict, the open problems with their cause, acknowledgement and "
