@@ -78,3 +78,9 @@ def test_output_matches_its_schema(site_factory, capsys):
     jsonschema.Draft202012Validator.check_schema(schema)
     _, out, _ = _due(capsys, site_factory(RENTED), "--on", "2026-04-08", "--json")
     jsonschema.Draft202012Validator(schema).validate(json.loads(out))
+
+
+def test_text_from_the_site_file_is_shown_escaped(site_factory, capsys):
+    root = site_factory(RENTED.replace('"Circuit at the shed not traced"', '"Shed\\rok"'))
+    _, out, _ = _due(capsys, root, "--on", "2026-03-25")
+    assert "FI Shed\\rok" in out and "\r" not in out

@@ -14,6 +14,7 @@ from tracker.commands.common import CommandError, fail
 from tracker.inspection import due as dues
 from tracker.loading import load_estate
 from tracker.loading.estate import EstateError
+from tracker.output.terminal_text import clean
 
 CAUTION = ("Deadlines as tracker/data/deadlines.yaml reads the regulations it cites; a rule marked "
            "[recalled] is not confirmed. The landlord's duties are set by the current law, not by this list.")
@@ -41,8 +42,8 @@ def _text(items: list[dues.DueItem], on: datetime.date, out) -> None:
     for i in items:
         if i.site != site:
             site = i.site
-            out.write(f"{site}\n")
-        out.write(f"  {i.due.isoformat()}  {_MARK[i.status]:<8}  {i.what}\n")
+            out.write(f"{clean(site)}\n")
+        out.write(f"  {i.due.isoformat()}  {_MARK[i.status]:<8}  {clean(i.what)}\n")
         out.write(f"  {'':10}  {'':8}  ({i.source})\n")
     counts = {s: sum(1 for i in items if i.status == s) for s in dues.STATUSES}
     out.write(f"{len(items)} deadline{'s' if len(items) != 1 else ''} on {on.isoformat()}: "
