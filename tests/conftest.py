@@ -80,3 +80,6 @@ def site_factory(tmp_path):
             files = {"site.yaml": files}
         return write_site(tmp_path / "estate", files, folder)
     return make
+
+
+from tests.pg_server import pg_schema, pg_server  # noqa: E402,F401  (fixtures for the team history)

@@ -21,7 +21,8 @@ def _add_path(p: argparse.ArgumentParser) -> None:
 
 def _add_db(p: argparse.ArgumentParser, creates: bool = True) -> None:
     p.add_argument("--db", metavar="FILE",
-                   help="history database (default PATH/.izwatch/history.sqlite, "
+                   help="history database: a file, or a PostgreSQL server's postgresql://… connection string "
+                        "(default: the environment's IZWATCH_DB, else PATH/.izwatch/history.sqlite, "
                         + ("created on first use)" if creates else "only read; never created)"))
 
 

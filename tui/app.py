@@ -19,7 +19,7 @@ from textual.binding import Binding
 from textual.worker import get_current_worker
 
 from tracker.checks import remedy as remedies
-from tracker.history import HistoryError, default_db_path
+from tracker.history import HistoryError, default_db_path, history_location
 from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors, os_user
 from tracker.watcher import DEBOUNCE_S
@@ -69,7 +69,7 @@ class IzwatchApp(App):
                  user: str | None = None, debounce_s: float = DEBOUNCE_S):
         super().__init__()
         self.root = Path(root)
-        self.db_path = Path(db) if db else default_db_path(self.root)
+        self.db_path = history_location(db) if db else default_db_path(self.root)
         self.clock = clock
         self.user = user if user is not None else os_user()
         self.live = LiveEstate(self.root, self.db_path, authors, debounce_s)

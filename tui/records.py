@@ -10,7 +10,7 @@ import threading
 from dataclasses import dataclass
 from pathlib import Path
 
-from tracker.history import History, NewRevision
+from tracker.history import History, NewRevision, history_location
 from tracker.history.query import revisions
 from tui.snapshot import Row
 
@@ -46,7 +46,7 @@ def ack_problem(row: Row | None, by: str, note: str) -> str | None:
 
 class Records:
     def __init__(self, db_path: Path):
-        self.db_path = Path(db_path)
+        self.db_path = history_location(db_path)
         self._lock = threading.Lock()
         self._history: History | None = None
 

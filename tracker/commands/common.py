@@ -3,12 +3,13 @@ from __future__ import annotations
 
 import errno
 import json
+import os
 import sqlite3
 import sys
 from pathlib import Path
 
 from tracker.cli import EXIT_INPUT
-from tracker.history import History, HistoryError, default_db_path
+from tracker.history import History, HistoryError, default_db_path, history_location
 from tracker.loading.estate import SITE_FILE, EstateError, site_folders
 from tracker.output.terminal_text import clean, clean_lines, first_unsafe
 
@@ -26,8 +27,14 @@ def disk_full(exc: BaseException) -> bool:
                                                or "disk is full" in str(exc))
 
 
-def db_path(args) -> Path:
-    return Path(args.db) if getattr(args, "db", None) else default_db_path(Path(args.path))
+DB_VARIABLE = "IZWATCH_DB"
+
+
+def db_path(args) -> Path | str:
+    """The history: `--db`, else the environment's IZWATCH_DB, else the estate's own file. A
+    `postgresql://…` connection string is returned as it is (a str), a file as a Path."""
+    given = getattr(args, "db", None) or os.environ.get(DB_VARIABLE)
+    return history_location(given) if given else default_db_path(Path(args.path))
 
 
 def open_history(args, create: bool = True) -> History:

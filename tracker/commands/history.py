@@ -6,7 +6,7 @@ import re
 
 from tracker.cli import EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path, fail, open_history
-from tracker.history import query
+from tracker.history import location_exists, query
 from tracker.output.terminal_text import clean
 from tracker.tracking.diff import show_value
 
@@ -44,7 +44,7 @@ def run(args) -> int:
         check_root(args.path)
         if args.since and not DATE.match(args.since):
             raise CommandError(f"--since {args.since!r}: give a date as YYYY-MM-DD (or YYYY-MM-DDTHH:MM)")
-        if not db_path(args).exists():
+        if not location_exists(db_path(args)):
             print("[]" if args.json else "no history recorded yet")
             return EXIT_OK
         history = open_history(args, create=False)

@@ -41,11 +41,12 @@ class _Protected:
     with its companions (-wal, -shm, -journal), known by device and inode (a hard link or a
     symbolic link to one is the same file) and by path (a companion not made yet)."""
 
-    def __init__(self, root: Path, db: Path):
+    def __init__(self, root: Path, db: Path | str):
         self.root = root
         self.ids: set[tuple[int, int]] = set()
         self.paths: set[Path] = set()
-        files = [db.with_name(db.name + tail) for tail in ("", "-wal", "-shm", "-journal")]
+        # a str is a server's connection string: no file of the history to protect
+        files = [] if isinstance(db, str) else [db.with_name(db.name + tail) for tail in ("", "-wal", "-shm", "-journal")]
         try:
             _, folders, _ = site_folders(root)
         except EstateError:

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from tracker.cli import EXIT_FAIL, EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path
-from tracker.history import History, HistoryError
+from tracker.history import History, HistoryError, location_exists, shown_location
 from tracker.history.verify import verify
 
 
@@ -24,8 +24,8 @@ def run(args) -> int:
     except CommandError as exc:
         print(f"izwatch verify: FAILED — {exc}")
         return EXIT_FAIL
-    if not db_path(args).exists():
-        print(f"no history at {db_path(args)}: nothing to verify")
+    if not location_exists(db_path(args)):
+        print(f"no history at {shown_location(db_path(args))}: nothing to verify")
         return EXIT_OK
     try:
         history = _open(args)

@@ -11,6 +11,7 @@ from tracker.progress import Progress
 from tracker.commands.common import CommandError, check_root, db_path, event_line, fail, open_history
 from tracker.output.streams import stdout_gone
 from tracker.output.terminal_text import clean
+from tracker.history import shown_location
 from tracker.tracking.authors import Authors
 from tracker.watcher import Watcher
 
@@ -63,11 +64,11 @@ def run(args) -> int:
             _print(json.dumps({"event": "ready", "sites": n_sites, "circuits": n_circuits,
                                "failing_circuits": failing, "first_record": first,
                                "input_errors": sum(len(v) for v in state.errors.values()),
-                               "db": str(db_path(args)), "revisions": history.count()}))
+                               "db": shown_location(db_path(args)), "revisions": history.count()}))
         else:
             what = "first record made" if first else f"{history.count()} revisions"
             _print(f"izwatch: watching {n_sites} sites, {n_circuits} circuits ({failing} failing) in {root} "
-                   f"(history {db_path(args)}: {what}) — ready; Ctrl-C stops")
+                   f"(history {shown_location(db_path(args))}: {what}) — ready; Ctrl-C stops")
         def on_update(u) -> None:
             emit_updates([u], args.json, args.verbose)
             if stdout_gone():   # nobody reads what the watcher says (`watch | head`): stop as a pipe expects

@@ -20,7 +20,6 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 import sqlite_utils
-from sqlite_utils.migrations import Migrations
 
 from tracker import __version__
 from tracker.history import chain
@@ -112,14 +111,36 @@ def migration_files(directory: Path | None = None) -> list[tuple[str, str]]:
     return [(name[:-len(".sql")], (directory / name).read_text(encoding="utf-8")) for _, name in found]
 
 
-def _migration_set(files: list[tuple[str, str]]) -> Migrations:
-    migrations = Migrations("izwatch-history")
-    for name, sql in files:
-        def run(db: sqlite_utils.Database, sql=sql) -> None:
-            for statement in _statements(sql):
-                db.execute(statement)
-        migrations(name=name)(run)
-    return migrations
+def is_server_location(location) -> bool:
+    """True for a PostgreSQL connection string (`postgresql://…`, `postgres://…`)."""
+    return isinstance(location, str) and location.split("://", 1)[0] in ("postgresql", "postgres")
+
+
+def history_location(value) -> Path | str:
+    """A history's location as given by `--db` or `IZWATCH_DB`: a server's connection string as it
+    is, anything else a file path."""
+    return str(value) if is_server_location(value) else Path(value)
+
+
+def location_exists(location) -> bool:
+    """Whether a history has been recorded there (a server: whether the schema holds one)."""
+    if is_server_location(location):
+        from tracker.history.server import server_history_exists
+        return server_history_exists(location)
+    return Path(location).exists()
+
+
+def shown_location(location) -> str:
+    """The location to print: a file path, or a server's address without its password."""
+    if is_server_location(location):
+        from tracker.history.server import shown
+        return shown(location)
+    return str(location)
+
+
+# Python steps that a migration runs after its SQL, in the same transaction (data moved between
+# tables): migration name -> function(history). Registered by the modules that own the data.
+MIGRATION_STEPS: dict = {}
 
 
 @dataclass
@@ -161,7 +182,13 @@ class History:
         """Open (and on first use create) the store, applying every pending migration. Never
         replaces or alters an existing file that is not a healthy izwatch history of a schema
         this version knows: that raises HistoryError and the file is left exactly as it is (a
-        foreign or newer database is not even switched to WAL)."""
+        foreign or newer database is not even switched to WAL).
+
+        `path` may also be a PostgreSQL connection string (`postgresql://…`): the history then lives
+        on that server (`tracker/history/server.py`), with the same semantics."""
+        if is_server_location(path):
+            from tracker.history.server import ServerHistory
+            return ServerHistory.open_server(path, create=create, migrations=migrations)
         if path is None or str(path) == ":memory:":
             db = sqlite_utils.Database(memory=True)
             store = cls(db, None, migrations)
@@ -213,6 +240,9 @@ class History:
         runs, and the journal mode is left as it is. A ``mode=ro`` connection would leave the WAL
         index files behind when it closes; this one removes them as the last reader leaves, so
         the folder and the database's bytes are as they were."""
+        if is_server_location(path):
+            from tracker.history.server import ServerHistory
+            return ServerHistory.open_server(path, create=False, read_only=True)
         path = Path(path)
         if not path.exists():
             raise HistoryError(f"{path}: no history recorded yet", "missing")
@@ -227,7 +257,7 @@ class History:
                 conn.close()
                 raise HistoryError(f"{path}: the history database is damaged ({bad[0]})", "damaged")
             version = conn.execute("PRAGMA user_version").fetchone()[0]
-            known = len(migration_files())
+            known = len(migration_files(migrations_dir()))
             if version != known:
                 conn.close()
                 raise HistoryError(f"{path}: history schema {version}, this izwatch reads schema {known}"
@@ -260,20 +290,34 @@ class History:
                 if os.path.exists(leftover):
                     os.unlink(leftover)
 
+    MIGRATIONS_TABLE = "_sqlite_migrations"
+
+    def _migrations_folder(self) -> Path:
+        return Path(self.migrations) if self.migrations is not None else migrations_dir()
+
+    def _table_names(self) -> set[str]:
+        return set(self.db.table_names())
+
+    def _user_version(self) -> int:
+        return self.db.execute("PRAGMA user_version").fetchone()[0]
+
+    def _set_user_version(self, number: int) -> None:
+        self.db.execute(f"PRAGMA user_version = {int(number)}")
+
     def _applied(self) -> list[str]:
-        if "_sqlite_migrations" not in self.db.table_names():
+        if self.MIGRATIONS_TABLE not in self._table_names():
             return []
-        return [r[0] for r in self.db.execute("SELECT name FROM _sqlite_migrations "
+        return [r[0] for r in self.db.execute(f"SELECT name FROM {self.MIGRATIONS_TABLE} "
                                                "WHERE migration_set = 'izwatch-history' ORDER BY id")]
 
     def _pending(self) -> list[tuple[str, str]]:
-        """The migrations not yet applied, in order; HistoryError for a file that is not an izwatch
+        """The migrations not yet applied, in order; HistoryError for a store that is not an izwatch
         history or was written by a newer izwatch (its applied set is not a start of ours)."""
-        files = migration_files(self.migrations)
+        files = migration_files(self._migrations_folder())
         names = [name for name, _ in files]
-        version = self.db.execute("PRAGMA user_version").fetchone()[0]
+        version = self._user_version()
         applied = self._applied()
-        if version == 0 and not applied and set(self.db.table_names()) - {"_sqlite_migrations"}:
+        if version == 0 and not applied and self._table_names() - {self.MIGRATIONS_TABLE}:
             raise HistoryError("the file holds tables that are not an izwatch history; it is left as it is", "foreign")
         if version > len(names) or applied != names[:len(applied)]:
             raise HistoryError(f"the history was written by a newer izwatch (schema {version}, this version "
@@ -283,22 +327,75 @@ class History:
                                f"in it ({len(applied)}); it is left as it is")
         return files[len(applied):]
 
+    def _ensure_migrations_table(self) -> None:
+        self.db.execute(f"CREATE TABLE IF NOT EXISTS [{self.MIGRATIONS_TABLE}] ([id] INTEGER PRIMARY KEY, "
+                        "[migration_set] TEXT, [name] TEXT, [applied_at] TEXT)")
+        self.db.execute(f"CREATE UNIQUE INDEX IF NOT EXISTS [idx_{self.MIGRATIONS_TABLE}_migration_set_name] "
+                        f"ON [{self.MIGRATIONS_TABLE}] ([migration_set], [name])")
+
+    def _run_migration_sql(self, sql: str) -> None:
+        for statement in _statements(sql):
+            self.db.execute(statement)
+
     def _migrate(self) -> None:
         """Apply every pending migration, in one write transaction; `user_version` is then the
         number of migrations applied."""
         if not self._pending():
             return
-        with self._write():
+        with self._write(migrating=True):
             pending = self._pending()    # again under the lock: another process may have migrated
-            if pending:
-                _migration_set(migration_files(self.migrations)).apply(self.db)
-                self.db.execute(f"PRAGMA user_version = {len(self._applied())}")
+            if not pending:
+                return
+            self._ensure_migrations_table()
+            for name, sql in pending:
+                self._run_migration_sql(sql)
+                step = MIGRATION_STEPS.get(name)
+                if step is not None:
+                    step(self)
+                self.db.execute(f"INSERT INTO {self.MIGRATIONS_TABLE} (migration_set, name, applied_at) "
+                                "VALUES ('izwatch-history', ?, ?)", [name, now_iso()])
+            self._set_user_version(len(self._applied()))
 
     def close(self) -> None:
         self.db.conn.close()
 
+    def _executemany(self, sql: str, rows: list) -> None:
+        self.db.conn.executemany(sql, rows)
+
+    def integrity_problems(self) -> list[str]:
+        """What the database's own consistency check finds (empty: nothing)."""
+        found = [r[0] for r in self.db.execute("PRAGMA integrity_check").fetchall()]
+        return [] if found == ["ok"] else found
+
+    def guards(self) -> dict[str, str]:
+        """The append-only triggers present: name -> "enabled" (SQLite cannot disable one)."""
+        return {name: "enabled" for (name,) in self.db.execute(
+            "SELECT name FROM sqlite_master WHERE type = 'trigger'")}
+
+    def expected_guards(self) -> list[str]:
+        """The triggers the applied migrations create (and do not drop again), in order."""
+        applied = set(self._applied())
+        names: list[str] = []
+        for name, sql in migration_files(self._migrations_folder()):
+            if name not in applied:
+                continue
+            for verb, trigger in re.findall(r"\b(CREATE|DROP)\s+TRIGGER\s+(?:IF\s+(?:NOT\s+)?EXISTS\s+)?(\w+)",
+                                            sql, flags=re.IGNORECASE):
+                if verb.upper() == "CREATE":
+                    names.append(trigger)
+                elif trigger in names:
+                    names.remove(trigger)
+        return names
+
+    def location(self) -> str:
+        """Where the history is, to print (a file path, or a server address without its password)."""
+        return str(self.path) if self.path is not None else ":memory:"
+
+    def now(self) -> str:
+        return now_iso()
+
     @contextmanager
-    def _write(self):
+    def _write(self, migrating: bool = False):
         """One write transaction holding SQLite's write lock from its start."""
         conn = self.db.conn
         conn.execute("BEGIN IMMEDIATE")
@@ -404,9 +501,9 @@ class History:
             elif rev.content_hash is None:  # deleting a file never recorded: nothing to say
                 return Recorded(0, True, "", rev.author, rev.source)
         rev_id = head_id + 1
-        at = rev.at or now_iso()
+        at = rev.at or self.now()
         if rev.content is not None:
-            self.db.execute("INSERT OR IGNORE INTO blobs (hash, size, content) VALUES (?, ?, ?)",
+            self.db.execute("INSERT INTO blobs (hash, size, content) VALUES (?, ?, ?) ON CONFLICT (hash) DO NOTHING",
                             [rev.content_hash, len(rev.content), zlib.compress(rev.content, 6)])
         revision = {
             "id": rev_id, "at": at, "source": rev.source, "file": rev.file, "site": rev.site,
@@ -421,15 +518,16 @@ class History:
                    e.get("unit"), e.get("detail")) for i, e in enumerate(rev.events)]
         acks = [(rev_id, rev.ack[0], json.dumps(sorted(rev.ack[1])))] if rev.ack else []
         revision["hash"] = chain.revision_hash(revision, changes, results, events, acks)
-        self.db["revisions"].insert(revision)
+        self.db.execute(f"INSERT INTO revisions ({', '.join(revision)}) VALUES ({', '.join('?' * len(revision))})",
+                        list(revision.values()))
         if changes:
-            self.db.conn.executemany("INSERT INTO changes VALUES (?, ?, ?, ?, ?, ?, ?)", changes)
+            self._executemany("INSERT INTO changes VALUES (?, ?, ?, ?, ?, ?, ?)", changes)
         if results:
-            self.db.conn.executemany("INSERT INTO results VALUES (?, ?, ?, ?)", results)
+            self._executemany("INSERT INTO results VALUES (?, ?, ?, ?)", results)
         if events:
-            self.db.conn.executemany("INSERT INTO events VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)", events)
+            self._executemany("INSERT INTO events VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)", events)
         if acks:
-            self.db.conn.executemany("INSERT INTO acks VALUES (?, ?, ?)", acks)
+            self._executemany("INSERT INTO acks VALUES (?, ?, ?)", acks)
         return Recorded(rev_id, False, at, rev.author, rev.source)
 
 

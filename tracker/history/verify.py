@@ -24,11 +24,32 @@ def _grouped(history: History, sql: str):
     return groupby(rows, key=lambda r: r[0])
 
 
+def missing_guards(history: History) -> list[str]:
+    """The append-only triggers the applied migrations made that are gone or disabled."""
+    present = history.guards()
+    return [f"{name} ({'disabled' if present.get(name) == 'disabled' else 'dropped'})"
+            for name in history.expected_guards() if present.get(name) != "enabled"]
+
+
 def verify(history: History) -> Report:
-    db = history.db
-    integrity = [r[0] for r in db.execute("PRAGMA integrity_check").fetchall()]
-    if integrity != ["ok"]:
+    """The database's own check, the append-only triggers, then the chain, revision by revision."""
+    integrity = history.integrity_problems()
+    if integrity:
         return Report(False, 0, "", f"SQLite integrity check: {'; '.join(integrity[:3])}")
+    report = _verify_chain(history)
+    gone = missing_guards(history)
+    if gone and report.ok:
+        return Report(False, report.revisions, report.head_hash,
+                      f"append-only triggers removed or switched off: {', '.join(gone)} — the history can have "
+                      f"been rewritten through them; its chain of {report.revisions} revisions recomputes "
+                      f"(head {report.head_hash}): compare that head with one kept elsewhere")
+    if gone:
+        report.problem += f"; append-only triggers removed or switched off: {', '.join(gone)}"
+    return report
+
+
+def _verify_chain(history: History) -> Report:
+    db = history.db
     children = {
         "changes": _grouped(history, "SELECT * FROM changes ORDER BY revision_id, seq"),
         "results": _grouped(history, "SELECT * FROM results ORDER BY revision_id, ref"),

@@ -15,7 +15,7 @@ from tracker.checks.context import build_facts, device_label
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, UNIT_DIGITS, WARN
 from tracker.checks.site import SiteResult, evaluate_site
 from tracker.graph import BOARD, CIRCUIT, LOAD, build_graph, kind_of
-from tracker.history import History, HistoryError
+from tracker.history import History, HistoryError, history_location, location_exists, shown_location
 from tracker.history import query
 from tracker.history.verify import verify
 from tracker.model import Site
@@ -197,10 +197,10 @@ class HistoryReader:
     verification — worked out once; `for_site` adds the site's own revisions. Never writes."""
 
     def __init__(self, db: Path):
-        self.db = Path(db)
+        self.db = history_location(db)
         self.history = None
         self.error: str | None = None
-        if not self.db.exists():
+        if not location_exists(self.db):
             return
         try:
             self.history = History.open_for_reading(self.db)
@@ -219,12 +219,12 @@ class HistoryReader:
 
     def for_site(self, site: Site, site_files: dict, since: str | None) -> dict:
         db = self.db
-        out = {"state": "none", "path": str(db), "reason": None, "since": since, "revisions": [],
+        out = {"state": "none", "path": shown_location(db), "reason": None, "since": since, "revisions": [],
                "revisions_of_site": 0, "latest_at": None, "failing": {}, "acks": {}, "by_id": {}, "files": None,
                "verification": {"state": "none", "ok": None, "revisions": None, "head_hash": None,
                                 "problem": None, "first_bad": None, "scope": VERIFY_SCOPE}}
         if self.history is None and self.error is None:
-            out["reason"] = f"no history recorded yet ({db} does not exist)"
+            out["reason"] = f"no history recorded yet ({shown_location(db)} does not exist)"
             out["verification"]["problem"] = "no history to verify"
             out["files"] = _file_states(site_files, None)
             return out
@@ -269,7 +269,7 @@ def build(site: Site, site_files: dict[str, str | None], db: Path, since: str | 
     circuits = [_circuit(sr, r) for r in sr.circuits.values()]
     boards = [_board(sr, b) for b in sr.boards.values()]
     origin = _origin(sr)
-    hist = reader.for_site(site, site_files, since) if reader else _read_history(Path(db), site, site_files, since)
+    hist = reader.for_site(site, site_files, since) if reader else _read_history(history_location(db), site, site_files, since)
     hist["files_pending"] = any(f["state"] in ("changed-since", "not-recorded") for f in hist["files"])
     problems = _problems(sr, circuits, boards, origin, hist)
     counts = {s: sum(1 for c in circuits if c["status"] == s) for s in STATUSES}
