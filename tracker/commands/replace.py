@@ -16,6 +16,7 @@ from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
 from tracker.commands.common import (CommandError, check_root, disk_full, fail, folder_of_site, open_history,
                                      plain_name)
 from tracker.edit import EditError, format_number, set_scalar
+from tracker.history import HistoryError
 from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors
 from tracker.tracking.startup import start, to_revision
@@ -237,6 +238,12 @@ def run(args) -> int:
                         "record it; free some space and run `izwatch watch` to record it"))
                 return fail(CommandError(f"disk full: the replacement was not made and nothing was recorded "
                                          f"({load.src.file} is unchanged); free some space and run it again"))
+            except HistoryError as exc:     # the history's server refused or went away
+                if swap.keep is not None:
+                    return fail(CommandError(f"{exc}: {load.src.file} has the new value but the history could not "
+                                             "record it; run `izwatch watch` to record it"))
+                return fail(CommandError(f"{exc}: the replacement was not made and nothing was recorded "
+                                         f"({load.src.file} is unchanged)"))
             finally:
                 swap.done()
         else:

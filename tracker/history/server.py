@@ -171,28 +171,58 @@ class ServerHistory(History):
     def close(self) -> None:
         self.db.conn.close()
 
+    def _begin(self, migrating: bool = False) -> None:
+        """Start a transaction holding the chain head's lock (and, to migrate, the schema's)."""
+        if self.read_only:
+            raise HistoryError(f"{shown(self.dsn)}: opened for reading only")
+        with self._said_plainly():
+            conn = self.db.conn
+            conn.execute("BEGIN")
+            try:
+                if migrating:   # the schema's lock first: the tables may not exist yet
+                    conn.execute("SELECT pg_advisory_xact_lock(%s, current_schema()::regnamespace::oid::int)",
+                                 [LOCK_CLASS])
+                if not migrating or conn.execute("SELECT to_regclass('revisions')").fetchone()[0] is not None:
+                    conn.execute("SELECT pg_advisory_xact_lock(%s, 'revisions'::regclass::oid::int)", [LOCK_CLASS])
+            except BaseException:
+                self._rollback()
+                raise
+
+    def _commit(self) -> None:
+        with self._said_plainly():
+            self.db.conn.execute("COMMIT")
+
+    def _rollback(self) -> None:
+        import psycopg
+        conn = self.db.conn
+        if conn.closed or conn.info.transaction_status == psycopg.pq.TransactionStatus.IDLE:
+            return
+        try:
+            conn.execute("ROLLBACK")
+        except psycopg.Error:
+            pass
+
     @contextmanager
     def _write(self, migrating: bool = False):
         """One transaction holding the chain head's lock from its start; a server error inside it
         (a lost connection, a refused privilege) is a HistoryError saying so."""
-        if self.read_only:
-            raise HistoryError(f"{shown(self.dsn)}: opened for reading only")
-        import psycopg
-        conn = self.db.conn
+        self._begin(migrating)
         try:
-            with conn.transaction():
-                self._lock(conn, migrating)
+            with self._said_plainly():
                 yield
+        except BaseException:
+            self._rollback()
+            raise
+        else:
+            self._commit()
+
+    @contextmanager
+    def _said_plainly(self):
+        import psycopg
+        try:
+            yield
         except psycopg.Error as exc:
             raise HistoryError(f"{shown(self.dsn)}: {_plain(exc)}", "unwritable") from None
-
-    @staticmethod
-    def _lock(conn, migrating: bool) -> None:
-        if migrating:   # the schema's lock first: the tables may not exist yet
-            conn.execute("SELECT pg_advisory_xact_lock(%s, current_schema()::regnamespace::oid::int)", [LOCK_CLASS])
-            if conn.execute("SELECT to_regclass('revisions')").fetchone()[0] is None:
-                return
-        conn.execute("SELECT pg_advisory_xact_lock(%s, 'revisions'::regclass::oid::int)", [LOCK_CLASS])
 
 
 def _first_line(exc: Exception) -> str:

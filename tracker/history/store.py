@@ -394,18 +394,33 @@ class History:
     def now(self) -> str:
         return now_iso()
 
+    def _begin(self, migrating: bool = False) -> None:
+        """Start a write transaction holding SQLite's write lock from its start."""
+        self.db.conn.execute("BEGIN IMMEDIATE")
+
+    def _commit(self) -> None:
+        self.db.conn.execute("COMMIT")
+
+    def _rollback(self) -> None:
+        """End a write transaction without keeping anything (quietly, if it already ended)."""
+        conn = self.db.conn
+        if conn.in_transaction:
+            try:
+                conn.execute("ROLLBACK")
+            except sqlite3.Error:
+                pass
+
     @contextmanager
     def _write(self, migrating: bool = False):
-        """One write transaction holding SQLite's write lock from its start."""
-        conn = self.db.conn
-        conn.execute("BEGIN IMMEDIATE")
+        """One write transaction holding the store's write lock from its start."""
+        self._begin(migrating)
         try:
             yield
         except BaseException:
-            conn.execute("ROLLBACK")
+            self._rollback()
             raise
         else:
-            conn.execute("COMMIT")
+            self._commit()
 
     # -- reading -------------------------------------------------------------------------
 
@@ -462,27 +477,22 @@ class History:
         the file is touched. `action` may raise to abandon the whole (nothing is recorded). If the
         commit itself fails after `action`, `undo` puts the file back before the error goes on:
         a file is never left changed without its revision."""
-        conn = self.db.conn
-        conn.execute("BEGIN IMMEDIATE")
+        self._begin()
         try:
             head_id, head_hash = self.head()
             rec = self._insert(rev, head_id, head_hash)
             action()
         except BaseException:
-            conn.execute("ROLLBACK")
+            self._rollback()
             raise
         try:
-            conn.execute("COMMIT")
+            self._commit()
         except BaseException:
             try:
                 if undo is not None:
                     undo()
             finally:
-                if conn.in_transaction:
-                    try:
-                        conn.execute("ROLLBACK")
-                    except sqlite3.Error:
-                        pass
+                self._rollback()
             raise
         return rec
 
