@@ -9,26 +9,25 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from tracker.checks.capacity import DESIGN, DEVICE, RING
+from tracker.checks import registry
+from tracker.checks.breaking_capacity import BreakingCapacityWorking
+from tracker.checks.capacity import DESIGN, DEVICE, RING, CapacityWorking
+from tracker.checks.circuit import CircuitResult
 from tracker.checks.context import device_label
+from tracker.checks.cpc_adiabatic import CpcAdiabaticWorking
+from tracker.checks.design_current import DesignCurrentWorking
+from tracker.checks.fault_loop import FaultLoopWorking
+from tracker.checks.line_adiabatic import LineAdiabaticWorking
+from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
 from tracker.checks.site import explain_circuit, SiteResult, headroom_kw
+from tracker.checks.voltage_drop import VoltageDropWorking
 from tracker.output.terminal_text import clean
 from tui.snapshot import BOARD, CIRCUIT, Row, Snapshot
 from tui.wording import STATUS_WORD, number, plain
 
 TIGHT = 0.9   # a passing check using this much of its limit is shown as tight
 
-GAUGE_LABELS = {
-    "design-current": "Ib / In",
-    "capacity": "needed / Iz",
-    "voltage-drop": "drop / limit",
-    "fault-loop": "Zs / max Zs",
-    "cpc-adiabatic": "cpc min/has",
-    "line-adiabatic": "csa min/has",
-    "breaking-capacity": "PFC / rating",
-    "demand": "demand/limit",
-}
 BASIS_WORDS = {
     DEVICE: "the device rating In (433.1.1)",
     RING: "20 A, a ring final circuit on a 30/32 A device (433.1.204)",
@@ -94,7 +93,8 @@ def utilisation(c: CheckResult) -> float | None:
 
 
 def gauge(c: CheckResult) -> Gauge | None:
-    if c.id not in GAUGE_LABELS:
+    spec = registry.spec(c.id)
+    if spec is None or spec.gauge is None:
         return None
     ratio = utilisation(c)
     word = STATUS_WORD[c.status]
@@ -106,7 +106,7 @@ def gauge(c: CheckResult) -> Gauge | None:
         text = f"{number(c.value, c.unit)} of {number(c.limit, c.unit)}"
     else:
         text = f"needs {number(c.limit, c.unit)}, has {number(c.value, c.unit)}"
-    return Gauge(c.id, GAUGE_LABELS[c.id], ratio, c.status, text, word)
+    return Gauge(c.id, spec.gauge, ratio, c.status, text, word)
 
 
 def figures(c: CheckResult) -> str:
@@ -172,15 +172,33 @@ def circuit_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) 
     # is produced here, from the same inputs (a pure re-evaluation by the engine).
     r = explain_circuit(sr.circuits[row.ref])
     c = r.circuit
-    w = r.working
-    ctx = r.ctx
     chk = {x.id: x for x in r.checks}
-    sections = [Section("Where", tuple(_where(sr, c.board) + [Line("file", c.src.file if c.src else "—")]))]
+    sections = (
+        Section("Where", tuple(_where(sr, c.board) + [Line("file", c.src.file if c.src else "—")])),
+        Section("Equipment", _equipment(r)),
+        Section("Currents", _currents(r, chk)),
+        Section("Rating factors", _rating_factors(r, chk.get("capacity"))),
+        Section("Voltage drop", _voltage_drop(r, chk.get("voltage-drop"))),
+        Section("Earth fault loop", _fault_loop(r, chk.get("fault-loop"))),
+        Section("Adiabatic (minimum sizes)", _adiabatic(r, chk.get("cpc-adiabatic"), chk.get("line-adiabatic"))),
+        Section("Fault level", _fault_level(r, chk.get("breaking-capacity"))),
+    )
+    hk = headroom_kw(sr, r)
+    head = ("not assessed: a check that depends on the load could not be assessed" if hk is None
+            else f"{hk:+.2f} kW " + ("more load before a check of it or upstream fails" if hk >= 0
+                                     else "over: that much load must come off"))
+    gauges = tuple(g for g in (gauge(x) for x in r.checks) if g is not None)
+    title = clean(c.name) if c.name else row.ref
+    return Working(row.ref, CIRCUIT, title, r.status, row.state, c.src.file if c.src else None, sections,
+                   gauges, check_lines(row.ref, r.checks, snapshot), head, r.status == FAIL)
 
-    dev = c.device
+
+def _equipment(r: CircuitResult) -> tuple[Line, ...]:
+    c, dev = r.circuit, r.circuit.device
     kit = [Line("device", device_label(dev) + (f", breaking capacity {dev.breaking_ka:g} kA" if dev.breaking_ka else "")
                 + (f", maker's max Zs {dev.max_zs_ohm:g} Ω" if dev.max_zs_ohm is not None else ""))]
-    rcd = w.get("rcd_ma", c.rcd_ma)
+    rcd_rec = r.working.of(RcdWorking)
+    rcd = rcd_rec.rcd_ma if rcd_rec is not None else c.rcd_ma
     kit.append(Line("RCD", f"{rcd:g} mA" if rcd is not None else "none"))
     cab = c.cable
     cpc = f", cpc {cab.cpc_mm2:g} mm²" if cab.cpc_mm2 is not None else ""
@@ -199,89 +217,84 @@ def circuit_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) 
         kit.append(Line(f"load {ld.id}", f"{ld.kind} {size}{pf}{where}"))
     if c.feeds:
         kit.append(Line("feeds", f"board {c.feeds}"))
-    sections.append(Section("Equipment", tuple(kit)))
+    return tuple(kit)
 
-    cap = chk.get("capacity")
-    dc = chk.get("design-current")
-    ib = (f"{number(r.ib_a, 'A')} — {w['ib_source']}" if r.ib_a is not None and w.get("ib_source")
+
+def _currents(r: CircuitResult, chk: dict) -> tuple[Line, ...]:
+    cap, dc = chk.get("capacity"), chk.get("design-current")
+    dc_rec = r.working.of(DesignCurrentWorking)
+    source = dc_rec.ib_source if dc_rec is not None else None
+    ib = (f"{number(r.ib_a, 'A')} — {source}" if r.ib_a is not None and source
           else number(r.ib_a, "A") if r.ib_a is not None else _unknown(dc))
-    cur = [Line("Ib", ib, dc.status if dc else None),
-           Line("In", f"{r.in_a:g} A ({device_label(dev)})"),
-           Line("Iz", number(r.iz_a, "A") if r.iz_a is not None else _unknown(cap), cap.status if cap else None),
-           Line("Iz must reach", f"{number(cap.limit, 'A') if cap and cap.limit is not None else '—'}: "
-                                 f"{BASIS_WORDS.get(r.basis, r.basis)}")]
-    sections.append(Section("Currents", tuple(cur)))
+    return (Line("Ib", ib, dc.status if dc else None),
+            Line("In", f"{r.in_a:g} A ({device_label(r.circuit.device)})"),
+            Line("Iz", number(r.iz_a, "A") if r.iz_a is not None else _unknown(cap), cap.status if cap else None),
+            Line("Iz must reach", f"{number(cap.limit, 'A') if cap and cap.limit is not None else '—'}: "
+                                  f"{BASIS_WORDS.get(r.basis, r.basis)}"))
 
-    fac = []
-    if "it_a" in w:
-        fac.append(Line("It", f"{w['it_a']:g} A (tabulated, method {cab.method})"))
-        fac.append(Line("Ca", f"{w['ca']:.2f} (ambient)" if "ca" in w else "—"))
-        fac.append(Line("Cg", f"{w['cg']:.2f} (grouping)" if "cg" in w else "—"))
-        if "ci" in w:
-            fac.append(Line("Ci", f"{w['ci']:.2f} (thermal insulation)"))
-        fac.append(Line("Iz", number(w.get("iz_a"), "A"), cap.status if cap else None))
-    else:
-        fac.append(Line("factors", _unknown(cap), NOT_ASSESSED))
-    sections.append(Section("Rating factors", tuple(fac)))
 
-    vd = chk.get("voltage-drop")
-    if "vd_total_pct" in w:
-        vdl = [Line("cable", f"{w.get('mv_per_a_m', '—')}"),
-               Line("this circuit", number(w.get("vd_circuit_v"), "V")),
-               Line("upstream", number(w.get("vd_upstream_v"), "V")),
-               Line("total", f"{number(w['vd_total_pct'], '%')} of U0, limit {number(vd.limit, '%')}",
-                    vd.status)]
-    else:
-        vdl = [Line("voltage drop", _unknown(vd), vd.status if vd else NOT_ASSESSED)]
-    sections.append(Section("Voltage drop", tuple(vdl)))
+def _rating_factors(r: CircuitResult, cap: CheckResult | None) -> tuple[Line, ...]:
+    rec = r.working.of(CapacityWorking)
+    if rec is None or rec.it_a is None:
+        return (Line("factors", _unknown(cap), NOT_ASSESSED),)
+    fac = [Line("It", f"{rec.it_a:g} A (tabulated, method {r.circuit.cable.method})"),
+           Line("Ca", f"{rec.ca:.2f} (ambient)" if rec.ca is not None else "—"),
+           Line("Cg", f"{rec.cg:.2f} (grouping)" if rec.cg is not None else "—")]
+    if rec.ci is not None:
+        fac.append(Line("Ci", f"{rec.ci:.2f} (thermal insulation)"))
+    fac.append(Line("Iz", number(rec.iz_a, "A"), cap.status if cap else None))
+    return tuple(fac)
 
-    fl = chk.get("fault-loop")
+
+def _voltage_drop(r: CircuitResult, vd: CheckResult | None) -> tuple[Line, ...]:
+    rec = r.working.of(VoltageDropWorking)
+    if rec is None or rec.vd_total_pct is None:
+        return (Line("voltage drop", _unknown(vd), vd.status if vd else NOT_ASSESSED),)
+    return (Line("cable", f"{rec.mv_per_a_m if rec.mv_per_a_m is not None else '—'}"),
+            Line("this circuit", number(rec.vd_circuit_v, "V")),
+            Line("upstream", number(rec.vd_upstream_v, "V")),
+            Line("total", f"{number(rec.vd_total_pct, '%')} of U0, limit {number(vd.limit, '%')}", vd.status))
+
+
+def _fault_loop(r: CircuitResult, fl: CheckResult | None) -> tuple[Line, ...]:
+    ctx = r.ctx
     ze = ctx.supply.ze_ohm
     loop = [Line("at the board", f"Ze {plain(ze)} Ω" if ze is not None else "Ze not given")
             if ctx.fed_via is None else Line("at the board", f"{number(ctx.z_ext_ohm, 'ohm')} (Ze and sub-mains)"
                                                            if ctx.z_ext_ohm is not None else "unknown")]
-    if "r1_r2_ohm" in w:
-        loop.append(Line("R1+R2", number(w["r1_r2_ohm"], "ohm") + " (at operating temperature)"))
-    if "zs_ohm" in w:
-        loop.append(Line("Zs", number(w["zs_ohm"], "ohm"), fl.status if fl else None))
-    if "max_zs_ohm" in w:
-        loop.append(Line("max Zs", number(w["max_zs_ohm"], "ohm")))
-    if "t_required_s" in w:
-        loop.append(Line("disconnect in", f"{w['t_required_s']:g} s"))
-    if "zs_ohm" not in w:
+    rec = r.working.of(FaultLoopWorking)
+    if rec is None:
         loop.append(Line("Zs", _unknown(fl), fl.status if fl else NOT_ASSESSED))
-    sections.append(Section("Earth fault loop", tuple(loop)))
+        return tuple(loop)
+    loop.append(Line("R1+R2", number(rec.r1_r2_ohm, "ohm") + " (at operating temperature)"))
+    loop.append(Line("Zs", number(rec.zs_ohm, "ohm"), fl.status if fl else None))
+    loop.append(Line("max Zs", number(rec.max_zs_ohm, "ohm")))
+    loop.append(Line("disconnect in", f"{rec.t_required_s:g} s"))
+    return tuple(loop)
 
-    cpc_c, line_c = chk.get("cpc-adiabatic"), chk.get("line-adiabatic")
-    ad = []
-    if "cpc_min_mm2" in w:
-        ad.append(Line("cpc", f"needs {number(w['cpc_min_mm2'], 'mm2')}, has {number(cpc_c.value, 'mm2')} "
-                              f"(I {number(w.get('earth_fault_a'), 'A', 0)}, t {w.get('t_disconnect_s', 0):g} s, "
-                              f"k {w.get('k_cpc', 0):.0f})", cpc_c.status))
+
+def _adiabatic(r: CircuitResult, cpc_c: CheckResult | None, line_c: CheckResult | None) -> tuple[Line, ...]:
+    cpc, line = r.working.of(CpcAdiabaticWorking), r.working.of(LineAdiabaticWorking)
+    if cpc is not None and cpc.cpc_min_mm2 is not None:
+        out = [Line("cpc", f"needs {number(cpc.cpc_min_mm2, 'mm2')}, has {number(cpc_c.value, 'mm2')} "
+                           f"(I {number(cpc.earth_fault_a, 'A', 0)}, t {cpc.t_disconnect_s:g} s, "
+                           f"k {cpc.k_cpc:.0f})", cpc_c.status)]
     else:
-        ad.append(Line("cpc", _unknown(cpc_c), cpc_c.status if cpc_c else NOT_ASSESSED))
-    if "line_min_mm2" in w:
-        ad.append(Line("live conductors", f"need {number(w['line_min_mm2'], 'mm2')}, have "
-                                          f"{number(line_c.value, 'mm2')} (I {number(w.get('short_circuit_min_a'), 'A', 0)}"
-                                          f", k {w.get('k_line', 0):.0f})", line_c.status))
+        out = [Line("cpc", _unknown(cpc_c), cpc_c.status if cpc_c else NOT_ASSESSED)]
+    if line is not None and line.line_min_mm2 is not None:
+        out.append(Line("live conductors", f"need {number(line.line_min_mm2, 'mm2')}, have "
+                                           f"{number(line_c.value, 'mm2')} (I {number(line.short_circuit_min_a, 'A', 0)}"
+                                           f", k {line.k_line:.0f})", line_c.status))
     else:
-        ad.append(Line("live conductors", _unknown(line_c), line_c.status if line_c else NOT_ASSESSED))
-    sections.append(Section("Adiabatic (minimum sizes)", tuple(ad)))
+        out.append(Line("live conductors", _unknown(line_c), line_c.status if line_c else NOT_ASSESSED))
+    return tuple(out)
 
-    bc = chk.get("breaking-capacity")
-    fault = [Line("PFC at board", number(w.get("pfc_ka", ctx.pfc_ka), "kA")),
-             Line("PFC allowed", number(bc.limit, "kA") if bc and bc.limit is not None else _unknown(bc),
-                  bc.status if bc else None)]
-    sections.append(Section("Fault level", tuple(fault)))
 
-    hk = headroom_kw(sr, r)
-    head = ("not assessed: a check that depends on the load could not be assessed" if hk is None
-            else f"{hk:+.2f} kW " + ("more load before a check of it or upstream fails" if hk >= 0
-                                     else "over: that much load must come off"))
-    gauges = tuple(g for g in (gauge(x) for x in r.checks) if g is not None)
-    title = clean(c.name) if c.name else row.ref
-    return Working(row.ref, CIRCUIT, title, r.status, row.state, c.src.file if c.src else None, tuple(sections),
-                   gauges, check_lines(row.ref, r.checks, snapshot), head, r.status == FAIL)
+def _fault_level(r: CircuitResult, bc: CheckResult | None) -> tuple[Line, ...]:
+    rec = r.working.of(BreakingCapacityWorking)
+    return (Line("PFC at board", number(rec.pfc_ka if rec is not None else r.ctx.pfc_ka, "kA")),
+            Line("PFC allowed", number(bc.limit, "kA") if bc and bc.limit is not None else _unknown(bc),
+                 bc.status if bc else None))
 
 
 def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) -> Working:

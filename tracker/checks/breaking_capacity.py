@@ -3,12 +3,36 @@
 from __future__ import annotations
 
 from tracker.checks.context import Facts
+from tracker.checks.registry import BREAKING, CheckSpec, Outcome
 from tracker.checks.result import CheckResult, not_assessed, verdict
+from tracker.checks.working import figure, record
 
 ID = "breaking-capacity"
+# Breaking capacities a remedy may ask of a circuit's device, smallest first (the usual ratings
+# of BS EN 60898 / 60947-2 devices: common practice).
+BREAKING_STEPS_KA = (6.0, 10.0, 16.0, 25.0, 36.0, 50.0, 80.0)
 
 
-def run(f: Facts, w: dict) -> CheckResult:
+@record
+class BreakingCapacityWorking:
+    pfc_ka: float | None = figure("kA", "prospective fault current at the board")
+
+
+def _beyond_any_device(result) -> bool:
+    return result.ctx.pfc_ka > BREAKING_STEPS_KA[-1]
+
+
+CHECK = CheckSpec(
+    id=ID, rank=70, stage=40, name="breaking capacity", unit="kA", compare="<=", gauge="PFC / rating",
+    record=BreakingCapacityWorking, helps=frozenset({BREAKING}), cause_upstream=_beyond_any_device,
+)
+
+
+def run(f: Facts, done) -> Outcome:
+    return Outcome(_verdict(f), BreakingCapacityWorking(pfc_ka=f.ctx.pfc_ka))
+
+
+def _verdict(f: Facts) -> CheckResult:
     ctx, dev = f.ctx, f.circuit.device
     pfc = ctx.pfc_ka
     if ctx.fed_via:
@@ -17,7 +41,6 @@ def run(f: Facts, w: dict) -> CheckResult:
         where = f"{pfc:g} kA at the origin (pfc_ka)"
     else:
         where = f"{pfc:g} kA assumed at the origin (no pfc_ka: the usual maximum declared for a public supply)"
-    w["pfc_ka"] = pfc
     device_ka, device_how = dev.breaking_ka, "(breaking_ka)"
     if device_ka is None:
         default = (f.device_info or {}).get("breaking_ka")

@@ -12,11 +12,39 @@ from functools import lru_cache
 from tracker import catalogue
 from tracker.checks import rules
 from tracker.checks.context import Facts
+from tracker.checks.registry import RATING, SIZE, CheckSpec, Outcome
 from tracker.checks.result import FAIL, NOT_ASSESSED, CheckResult, fmt, not_assessed, verdict
+from tracker.checks.working import IF_KNOWN, figure, record
 from tracker.engine import factors as F
 
 ID = "capacity"
-DEVICE, RING, DESIGN = "device-rating", "ring", "design-current"
+DEVICE, RING, DESIGN = "device-rating", "ring", "design-current"   # the basis (SPEC §5)
+
+
+@record
+class CapacityWorking:
+    it_a: float | None = figure("A", "tabulated current-carrying capacity It for the method", IF_KNOWN)
+    ca: float | None = figure("", "ambient temperature factor Ca (Table 4B1, or 4B2 in the ground)", IF_KNOWN)
+    cg: float | None = figure("", "grouping factor Cg (Table 4C1)", IF_KNOWN)
+    ci: float | None = figure("", "thermal insulation factor Ci (Table 52.2, or 0.5 by 523.9)", IF_KNOWN)
+    iz_a: float | None = figure("A", "current-carrying capacity as installed, Iz; null where not assessed")
+    basis: str | None = figure("", "what Iz is held against: device-rating, ring or design-current", kind=str)
+
+
+def _on_load(basis: str) -> bool:
+    # Only a cable sized on Ib (433.3.1(ii)) is held against the load itself.
+    return basis == DESIGN
+
+
+def _needs(circuit) -> tuple[str, ...]:
+    # Sizing on Ib rests on both adiabatic checks passing (433.3.1(ii)); otherwise the cpc's only.
+    return ("cpc-adiabatic", "line-adiabatic") if circuit.overload_exempt else ("cpc-adiabatic",)
+
+
+CHECK = CheckSpec(
+    id=ID, rank=20, stage=50, name="cable capacity, Iz", unit="A", compare=">=", gauge="needed / Iz",
+    record=CapacityWorking, helps=frozenset({SIZE, RATING}), load_dependent=_on_load, needs=_needs,
+)
 
 
 @lru_cache(maxsize=None)
@@ -84,14 +112,19 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
     return iz, how, factors
 
 
-def run(f: Facts, w: dict, adiabatic: tuple[CheckResult, CheckResult]) -> tuple[CheckResult, str, float | None]:
-    """(result, basis, Iz)."""
+def run(f: Facts, done) -> Outcome:
     c = f.circuit
     if f.kind is None:
-        return not_assessed(ID, "A", ">=", f"cable kind {c.cable.kind} not in the catalogue"), DEVICE, None
+        return Outcome(not_assessed(ID, "A", ">=", f"cable kind {c.cable.kind} not in the catalogue"))
     iz, how, fac = rated_capacity(f)
-    w.update(fac)
-    w["iz_a"] = iz
+    line = done.get("line-adiabatic")
+    result, basis = _verdict(f, iz, how, (done["cpc-adiabatic"].result, line.result if line else None))
+    return Outcome(result, CapacityWorking(**fac, iz_a=iz, basis=basis))
+
+
+def _verdict(f: Facts, iz: float | None, how: str, adiabatic) -> tuple[CheckResult, str]:
+    """(result, basis)."""
+    c = f.circuit
     basis, required, why = DEVICE, f.in_a, f"In {f.in_a:g} A ({f.label}) — 433.1.1(ii)"
     semi = c.device.kind == "fuse-semi-enclosed"
     if semi:
@@ -117,20 +150,18 @@ def run(f: Facts, w: dict, adiabatic: tuple[CheckResult, CheckResult]) -> tuple[
             exempt_note = (f"; sizing on Ib (433.3.1(ii)) needs fault protection shown, but {failing} fails, "
                            "so the cable must carry In")
         elif iz is not None and iz < f.in_a and NOT_ASSESSED in (cpc.status, line.status):
-            w["basis"] = DESIGN
             return (not_assessed(ID, "A", ">=", f"cable sized on Ib {f.ib_a:.2f} A under 433.3.1(ii) "
                                  f"(Iz {iz:.2f} A < In {f.in_a:g} A), which needs both adiabatic checks to pass; "
-                                 "they could not be assessed", value=iz, limit=f.ib_a), DESIGN, iz)
+                                 "they could not be assessed", value=iz, limit=f.ib_a), DESIGN)
         else:
             basis, required = DESIGN, f.ib_a
             why = (f"Ib {f.ib_a:.2f} A — cable sized on the design current, not on In {f.in_a:g} A "
                    "(433.3.1(ii): load cannot overload; fault protection shown by both adiabatic checks)")
-    w["basis"] = basis
     if iz is None:
-        return not_assessed(ID, "A", ">=", how, limit=required), basis, None
+        return not_assessed(ID, "A", ">=", how, limit=required), basis
     ok = iz >= required
     detail = f"Iz = {how} = {iz:.2f} A {'≥' if ok else '<'} {why}{exempt_note}" if f.explain else ""
     status = verdict(ok)
     ib_limit = iz if basis == DESIGN else None
-    return CheckResult(ID, status, iz, required, "A", ">=", detail, ib_limit_a=ib_limit), basis, iz
+    return CheckResult(ID, status, iz, required, "A", ">=", detail, ib_limit_a=ib_limit), basis
 

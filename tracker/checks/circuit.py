@@ -3,13 +3,12 @@ from __future__ import annotations
 
 from typing import NamedTuple
 
-from tracker.checks import (breaking_capacity, capacity, cpc_adiabatic, design_current, fault_loop,
-                            line_adiabatic, rcd, voltage_drop)
+from tracker.checks import capacity, registry
 from tracker.checks.context import BoardContext, Facts, build_facts
+from tracker.checks.registry import Outcome
 from tracker.checks.result import CheckResult, worst
+from tracker.checks.working import NO_WORKING, CircuitWorking
 from tracker.model import Circuit
-
-_NO_WORKING: dict = {}   # shared, never written: results kept without their working
 
 
 class CircuitResult(NamedTuple):
@@ -25,7 +24,7 @@ class CircuitResult(NamedTuple):
     in_a: float
     iz_a: float | None
     basis: str
-    working: dict
+    working: CircuitWorking     # the checks' typed records (empty where evaluated without explanation)
     vd_end_v: float | None      # volts dropped from the origin to the far end (sub-mains: at the fed board)
     v_per_a: float | None       # this circuit's own volts per ampere
     vd_slack_v: float | None = None   # volts left before the voltage-drop limit (for headroom upstream)
@@ -50,7 +49,8 @@ class CircuitResult(NamedTuple):
             return None
         limits = []
         for r in self.checks:
-            if r.id in ("design-current", "voltage-drop") or (r.id == "capacity" and self.basis == capacity.DESIGN):
+            spec = registry.spec(r.id)
+            if spec is not None and spec.load_dependent(self.basis):
                 if r.ib_limit_a is None:
                     return None
                 limits.append(r.ib_limit_a)
@@ -59,33 +59,33 @@ class CircuitResult(NamedTuple):
 
 def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
              explain: bool = True) -> tuple[CircuitResult, Facts]:
-    """Every check of the circuit; with explain=False the details are left empty (faster, for
-    searches that only need the verdicts and figures)."""
+    """Every check of the circuit that applies, in the registry's order; with explain=False the
+    details and the working records are left out (faster, for searches and for a state that only
+    needs the verdicts and figures)."""
     f = build_facts(circuit, ctx, fed_demand_a, explain)
-    w: dict = {}
-    dc = design_current.run(f, w)
-    fl = fault_loop.run(f, w)
-    cpc = cpc_adiabatic.run(f, w)
-    bc = breaking_capacity.run(f, w)
-    if circuit.overload_exempt:
-        # sized on Ib: the capacity verdict rests on both adiabatic checks (433.3.1(ii))
-        line = line_adiabatic.run(f, w)
-        cap, basis, iz = capacity.run(f, w, (cpc, line))
-    else:
-        # protected against overload: 435.1 may deem the short-circuit protection (line-adiabatic)
-        cap, basis, iz = capacity.run(f, w, (cpc, None))
-        line = line_adiabatic.run(f, w, cap, bc)
-    vd, vd_end, per_a = voltage_drop.run(f, w)
-    rc = rcd.run(f, w)
-    checks = (dc, cap, vd, fl, cpc, line, bc, rc)
+    plan = registry.plan(circuit)
+    done: dict[str, Outcome] = {}
+    for spec in plan.run:
+        done[spec.id] = spec.run(f, done)
+    checks = tuple(done[spec.id].result for spec in plan.listed)
     if not explain:
         # verdicts and figures only: the text (and the working) are produced when a circuit is shown
-        checks = tuple(c if not c.detail else CheckResult(c.id, c.status, c.value, c.limit, c.unit, c.compare,
-                                                          "", c.ib_limit_a) for c in checks)
+        checks = tuple(c if not c.detail else c._replace(detail="") for c in checks)
+    capacity_rec = _record(done, "capacity")
+    vd_rec = _record(done, "voltage-drop")
     result = CircuitResult(
         ref=f"{ctx.site_id}/{circuit.board}/{circuit.id}", circuit=circuit, ctx=ctx, fed_demand_a=fed_demand_a,
-        checks=checks, status=worst(r.status for r in checks), ib_a=f.ib_a, in_a=f.in_a, iz_a=iz,
-        basis=basis, working=w if explain else _NO_WORKING, vd_end_v=vd_end, v_per_a=per_a,
-        vd_slack_v=w.get("vd_slack_v"),
+        checks=checks, status=worst(r.status for r in checks), ib_a=f.ib_a, in_a=f.in_a,
+        iz_a=capacity_rec.iz_a if capacity_rec else None,
+        basis=capacity_rec.basis if capacity_rec else capacity.DEVICE,
+        working=CircuitWorking(tuple(o.record for o in done.values() if o.record is not None)) if explain
+        else NO_WORKING,
+        vd_end_v=vd_rec.end_v if vd_rec else None, v_per_a=vd_rec.per_a_v if vd_rec else None,
+        vd_slack_v=vd_rec.vd_slack_v if vd_rec else None,
     )
     return result, f
+
+
+def _record(done: dict[str, Outcome], check_id: str):
+    found = done.get(check_id)
+    return found.record if found is not None else None

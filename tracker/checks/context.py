@@ -6,6 +6,7 @@ from functools import lru_cache
 
 from tracker import catalogue
 from tracker.checks import rules
+from tracker.checks.design_current import circuit_ib
 from tracker.engine import disconnection, fault_level, impedance
 from tracker.model import Circuit, Site, Supply, rebuilt_by_constructor
 
@@ -116,8 +117,8 @@ class Facts:
     rcd_ma: float | None
     cpc_mm2: float | None
     cpc_how: str
-    r_line: float | None         # mΩ/m at 20 °C
-    r_cpc: float | None
+    r_line_mohm_per_m: float | None   # line conductor resistance at 20 °C
+    r_cpc_mohm_per_m: float | None    # protective conductor resistance at 20 °C
     multiplier: float
     loop_ohm: float | None       # the circuit's own R1 + R2 at operating temperature
     zs_ohm: float | None
@@ -128,56 +129,12 @@ class Facts:
     explain: bool = True         # False: statuses and figures only, no working text (remedy trials)
 
 
-def _design_current(circuit: Circuit, u0: float, fed_demand_a: float | None) -> tuple[float | None, str]:
-    from tracker.engine.current import design_current_a
-
-    if circuit.design_current_a is not None:
-        return circuit.design_current_a, f"Ib {circuit.design_current_a:g} A (design_current_a in the site file)"
-    if circuit.is_submain:
-        if fed_demand_a is None:
-            return None, f"demand of {circuit.feeds} unknown"
-        return fed_demand_a, f"Ib = demand of {circuit.feeds} after diversity, {fed_demand_a:.2f} A"
-    if rules.has_kind(circuit, "socket-outlets"):
-        return circuit.device.rating_a, (f"Ib taken as In = {circuit.device.rating_a:g} A "
-                                         "(socket-outlet circuit, common practice)")
-    if not circuit.loads:
-        return None, "no load listed"
-    if all(ld.kind == "cooker" for ld in circuit.loads):
-        return _cooker_design_current(circuit, u0)
-    parts, total = [], 0.0
-    for ld in circuit.loads:
-        if ld.current_a is not None:
-            total += ld.current_a
-            parts.append(f"{ld.id} {ld.current_a:g} A")
-        else:
-            i = design_current_a(ld.power_kw, u0, ld.power_factor)
-            total += i
-            pf = f" × pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
-            parts.append(f"{ld.id} {ld.power_kw:g} kW / ({u0:g} V{pf}) = {i:.2f} A")
-    how = "Ib = " + " + ".join(parts) + (f" = {total:.2f} A" if len(parts) > 1 else "")
-    return total, how
-
-
-def _cooker_design_current(circuit: Circuit, u0: float) -> tuple[float, str]:
-    """A household cooker circuit's Ib after diversity: 10 A + 30 % of the rest (common practice,
-    the cooking-appliance allowance of tracker/data/diversity.yaml)."""
-    from tracker.engine.current import design_current_a
-    from tracker.engine.diversity import allowance_full_then_rest
-
-    rule = catalogue.diversity()["categories"]["cooker"]
-    connected = sum(ld.current_a if ld.current_a is not None else design_current_a(ld.power_kw, u0, ld.power_factor)
-                    for ld in circuit.loads)
-    ib = allowance_full_then_rest(connected, rule["full_a"], rule["rest_pct"])
-    return ib, (f"Ib = cooker diversity {rule['full_a']:g} A + {rule['rest_pct']:g} % of "
-                f"({connected:.2f} − {rule['full_a']:g}) A = {ib:.2f} A (common practice)")
-
-
 def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
                 explain: bool = True) -> Facts:
     sup = ctx.supply
     kind = catalogue.cable_kind(circuit.cable.kind)
     info = catalogue.device_info(circuit.device.kind)
-    ib, how = _design_current(circuit, sup.u0_v, fed_demand_a)
+    ib, how = circuit_ib(circuit, sup.u0_v, fed_demand_a)
     in_a = circuit.device.rating_a
     sockets = rules.has_kind(circuit, "socket-outlets")
     cable = circuit.cable
@@ -215,7 +172,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         in_a=in_a, ib_a=ib, ib_how=how, ib_vd_a=ib if ib is not None else in_a,
         sockets=sockets, lighting=rules.has_kind(circuit, "lighting"), distribution=circuit.is_submain,
         rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how,
-        r_line=r_line, r_cpc=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
+        r_line_mohm_per_m=r_line, r_cpc_mohm_per_m=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
         zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain,
     )
 
@@ -224,8 +181,8 @@ def child_context(f: Facts, fed_board, vd_end_v: float | None, mv_v_per_a: float
     """The context at the board a sub-main feeds, from the sub-main's own facts."""
     ctx, sup = f.ctx, f.ctx.supply
     cable = f.circuit.cable
-    if f.r_line is not None:
-        cold = impedance.loop_resistance_ohm(f.r_line, f.r_line, cable.length_m, 1.0)
+    if f.r_line_mohm_per_m is not None:
+        cold = impedance.loop_resistance_ohm(f.r_line_mohm_per_m, f.r_line_mohm_per_m, cable.length_m, 1.0)
         pfc = fault_level.downstream_pfc_ka(sup.u0_v, ctx.pfc_ka, cold)
     else:
         pfc = ctx.pfc_ka

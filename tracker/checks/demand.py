@@ -6,12 +6,14 @@ from dataclasses import dataclass
 
 from tracker import catalogue
 from tracker.checks import rules
+from tracker.checks.registry import BOARD, CheckSpec
 from tracker.checks.result import CheckResult, WARN, not_assessed, verdict
 from tracker.engine import diversity as dv
 from tracker.engine.current import design_current_a
 from tracker.model import Board, Circuit
 
 ID = "demand"
+CHECK = CheckSpec(id=ID, rank=10, scope=BOARD, name="maximum demand", unit="A", compare="<=", gauge="demand/limit")
 
 
 @dataclass(frozen=True, slots=True)

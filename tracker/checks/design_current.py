@@ -1,18 +1,83 @@
-"""`design-current`: Ib ≤ In (BS 7671:2018 433.1.1(i))."""
+"""`design-current`: Ib ≤ In (BS 7671:2018 433.1.1(i)), and how Ib is found for a circuit."""
 from __future__ import annotations
 
-from tracker.checks.context import Facts
+from typing import TYPE_CHECKING
+
+from tracker import catalogue
+from tracker.checks import rules
+from tracker.checks.registry import RATING_UP, CheckSpec, Outcome, always_on_load
 from tracker.checks.result import CheckResult, not_assessed, verdict
+from tracker.checks.working import figure, record
+from tracker.engine.current import design_current_a
+from tracker.engine.diversity import allowance_full_then_rest
+from tracker.model import Circuit
+
+if TYPE_CHECKING:
+    from tracker.checks.context import Facts
 
 ID = "design-current"
 
 
-def run(f: Facts, w: dict) -> CheckResult:
-    w["ib_a"], w["ib_source"] = f.ib_a, f.ib_how
+@record
+class DesignCurrentWorking:
+    ib_a: float | None = figure("A", "design current Ib; null where no load data is given")
+    ib_source: str | None = figure("", "how Ib was found, in words", kind=str)
+
+
+CHECK = CheckSpec(
+    id=ID, rank=10, stage=10, name="design current, Ib ≤ In", unit="A", compare="<=", gauge="Ib / In",
+    record=DesignCurrentWorking, helps=frozenset({RATING_UP}), load_dependent=always_on_load,
+)
+
+
+def circuit_ib(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> tuple[float | None, str]:
+    """(Ib, how it was found): design_current_a where given; a sub-main's fed demand; In for a
+    socket-outlet circuit (common practice); the household cooker allowance; else the sum of the
+    loads' currents, I = P / (U0 × pf)."""
+    if circuit.design_current_a is not None:
+        return circuit.design_current_a, f"Ib {circuit.design_current_a:g} A (design_current_a in the site file)"
+    if circuit.is_submain:
+        if fed_demand_a is None:
+            return None, f"demand of {circuit.feeds} unknown"
+        return fed_demand_a, f"Ib = demand of {circuit.feeds} after diversity, {fed_demand_a:.2f} A"
+    if rules.has_kind(circuit, "socket-outlets"):
+        return circuit.device.rating_a, (f"Ib taken as In = {circuit.device.rating_a:g} A "
+                                         "(socket-outlet circuit, common practice)")
+    if not circuit.loads:
+        return None, "no load listed"
+    if all(ld.kind == "cooker" for ld in circuit.loads):
+        return _cooker_ib(circuit, u0_v)
+    parts, total = [], 0.0
+    for ld in circuit.loads:
+        if ld.current_a is not None:
+            total += ld.current_a
+            parts.append(f"{ld.id} {ld.current_a:g} A")
+        else:
+            i = design_current_a(ld.power_kw, u0_v, ld.power_factor)
+            total += i
+            pf = f" × pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
+            parts.append(f"{ld.id} {ld.power_kw:g} kW / ({u0_v:g} V{pf}) = {i:.2f} A")
+    how = "Ib = " + " + ".join(parts) + (f" = {total:.2f} A" if len(parts) > 1 else "")
+    return total, how
+
+
+def _cooker_ib(circuit: Circuit, u0_v: float) -> tuple[float, str]:
+    """A household cooker circuit's Ib after diversity: 10 A + 30 % of the rest (common practice,
+    the cooking-appliance allowance of tracker/data/diversity.yaml)."""
+    rule = catalogue.diversity()["categories"]["cooker"]
+    connected = sum(ld.current_a if ld.current_a is not None else design_current_a(ld.power_kw, u0_v, ld.power_factor)
+                    for ld in circuit.loads)
+    ib = allowance_full_then_rest(connected, rule["full_a"], rule["rest_pct"])
+    return ib, (f"Ib = cooker diversity {rule['full_a']:g} A + {rule['rest_pct']:g} % of "
+                f"({connected:.2f} − {rule['full_a']:g}) A = {ib:.2f} A (common practice)")
+
+
+def run(f: Facts, done) -> Outcome:
+    rec = DesignCurrentWorking(ib_a=f.ib_a, ib_source=f.ib_how)
     if f.ib_a is None:
-        return not_assessed(ID, "A", "<=", f"{f.ib_how}: Ib unknown (list the loads or give design_current_a)",
-                            limit=f.in_a)
+        return Outcome(not_assessed(ID, "A", "<=", f"{f.ib_how}: Ib unknown (list the loads or give design_current_a)",
+                                    limit=f.in_a), rec)
     ok = f.ib_a <= f.in_a
     word = "≤" if ok else ">"
     detail = f"{f.ib_how}; Ib {f.ib_a:.2f} A {word} In {f.in_a:g} A ({f.label}) — 433.1.1(i)" if f.explain else ""
-    return CheckResult(ID, verdict(ok), f.ib_a, f.in_a, "A", "<=", detail, ib_limit_a=f.in_a)
+    return Outcome(CheckResult(ID, verdict(ok), f.ib_a, f.in_a, "A", "<=", detail, ib_limit_a=f.in_a), rec)

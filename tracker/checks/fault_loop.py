@@ -3,10 +3,26 @@ from __future__ import annotations
 
 from tracker.checks import protection, rules
 from tracker.checks.context import Facts
+from tracker.checks.registry import CURVE, RATING, RCD, SIZE, CheckSpec, Outcome
 from tracker.checks.result import FAIL, PASS, WARN, CheckResult, not_assessed, verdict
+from tracker.checks.working import figure, record
 from tracker.engine import disconnection
 
 ID = "fault-loop"
+
+
+@record
+class FaultLoopWorking:
+    zs_ohm: float | None = figure("ohm", "earth fault loop impedance at the far end, Zs = Ze (+ sub-mains) + R1+R2")
+    r1_r2_ohm: float | None = figure("ohm", "the circuit's own R1+R2 at operating temperature")
+    t_required_s: float | None = figure("s", "disconnection time required (Table 41.1, 411.3.2)")
+    max_zs_ohm: float | None = figure("ohm", "maximum Zs for the overcurrent device; null where none is held")
+
+
+CHECK = CheckSpec(
+    id=ID, rank=40, stage=20, name="earth fault loop, Zs", unit="ohm", compare="<=", gauge="Zs / max Zs",
+    record=FaultLoopWorking, helps=frozenset({SIZE, RATING, CURVE, RCD}),
+)
 
 
 def _zs_how(f: Facts) -> str:
@@ -15,18 +31,21 @@ def _zs_how(f: Facts) -> str:
     upstream = ctx.z_ext_ohm - ze if ctx.z_ext_ohm is not None and ze is not None else 0.0
     length = f"{f.circuit.cable.length_m:g} m" + (" / 4 (ring)" if f.circuit.is_ring else "")
     ups = f" + {upstream:.3f} Ω sub-main(s)" if upstream > 1e-9 else ""
-    return (f"Zs = Ze {ze:g}{ups} + (R1+R2) ({f.r_line:g} + {f.r_cpc:g}) mΩ/m × {length} × "
+    return (f"Zs = Ze {ze:g}{ups} + (R1+R2) ({f.r_line_mohm_per_m:g} + {f.r_cpc_mohm_per_m:g}) mΩ/m × {length} × "
             f"{f.multiplier:.2f} = {f.zs_ohm:.3f} Ω")
 
 
-def run(f: Facts, w: dict) -> CheckResult:
+def run(f: Facts, done) -> Outcome:
     if f.zs_ohm is None:
-        return not_assessed(ID, "ohm", "<=", f.zs_why)
-    sup = f.ctx.supply
-    w.update(zs_ohm=f.zs_ohm, r1_r2_ohm=f.loop_ohm, t_required_s=f.t_req_s)
+        return Outcome(not_assessed(ID, "ohm", "<=", f.zs_why))
     how = _zs_how(f) if f.explain else ""
     limit, limit_how, _ = protection.max_zs_ohm(f)
-    w["max_zs_ohm"] = limit
+    rec = FaultLoopWorking(zs_ohm=f.zs_ohm, r1_r2_ohm=f.loop_ohm, t_required_s=f.t_req_s, max_zs_ohm=limit)
+    return Outcome(_verdict(f, how, limit, limit_how), rec)
+
+
+def _verdict(f: Facts, how: str, limit: float | None, limit_how: str) -> CheckResult:
+    sup = f.ctx.supply
     t_txt = f"disconnection in {f.t_req_s:g} s ({'distribution circuit' if f.distribution else 'final circuit'})"
     if sup.system == "TT":
         return _tt(f, how, limit, limit_how, t_txt)

@@ -4,16 +4,32 @@ from __future__ import annotations
 
 from tracker.checks import rules
 from tracker.checks.context import Facts
+from tracker.checks.registry import RCD, CheckSpec, Outcome
 from tracker.checks.result import FAIL, PASS, WARN, CheckResult
+from tracker.checks.working import figure, record
 
 ID = "rcd"
 
 
-def run(f: Facts, w: dict) -> CheckResult:
+@record
+class RcdWorking:
+    rcd_ma: float | None = figure("mA", "smallest IΔn of an RCD protecting the circuit; null: none")
+
+
+CHECK = CheckSpec(
+    id=ID, rank=80, stage=70, name="RCD additional protection", unit="mA", compare="<=",
+    record=RcdWorking, helps=frozenset({RCD}),
+)
+
+
+def run(f: Facts, done) -> Outcome:
+    return Outcome(_verdict(f), RcdWorking(rcd_ma=f.rcd_ma))
+
+
+def _verdict(f: Facts) -> CheckResult:
     required, advised = rules.rcd_requirements(f.circuit, f.ctx.supply.domestic)
     limit = rules.ADDITIONAL_PROTECTION_MA
     have = f.rcd_ma
-    w["rcd_ma"] = have
     covered = have is not None and have <= limit
     what = f"{have:g} mA RCD" if have is not None else "no RCD"
     if required:

@@ -12,24 +12,14 @@ from dataclasses import replace
 
 from tracker import catalogue
 from tracker.checks import circuit as circuit_checks
+from tracker.checks import registry
+from tracker.checks.breaking_capacity import BREAKING_STEPS_KA
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.context import device_label
+from tracker.checks.registry import BREAKING, CURVE, RATING, RATING_UP, RCD, SIZE
 from tracker.checks.result import FAIL, NOT_ASSESSED, WARN
 from tracker.model import Cable, Device
 
-LOAD_DEPENDENT = {"design-current", "voltage-drop"}
-# What a change of each kind can put right: a failing check opens only the changes that can help it.
-HELPS = {
-    "design-current": {"rating"},
-    "capacity": {"size", "rating"},
-    "voltage-drop": {"size"},
-    "fault-loop": {"size", "rating", "curve", "rcd"},
-    "cpc-adiabatic": {"size", "rating", "curve", "rcd"},
-    "line-adiabatic": {"size", "rating", "curve"},
-    "breaking-capacity": set(),     # a device of higher breaking capacity, applied to every candidate
-    "rcd": {"rcd"},
-}
-BREAKING_STEPS_KA = (6.0, 10.0, 16.0, 25.0, 36.0, 50.0, 80.0)
 RATING_STEPS = (-2, -1, 0, 1, 2, 3, 4, 5)
 SIZE_STEPS = (0, 1, 2, 3, 4, 5)
 
@@ -43,15 +33,18 @@ def _with(result: CircuitResult, status: str) -> set[str]:
 
 
 def _load_limited(result: CircuitResult, failing: set[str]) -> bool:
-    dep = set(LOAD_DEPENDENT)
-    if result.basis == "design-current":
-        dep.add("capacity")
+    dep = {s.id for s in registry.circuit_checks() if s.load_dependent(result.basis)}
     return bool(failing) and failing <= dep
+
+
+def _changes_that_help(failing: set[str]) -> set[str]:
+    """The kinds of change (registry.REMEDY_CHANGES) that can put one of the failing checks right."""
+    return set().union(*(registry.spec(f).helps for f in failing if registry.spec(f) is not None))
 
 
 def _candidate_circuits(result: CircuitResult, failing: set[str]):
     c = result.circuit
-    dims = set().union(*(HELPS.get(f, set()) for f in failing))
+    dims = _changes_that_help(failing)
     kind = catalogue.cable_kind(c.cable.kind)
     ratings = catalogue.standard_ratings(c.device.kind)
     curves = [c.device.curve] + [k for k in ("B", "C", "D") if k != c.device.curve] \
@@ -74,18 +67,19 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
     elif c.is_submain and c.rcd_ma is None and result.ctx.supply.system == "TT":
         rcd_options.append(100.0)
     breaking = c.device.breaking_ka
-    if "breaking-capacity" in failing:
+    if BREAKING in dims:
+        # a device of higher breaking capacity, applied to every candidate
         pfc = result.ctx.pfc_ka
         breaking = next((b for b in BREAKING_STEPS_KA if b >= pfc), None)
-    if "rating" not in dims:
-        rating_steps = (0,)
-    elif failing <= {"design-current"}:
+    if RATING in dims:
+        rating_steps = RATING_STEPS
+    elif RATING_UP in dims:
         rating_steps = tuple(x for x in RATING_STEPS if x >= 0)
     else:
-        rating_steps = RATING_STEPS
-    curves = curves if "curve" in dims else curves[:1]
-    size_steps = SIZE_STEPS if "size" in dims else (0,)
-    rcd_options = rcd_options if "rcd" in dims else rcd_options[:1]
+        rating_steps = (0,)
+    curves = curves if CURVE in dims else curves[:1]
+    size_steps = SIZE_STEPS if SIZE in dims else (0,)
+    rcd_options = rcd_options if RCD in dims else rcd_options[:1]
     out = []
     for dr, curve, ds, rcd in itertools.product(rating_steps, curves, size_steps, rcd_options):
         ir, isz = i_rating + dr, i_size + ds
@@ -143,13 +137,10 @@ FALLBACK_TRIES = 12
 
 def _fixable_here(result: CircuitResult, failing: set[str]) -> bool:
     """False where a failing check cannot pass whatever is done to this circuit alone."""
-    ctx = result.ctx
-    vd = result.check("voltage-drop")
-    if "voltage-drop" in failing and ctx.vd_v is not None and vd.limit is not None \
-            and ctx.vd_v >= vd.limit / 100.0 * ctx.supply.u0_v:
-        return False
-    if "breaking-capacity" in failing and ctx.pfc_ka > BREAKING_STEPS_KA[-1]:
-        return False
+    for check_id in failing:
+        spec = registry.spec(check_id)
+        if spec is not None and spec.cause_upstream is not None and spec.cause_upstream(result):
+            return False
     return True
 
 

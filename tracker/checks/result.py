@@ -7,11 +7,6 @@ PASS, FAIL, WARN, NOT_ASSESSED = "pass", "fail", "warn", "not-assessed"
 # Worst first. An unknown is worse than a caution: a not-assessed check has not been shown to hold.
 SEVERITY = {FAIL: 3, NOT_ASSESSED: 2, WARN: 1, PASS: 0}
 
-# Circuit checks in the order they are reported (SPEC §3 ids).
-CIRCUIT_CHECKS = ("design-current", "capacity", "voltage-drop", "fault-loop", "cpc-adiabatic",
-                  "line-adiabatic", "breaking-capacity", "rcd")
-BOARD_CHECKS = ("demand",)
-
 UNIT_DIGITS = {"A": 2, "V": 2, "%": 2, "ohm": 3, "mm2": 2, "kA": 2, "kW": 2, "mA": 0}
 
 

@@ -3,10 +3,35 @@
 from __future__ import annotations
 
 from tracker.checks.context import Facts
+from tracker.checks.registry import SIZE, CheckSpec, Outcome, always_on_load
 from tracker.checks.result import CheckResult, fmt, not_assessed, verdict
+from tracker.checks.working import IF_KNOWN, INTERNAL, figure, record
 from tracker.engine import voltage_drop as vd
 
 ID = "voltage-drop"
+
+
+@record
+class VoltageDropWorking:
+    vd_circuit_v: float | None = figure("V", "volts dropped in this circuit at Ib", IF_KNOWN)
+    vd_upstream_v: float | None = figure("V", "volts dropped from the origin to the board", IF_KNOWN)
+    vd_total_pct: float | None = figure("%", "total drop from the origin, in % of U0", IF_KNOWN)
+    mv_per_a_m: str | None = figure("", "the cable's mV/A/m, with its data status", IF_KNOWN, kind=str)
+    vd_slack_v: float | None = figure("V", "volts left before the limit (negative: over)", IF_KNOWN)
+    end_v: float | None = figure("V", "volts dropped from the origin to the far end", INTERNAL)
+    per_a_v: float | None = figure("V", "this circuit's own volts per extra ampere", INTERNAL)
+
+
+def _cause_upstream(result) -> bool:
+    # Nothing on this circuit can help once the board itself is at the limit.
+    ctx, check = result.ctx, result.check(ID)
+    return ctx.vd_v is not None and check.limit is not None and ctx.vd_v >= check.limit / 100.0 * ctx.supply.u0_v
+
+
+CHECK = CheckSpec(
+    id=ID, rank=30, stage=60, name="voltage drop", unit="%", compare="<=", gauge="drop / limit",
+    record=VoltageDropWorking, helps=frozenset({SIZE}), load_dependent=always_on_load, cause_upstream=_cause_upstream,
+)
 
 
 def circuit_drop(f: Facts) -> tuple[float | None, float | None, str]:
@@ -23,8 +48,7 @@ def circuit_drop(f: Facts) -> tuple[float | None, float | None, str]:
     return volts, per_a, f"{fmt(mv.value)} mV/A/m{status}"
 
 
-def run(f: Facts, w: dict) -> tuple[CheckResult, float | None, float | None]:
-    """(result, volts at the far end from the origin, this circuit's volts per ampere)."""
+def run(f: Facts, done) -> Outcome:
     c, sup = f.circuit, f.ctx.supply
     lighting = f.lighting and not f.distribution
     limit_pct = vd.voltage_drop_limit_pct(lighting, sup.private)
@@ -32,13 +56,12 @@ def run(f: Facts, w: dict) -> tuple[CheckResult, float | None, float | None]:
     src = "private supply" if sup.private else "public supply"
     volts, per_a, mv_note = circuit_drop(f)
     if volts is None:
-        return not_assessed(ID, "%", "<=", mv_note, limit=limit_pct), None, None
+        return Outcome(not_assessed(ID, "%", "<=", mv_note, limit=limit_pct))
     if f.ctx.vd_v is None:
-        return not_assessed(ID, "%", "<=", f.ctx.unknown_vd, limit=limit_pct), None, per_a
+        return Outcome(not_assessed(ID, "%", "<=", f.ctx.unknown_vd, limit=limit_pct), VoltageDropWorking(per_a_v=per_a))
     total_v = f.ctx.vd_v + volts
     pct = total_v / sup.u0_v * 100.0
     limit_v = limit_pct / 100.0 * sup.u0_v
-    w.update(vd_circuit_v=volts, vd_upstream_v=f.ctx.vd_v, vd_total_pct=pct, mv_per_a_m=mv_note)
     length = f"{c.cable.length_m:g} m" + (" / 4 (ring, load at the midpoint)" if c.is_ring else "")
     ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
     upstream = f" + {f.ctx.vd_v:.2f} V upstream = {total_v:.2f} V" if f.ctx.vd_v else ""
@@ -51,5 +74,6 @@ def run(f: Facts, w: dict) -> tuple[CheckResult, float | None, float | None]:
     ib_limit = None
     if f.ib_a is not None and slope > 0:
         ib_limit = f.ib_a + (limit_v - total_v) / slope
-    w["vd_slack_v"] = limit_v - total_v
-    return CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), total_v, per_a
+    rec = VoltageDropWorking(vd_circuit_v=volts, vd_upstream_v=f.ctx.vd_v, vd_total_pct=pct, mv_per_a_m=mv_note,
+                             vd_slack_v=limit_v - total_v, end_v=total_v, per_a_v=per_a)
+    return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), rec)

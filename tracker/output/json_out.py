@@ -3,7 +3,7 @@ schema/check-output.schema.json)."""
 from __future__ import annotations
 
 from tracker.checks import remedy as remedies
-from tracker.checks.result import FAIL, UNIT_DIGITS
+from tracker.checks.result import FAIL
 from tracker.checks.site import SiteResult, headroom_kw
 
 SCHEMA = "izwatch.check/1"
@@ -11,24 +11,10 @@ CAUTION = ("izwatch supports, and does not replace, a competent person: verify e
            "the current wiring regulations, local codes and manufacturers' data. Work on electrical "
            "installations is for qualified people.")
 
-_WORKING_UNITS = {"_a": "A", "_v": "V", "_ohm": "ohm", "_mm2": "mm2", "_ka": "kA", "_pct": "%", "_s": "s"}
-_DIGITS: dict[str, int] = {}
 
 
 def _r(x, digits=2):
     return None if x is None else round(x, digits)
-
-
-def _digits(key: str) -> int:
-    d = _DIGITS.get(key)
-    if d is None:
-        d = next((UNIT_DIGITS.get(unit, 3) for suffix, unit in _WORKING_UNITS.items() if key.endswith(suffix)), 3)
-        _DIGITS[key] = d
-    return d
-
-
-def _working(w: dict) -> dict:
-    return {k: round(v, _digits(k)) if type(v) is float else v for k, v in w.items()}
 
 
 def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
@@ -46,7 +32,7 @@ def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
         "site": r.site_id,
         "board": c.board,
         "file": c.src.file if c.src else None,
-        "working": _working(r.working),
+        "working": r.working.as_json(),
     }
     if with_remedy and r.status == FAIL:
         entry["remedy"] = remedies.find(r)

@@ -10,11 +10,12 @@ from __future__ import annotations
 import csv
 import io
 
-from tracker.checks.result import CIRCUIT_CHECKS
+from tracker.checks import registry
 
 
 def _check(c: dict, check_id: str) -> dict:
-    return next(k for k in c["checks"] if k["id"] == check_id)
+    """A circuit's check by id ({} where the check does not apply to that circuit)."""
+    return next((k for k in c["checks"] if k["id"] == check_id), {})
 
 
 def _acknowledged(doc: dict, ref: str) -> str:
@@ -47,14 +48,14 @@ COLUMNS = [
     ("in_a", lambda d, c: c["in_a"]),
     ("iz_a", lambda d, c: c["iz_a"]),
     ("iz_basis", lambda d, c: c["basis"]),
-    ("iz_needed_a", lambda d, c: _check(c, "capacity")["limit"]),
+    ("iz_needed_a", lambda d, c: _check(c, "capacity").get("limit")),
     ("vd_pct", lambda d, c: c["vd_pct"]),
     ("vd_limit_pct", lambda d, c: c["vd_limit_pct"]),
     ("zs_ohm", lambda d, c: c["zs_ohm"]),
     ("max_zs_ohm", lambda d, c: c["max_zs_ohm"]),
     ("headroom_kw", lambda d, c: c["headroom_kw"]),
-    *[(f"check_{cid.replace('-', '_')}", (lambda cid: lambda d, c: _check(c, cid)["status"])(cid))
-      for cid in CIRCUIT_CHECKS],
+    *[(f"check_{cid.replace('-', '_')}", (lambda cid: lambda d, c: _check(c, cid).get("status"))(cid))
+      for cid in registry.circuit_ids()],
     ("open_checks", lambda d, c: "; ".join(k["id"] for k in c["checks"] if k["status"] != "pass")),
     ("acknowledged", lambda d, c: _acknowledged(d, c["ref"])),
     ("remedy", lambda d, c: (c["remedy"] or {}).get("text")),

@@ -12,6 +12,8 @@ from pathlib import Path
 
 from tracker import __version__
 from tracker.checks.context import build_facts, device_label
+from tracker.checks.fault_loop import FaultLoopWorking
+from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, UNIT_DIGITS, WARN
 from tracker.checks.site import SiteResult, evaluate_site
 from tracker.graph import BOARD, CIRCUIT, LOAD, build_graph, kind_of
@@ -71,6 +73,7 @@ def _circuit(sr: SiteResult, r) -> dict:
     entry = circuit_entry(sr, r)          # the check --json entry: the same figures, the same rounding
     facts = build_facts(c, r.ctx, r.fed_demand_a)
     vd = r.check("voltage-drop")
+    rcd, loop = r.working.of(RcdWorking), r.working.of(FaultLoopWorking)
     entry.update({
         "id": c.id,
         "topology": c.topology,
@@ -78,14 +81,14 @@ def _circuit(sr: SiteResult, r) -> dict:
         "overload_exempt": c.overload_exempt,
         "device": {"kind": c.device.kind, "curve": c.device.curve, "rating_a": c.device.rating_a,
                    "breaking_ka": c.device.breaking_ka, "label": device_label(c.device)},
-        "rcd_ma": r.working.get("rcd_ma"),
+        "rcd_ma": rcd.rcd_ma if rcd else None,
         "cable": {"kind": c.cable.kind, "csa_mm2": c.cable.csa_mm2, "cpc_mm2": facts.cpc_mm2,
                   "cpc_given": c.cable.cpc_mm2 is not None, "length_m": c.cable.length_m,
                   "method": c.cable.method},
         "loads": [{"id": ld.id, "kind": ld.kind, "name": ld.name, "power_kw": ld.power_kw,
                    "current_a": ld.current_a, "location": ld.location} for ld in c.loads],
         "vd_pct": _r(vd.value, UNIT_DIGITS["%"]), "vd_limit_pct": _r(vd.limit, UNIT_DIGITS["%"]),
-        "zs_ohm": _r(r.working.get("zs_ohm"), 3), "max_zs_ohm": _r(r.working.get("max_zs_ohm"), 3),
+        "zs_ohm": _r(loop.zs_ohm, 3) if loop else None, "max_zs_ohm": _r(loop.max_zs_ohm, 3) if loop else None,
     })
     entry.setdefault("remedy", None)
     return entry

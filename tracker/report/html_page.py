@@ -3,6 +3,7 @@ asset) that reads on screen and prints on A4. It renders the report document and
 every piece of text goes through `markup`, which escapes it."""
 from __future__ import annotations
 
+from tracker.checks import registry
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, UNIT_DIGITS, WARN, fmt
 from tracker.report import diagram
 from tracker.report.markup import Safe, cat, el
@@ -13,17 +14,6 @@ from tracker.tracking.diff import show_value
 # No script may run and nothing may be fetched, whatever ends up in the page.
 CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'"
 
-CHECK_NAMES = {
-    "design-current": "design current, Ib ≤ In",
-    "capacity": "cable capacity, Iz",
-    "voltage-drop": "voltage drop",
-    "fault-loop": "earth fault loop, Zs",
-    "cpc-adiabatic": "cpc withstands the fault (adiabatic)",
-    "line-adiabatic": "live conductors withstand the fault (adiabatic)",
-    "breaking-capacity": "breaking capacity",
-    "rcd": "RCD additional protection",
-    "demand": "maximum demand",
-}
 UNIT_TEXT = {"ohm": "Ω", "mm2": "mm²"}
 SOURCE_TEXT = {"watch": "seen by the watcher", "replace": "replacement", "ack": "acknow\u00adledgement",
                "startup": "found at start"}
@@ -70,7 +60,7 @@ def against(chk: dict) -> str:
 
 
 def check_name(check_id: str) -> Safe:
-    return cat(CHECK_NAMES.get(check_id, check_id), " ", el("code", check_id, class_="small"))
+    return cat(registry.name(check_id), " ", el("code", check_id, class_="small"))
 
 
 def status_count(counts: dict) -> str:
