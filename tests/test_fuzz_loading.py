@@ -10,7 +10,7 @@ from hypothesis import strategies as st
 
 from tests.conftest import MINIMAL
 from tracker.loading import load_estate
-from tracker.loading.estate import _read_text, sha256_hex
+from tracker.loading.estate import read_content, sha256_hex
 
 ERROR_RE = re.compile(r"^[^:]+:\d+:\d+: ")
 
@@ -47,7 +47,7 @@ def mutated(draw):
 @given(mutated())
 def test_random_edits_never_traceback(text):
     raw = text.encode("utf-8", errors="surrogatepass")
-    result = _read_text(raw, "flat-1/site.yaml", sha256_hex(raw))
+    result = read_content(raw, "flat-1/site.yaml", sha256_hex(raw))
     for err in result.errors:
         assert ERROR_RE.match(str(err)), str(err)
         assert err.line >= 1 and err.col >= 1

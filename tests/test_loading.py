@@ -251,3 +251,21 @@ def test_site_id_of_the_wrong_type(site_factory):
     """Found by the structural fuzzer: a non-text site.id once reached the id check."""
     errs = _errors(site_factory(MINIMAL.replace('name: "Test flat"', 'id: true\n  name: "Test flat"')))
     assert errs == ["flat-1/site.yaml:2:3: site.id: expected text, got true"]
+
+
+def test_a_site_is_found_by_its_id_through_the_safe_reader(site_factory):
+    """The commands that name a site (report --site, replace, ack) find its folder by reading
+    site.yaml files through the safe reader: a declared id wins over a folder name, an alias bomb
+    in another folder is refused rather than expanded, and a folder named like the id whose
+    site.yaml does not load is still that site's (so its errors can be listed)."""
+    from tracker.loading.estate import site_folder_of
+    root = site_factory(MINIMAL.replace('name: "Test flat"', 'id: other-id\n  name: "Test flat"'), folder="flat-8")
+    site_factory("a: &a [1, 1, 1, 1, 1, 1, 1, 1, 1]\n" + "".join(
+        f"{n}: &{n} [*{p}, *{p}, *{p}, *{p}, *{p}, *{p}, *{p}, *{p}, *{p}]\n"
+        for p, n in zip("abcdefg", "bcdefgh")), folder="bomb")
+    site_factory("site: [unclosed\n", folder="broken")
+    assert site_folder_of(root, "other-id") == "flat-8"
+    assert site_folder_of(root, "flat-8") is None
+    assert site_folder_of(root, "broken") == "broken"
+    assert site_folder_of(root, "bomb") == "bomb"
+    assert site_folder_of(root, "no-such-site") is None

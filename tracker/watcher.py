@@ -30,10 +30,11 @@ from watchdog.observers import Observer
 
 from tracker.history import History
 from tracker.history.store import Recorded
-from tracker.loading.estate import STATE_DIR
+from tracker.loading.discover import STATE_DIR
 from tracker.tracking.authors import Authors
-from tracker.tracking.startup import start, to_revision
-from tracker.tracking.state import EstateState, FileOutcome
+from tracker.tracking.outcome import FileOutcome, to_revision
+from tracker.tracking.startup import start
+from tracker.tracking.state import EstateState
 
 DEBOUNCE_S = 0.15
 SAFETY_SCAN_S = 60.0

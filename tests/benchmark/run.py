@@ -59,7 +59,7 @@ import gc, json, random, statistics, sys, time
 from pathlib import Path
 from tracker.history import History
 from tracker.tracking.state import EstateState
-from tracker.tracking.startup import to_revision
+from tracker.tracking.outcome import to_revision
 from tui.snapshot import RowCache, build
 
 # Every estate is held at once, as the watcher holds its state (tracker/watcher.py), and the

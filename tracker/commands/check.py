@@ -19,8 +19,9 @@ from tracker.checks.result import FAIL
 from tracker.checks.site import evaluate_site
 from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
 from tracker.loading.errors import InputError, sort_problems
-from tracker.loading.estate import EstateError, load_site, site_folders
+from tracker.loading.estate import EstateError, duplicate_site_id, load_site, site_folders
 from tracker.output.terminal_text import clean
+from tracker.parallel import each_in_runs
 from tracker.progress import Progress
 
 
@@ -133,41 +134,18 @@ class SiteOut:
     counts: dict = field(default_factory=dict)
 
 
-_RENDERER = None   # the renderer of the process (set in workers by _init)
-
-
-def _init(renderer) -> None:
-    global _RENDERER
-    _RENDERER = renderer
-
-
-def check_site(folder: Path, rel: str, root: Path, renderer) -> SiteOut:
-    sl = load_site(folder, rel, root)
-    out = SiteOut(errors=sl.errors, warnings=sl.warnings)
-    if sl.site is not None:
-        out.site_id, out.first_file = sl.site.id, sl.site.files[0]
-        sr = evaluate_site(sl.site)
-        out.failing = sr.status == FAIL
-        renderer.render(sr, out)
+def load_and_check(shared, item) -> SiteOut:
+    """One site folder loaded, checked and rendered (here or in a worker process)."""
+    root, renderer = shared
+    folder, rel = item
+    loaded = load_site(folder, rel, root)
+    out = SiteOut(errors=loaded.errors, warnings=loaded.warnings)
+    if loaded.site is not None:
+        out.site_id, out.first_file = loaded.site.id, loaded.site.files[0]
+        result = evaluate_site(loaded.site)
+        out.failing = result.status == FAIL
+        renderer.render(result, out)
     return out
-
-
-def _check_run(job) -> list[SiteOut]:
-    root, run = job
-    return [check_site(folder, rel, root, _RENDERER) for folder, rel in run]
-
-
-def _results(folders, root: Path, renderer, jobs: int):
-    """SiteOut per site folder, in order; from worker processes when that pays."""
-    if jobs <= 1 or len(folders) < 40:
-        for folder, rel in folders:
-            yield check_site(folder, rel, root, renderer)
-        return
-    from tracker.parallel import ordered_results
-    size = max(1, min(50, len(folders) // (jobs * 8)))
-    runs = [(root, folders[i:i + size]) for i in range(0, len(folders), size)]
-    for batch in ordered_results(_check_run, runs, jobs, initializer=_init, initargs=(renderer.worker_copy(),)):
-        yield from batch
 
 
 def run(args) -> int:
@@ -189,16 +167,15 @@ def run(args) -> int:
     failing = False
     progress = Progress(len(folders), "checking sites")
     gc.freeze()   # what is loaded so far lives to the end: keep the collector from re-scanning it
-    for so in _results(folders, root, out, jobs):
-        errors.extend(so.errors)
-        warnings.extend(so.warnings)
-        if so.site_id is not None and so.site_id in seen:
-            errors.append(InputError(so.first_file, 1, 1, f"site id '{so.site_id}' is already used by "
-                                                          f"{seen[so.site_id]}; site ids must be unique"))
-        elif so.site_id is not None:
-            seen[so.site_id] = so.first_file
-            failing |= so.failing
-            out.write(so)
+    for site_out in each_in_runs(load_and_check, folders, (root, out.worker_copy()), jobs):
+        errors.extend(site_out.errors)
+        warnings.extend(site_out.warnings)
+        if site_out.site_id is not None and site_out.site_id in seen:
+            errors.append(duplicate_site_id(site_out.site_id, site_out.first_file, seen[site_out.site_id]))
+        elif site_out.site_id is not None:
+            seen[site_out.site_id] = site_out.first_file
+            failing |= site_out.failing
+            out.write(site_out)
         progress.advance()
     progress.close()
     errors, warnings = sort_problems(errors), sort_problems(warnings)

@@ -10,7 +10,7 @@ from pathlib import Path
 
 from tracker.cli import EXIT_INPUT
 from tracker.history import History, HistoryError, default_db_path, history_location
-from tracker.loading.estate import SITE_FILE, EstateError, site_folders
+from tracker.loading.estate import EstateError, site_folder_of, site_folders
 from tracker.output.terminal_text import clean, clean_lines, first_unsafe
 
 
@@ -55,24 +55,10 @@ def check_root(path: str) -> Path:
 
 def folder_of_site(root: Path, site_id: str) -> str:
     """The folder (relative; '' for a single site) of the site with this id."""
-    single, folders, _ = site_folders(root)
-    if single:
-        return ""
-    import yaml
-    by_name = {rel: folder for folder, rel in folders}
-    if site_id in by_name:
-        order = [site_id] + [r for r in by_name if r != site_id]
-    else:
-        order = list(by_name)
-    for rel in order:
-        try:
-            doc = yaml.load((by_name[rel] / SITE_FILE).read_bytes(), Loader=yaml.CSafeLoader)
-        except (OSError, yaml.YAMLError):
-            continue
-        declared = (doc.get("site") or {}).get("id") if isinstance(doc, dict) and isinstance(doc.get("site"), dict) else None
-        if (declared or rel) == site_id:
-            return rel
-    raise CommandError(f"no site '{site_id}' in {root}")
+    folder = site_folder_of(root, site_id)
+    if folder is None:
+        raise CommandError(f"no site '{site_id}' in {root}")
+    return folder
 
 
 def fail(exc: Exception) -> int:

@@ -19,7 +19,8 @@ from tracker.edit import EditError, format_number, set_scalar
 from tracker.history import HistoryError
 from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors
-from tracker.tracking.startup import start, to_revision
+from tracker.tracking.outcome import to_revision
+from tracker.tracking.startup import start
 from tracker.tracking.state import EstateState
 
 MAX_KW, MAX_A = 2000.0, 4000.0   # the schema's ranges for power_kw and current_a

@@ -1,4 +1,4 @@
-"""Reading site files: discovery, safe YAML parsing, schema and semantic validation."""
+"""Reading site files: one pipeline (discover → read → validate → build → assemble), see `estate`."""
 from tracker.loading.errors import InputError, LoadWarning
 from tracker.loading.estate import Estate, load_estate, load_site
 

@@ -1,30 +1,34 @@
-"""Finding and loading sites: an estate folder of site folders, or one site folder.
+"""Loading sites: one pipeline for `check`, `report`, the watcher and the UI.
 
-A site folder holds `site.yaml` and optionally more `*.yaml` files adding boards and circuits.
-Loading a site either gives a complete, valid :class:`Site` or its errors: a site with any
-error is not half-loaded. Per-file results are cached by content hash, so a watcher re-reads
-only what changed.
+discover (`discover`: which folders and files) → read (bytes, within the safe reader's limits:
+`yamlread`) → validate (`schema_check`) → build (`build`) → assemble (`assemble_site`: the files
+of one folder into one :class:`Site`, with the site-wide checks of `semantic`).
+
+Loading a site gives either a complete, valid :class:`Site` or its errors: a site with any error
+is not half-loaded. The stages are public so that the watcher can keep each file's last good
+result (:func:`read_content`) and assemble a folder again after one file changes; the whole
+folder from disk is :func:`load_site`, a whole estate :func:`load_estate`. The rule that site
+ids are unique across an estate is :func:`duplicate_site_id`.
 """
 from __future__ import annotations
 
 import hashlib
-import os
 import re
 import zlib
 from dataclasses import dataclass, field
-from pathlib import Path
+from pathlib import Path, PurePosixPath
 
 from tracker.loading import build, schema_check, semantic, yamlread
+from tracker.loading.discover import (SITE_FILE, STATE_DIR, EstateError, estate_files, inside, relative,
+                                      site_files, site_folders)
 from tracker.loading.errors import InputError, LoadWarning, sort_problems
 from tracker.model import Site
 
-SITE_FILE = "site.yaml"
+__all__ = ["SITE_FILE", "STATE_DIR", "EstateError", "Estate", "FileResult", "SiteLoad", "assemble_site",
+           "duplicate_site_id", "estate_files", "inside", "load_estate", "load_site", "read_content", "read_file",
+           "sha256_hex", "site_files", "site_folder_of", "site_folders"]
+
 SITE_ID = re.compile(r"^[a-z0-9][a-z0-9._-]*$")
-STATE_DIR = ".izwatch"
-
-
-class EstateError(Exception):
-    """The path itself is unusable (missing, not a folder, holds no site)."""
 
 
 @dataclass(slots=True)
@@ -81,84 +85,20 @@ def sha256_hex(raw: bytes) -> str:
     return hashlib.sha256(raw).hexdigest()
 
 
-def _inside(root: Path, path: Path) -> bool:
-    try:
-        path.resolve().relative_to(root.resolve())
-    except (ValueError, OSError):
-        return False
-    return True
+# -- read, validate and build one file ----------------------------------------------------------
 
-
-def site_folders(root: Path) -> tuple[bool, list[tuple[Path, str]], list[LoadWarning]]:
-    """(single_site, [(folder, rel)], warnings) for the path the user gave."""
-    if not root.exists():
-        raise EstateError(f"{root}: no such folder")
-    if not root.is_dir():
-        raise EstateError(f"{root}: not a folder (give the estate folder or a site folder)")
-    if (root / SITE_FILE).is_file():
-        return True, [(root, "")], []
-    found, warnings = [], []
-    try:
-        entries = sorted(os.scandir(root), key=lambda e: e.name)
-    except OSError as exc:
-        raise EstateError(f"{root}: cannot be read ({exc.strerror})") from None
-    for entry in entries:
-        if entry.name.startswith(".") or not entry.is_dir():
-            continue
-        path = Path(entry.path)
-        if entry.is_symlink() and not _inside(root, path):
-            warnings.append(LoadWarning(f"{entry.name}/", 1, 1, "not followed: the link points outside the estate"))
-            continue
-        if (path / SITE_FILE).is_file():
-            found.append((path, entry.name))
-        elif any(path.glob("*.yaml")):
-            first = sorted(path.glob("*.yaml"))[0].name
-            warnings.append(LoadWarning(f"{entry.name}/{first}", 1, 1,
-                                        f"not read: folder {entry.name}/ has no {SITE_FILE}, so it is not a site"))
-    if not found:
-        raise EstateError(f"{root}: no {SITE_FILE} here or in the folders below it")
-    return False, found, warnings
-
-
-def site_files(folder: Path, root: Path) -> tuple[list[Path], list[LoadWarning]]:
-    """The site's *.yaml files, site.yaml first, links out of the estate left out."""
-    files, warnings = [], []
-    for path in sorted(folder.glob("*.yaml")):
-        if path.name.startswith(".") or not path.is_file():
-            continue
-        if path.is_symlink() and not _inside(root, path):
-            warnings.append(LoadWarning(_rel(path, root), 1, 1, "not followed: the link points outside the estate"))
-            continue
-        files.append(path)
-    files.sort(key=lambda p: (p.name != SITE_FILE, p.name))
-    return files, warnings
-
-
-def _rel(path: Path, root: Path) -> str:
-    try:
-        return path.relative_to(root).as_posix()
-    except ValueError:
-        return path.as_posix()
-
-
-def read_file(path: Path, rel: str, cache: dict | None = None) -> FileResult:
-    """Read, parse, validate and build one file (cached by content hash)."""
+def read_file(path: Path, rel: str) -> FileResult:
+    """Read one file from disk, then as :func:`read_content`."""
     try:
         raw = path.read_bytes()
     except OSError as exc:
         return FileResult(rel, None, errors=[InputError(rel, 1, 1, f"cannot be read ({exc.strerror})")])
-    digest = sha256_hex(raw)
-    if cache is not None:
-        hit = cache.get(rel)
-        if hit is not None and hit.sha256 == digest:
-            return hit
-    result = _read_text(raw, rel, digest)
-    if cache is not None:
-        cache[rel] = result
-    return result
+    return read_content(raw, rel)
 
 
-def _read_text(raw: bytes, rel: str, digest: str) -> FileResult:
+def read_content(raw: bytes, rel: str, digest: str | None = None) -> FileResult:
+    """Decode, parse, validate and build one file's bytes (`digest`: their sha256, if known)."""
+    digest = digest or sha256_hex(raw)
     text, errors = yamlread.decode(raw, rel)
     result = FileResult(rel, digest)
     if text is not None:
@@ -233,22 +173,19 @@ def _broken_ids(doc: dict, bad: set[tuple]) -> set:
     return broken
 
 
-def load_site(folder: Path, rel_folder: str, root: Path, cache: dict | None = None) -> SiteLoad:
-    files, warnings = site_files(folder, root)
-    results = [read_file(path, _rel(path, root), cache) for path in files]
-    return assemble_site(folder.resolve().name, rel_folder, results, warnings)
-
+# -- assemble a folder's files into a site -----------------------------------------------------
 
 def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
                   warnings: list | None = None) -> SiteLoad:
     """A site from its files' results (site.yaml first): complete and valid, or its errors."""
     warnings = list(warnings or [])
     errors: list[InputError] = []
+    results = sorted(results, key=lambda r: (PurePosixPath(r.rel).name != SITE_FILE, r.rel))
     for r in results:
         errors.extend(r.errors)
         warnings.extend(r.warnings)
     hashes = {r.rel: r.sha256 for r in results}
-    if not results or Path(results[0].rel).name != SITE_FILE:
+    if not results or PurePosixPath(results[0].rel).name != SITE_FILE:
         where = f"{rel_folder}/{SITE_FILE}" if rel_folder else SITE_FILE
         errors.append(InputError(where, 1, 1, f"{SITE_FILE} is missing: the folder's other files are not read"))
         return SiteLoad(rel_folder, None, hashes, sort_problems(errors), sort_problems(warnings))
@@ -298,24 +235,71 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
     return SiteLoad(rel_folder, site, hashes, [], sort_problems(warnings))
 
 
-def load_estate(root: Path | str, cache: dict | None = None) -> Estate:
+# -- whole folders, whole estates ---------------------------------------------------------------
+
+def load_site(folder: Path, rel_folder: str, root: Path) -> SiteLoad:
+    """One site folder from disk, every stage."""
+    files, warnings = site_files(folder, root)
+    results = [read_file(path, relative(path, root)) for path in files]
+    return assemble_site(folder.resolve().name, rel_folder, results, warnings)
+
+
+def duplicate_site_id(site_id: str, first_file: str, other_file: str) -> InputError:
+    """The error of a site (its first file `first_file`) whose id another site (its first file
+    `other_file`) has taken: site ids are unique across an estate."""
+    return InputError(first_file, 1, 1, f"site id '{site_id}' is already used by {other_file}; "
+                                        "site ids must be unique")
+
+
+def load_estate(root: Path | str) -> Estate:
     """Load every site under `root`. Raises EstateError when the path itself is unusable."""
     root = Path(root)
     single, folders, warnings = site_folders(root)
     estate = Estate(root=root, single_site=single, warnings=list(warnings))
     for folder, rel in folders:
-        sl = load_site(folder, rel, root, cache)
-        estate.loads[rel] = sl
-        estate.errors.extend(sl.errors)
-        estate.warnings.extend(sl.warnings)
-        if sl.site is None:
+        loaded = load_site(folder, rel, root)
+        estate.loads[rel] = loaded
+        estate.errors.extend(loaded.errors)
+        estate.warnings.extend(loaded.warnings)
+        if loaded.site is None:
             continue
-        if sl.site.id in estate.sites:
-            other = estate.sites[sl.site.id]
-            estate.errors.append(InputError(sl.site.files[0], 1, 1, f"site id '{sl.site.id}' is already used by "
-                                                                   f"{other.files[0]}; site ids must be unique"))
+        if loaded.site.id in estate.sites:
+            estate.errors.append(duplicate_site_id(loaded.site.id, loaded.site.files[0],
+                                                   estate.sites[loaded.site.id].files[0]))
             continue
-        estate.sites[sl.site.id] = sl.site
+        estate.sites[loaded.site.id] = loaded.site
     estate.errors = sort_problems(estate.errors)
     estate.warnings = sort_problems(estate.warnings)
     return estate
+
+
+def site_folder_of(root: Path, site_id: str) -> str | None:
+    """The folder (relative; '' for a single site) of the site with this id, or None.
+
+    Only each candidate's site.yaml is read (by the safe reader, within its limits), the folder
+    named like the id first; a site.yaml that does not load counts under its folder's name (so
+    that the command can then list what is wrong with it).
+    """
+    single, folders, _ = site_folders(root)
+    if single:
+        return ""
+    by_name = {rel: folder for folder, rel in folders}
+    order = ([site_id] if site_id in by_name else []) + [rel for rel in by_name if rel != site_id]
+    for rel in order:
+        if (_declared_id(by_name[rel] / SITE_FILE) or rel) == site_id:
+            return rel
+    return None
+
+
+def _declared_id(path: Path) -> str | None:
+    """site.id as a site.yaml declares it, if it loads and says so."""
+    try:
+        raw = path.read_bytes()
+    except OSError:
+        return None
+    text, errors = yamlread.decode(raw, path.name)
+    if errors:
+        return None
+    doc, errors = yamlread.parse(text, path.name)
+    meta = doc.get("site") if not errors else None
+    return meta.get("id") if isinstance(meta, dict) else None

@@ -11,20 +11,13 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from tracker.history import History, NewRevision
+from tracker.history import History
 from tracker.loading.estate import sha256_hex
 from tracker.tracking.authors import Authors
 from tracker.tracking.diff import ADDED, Change, elements
-from tracker.tracking.state import EstateState, FileOutcome, seed_in_parallel
+from tracker.tracking.outcome import FileOutcome, to_revision
+from tracker.tracking.state import EstateState, seed_in_parallel
 from tracker.tracking.transitions import INPUT_ERROR, compare
-
-
-def to_revision(outcome: FileOutcome, source: str, author: str, note: str | None = None) -> NewRevision:
-    return NewRevision(
-        source=source, author=author, file=outcome.file, site=outcome.site_id, content=outcome.content,
-        content_hash=outcome.content_hash, valid=outcome.valid, note=note,
-        changes=[c.as_row() for c in outcome.changes], results=outcome.results, events=outcome.events,
-    )
 
 
 def _first_record(state: EstateState, contents: dict[str, bytes]):
@@ -33,10 +26,10 @@ def _first_record(state: EstateState, contents: dict[str, bytes]):
         folder = state.folder_of(rel)
         if folder is None:
             continue
-        ss = state.sites.get(folder)
+        site_state = state.sites.get(folder)
         raw = contents[rel]
         errors = state.errors.get(rel, [])
-        site = ss.site if ss is not None else None
+        site = site_state.site if site_state is not None else None
         out = FileOutcome(rel, folder, site.id if site else state.folder_name(folder), raw, sha256_hex(raw),
                           not errors, list(errors), first_record=True)
         if errors:
@@ -45,8 +38,8 @@ def _first_record(state: EstateState, contents: dict[str, bytes]):
         elif site is not None:
             out.changes = [Change(ref, ADDED) for ref in elements(site, rel)]
             if rel == site.files[0]:
-                out.events, out.results = compare(None, ss.result)
-                state._explain_events(out.events, ss.result)
+                out.events, out.results = compare(None, site_state.result)
+                state.explain_events(out.events, site_state.result)
         yield out
 
 
@@ -65,36 +58,51 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
         recorded = {f: v for f, v in recorded.items() if state.folder_of(f) in folders}
     jobs = jobs if jobs else (os.cpu_count() or 1)
     if not recorded:
-        contents = {rel: p.read_bytes() for rel, p in disk.items()}
-        by_folder: dict[str, list[str]] = {}
-        for rel in contents:
-            by_folder.setdefault(state.folder_of(rel), []).append(rel)
+        return state, _record_first(state, disk, history, authors, jobs, progress)
+    return state, _catch_up(state, disk, recorded, history, authors, jobs, progress)
+
+
+def _by_folder(state: EstateState, rels) -> dict[str, list[str]]:
+    out: dict[str, list[str]] = {}
+    for rel in rels:
+        out.setdefault(state.folder_of(rel), []).append(rel)
+    return out
+
+
+def _record_first(state: EstateState, disk: dict[str, Path], history: History, authors: Authors, jobs: int,
+                  progress) -> list[tuple]:
+    """A history with nothing in it: every file on disk recorded as found."""
+    contents = {rel: p.read_bytes() for rel, p in disk.items()}
+    by_folder = _by_folder(state, contents)
+    if progress is not None:
+        progress.total = len(by_folder)
+    for seed in seed_in_parallel(state, by_folder, jobs):
+        state.adopt(seed)
         if progress is not None:
-            progress.total = len(by_folder)
-        for fs in seed_in_parallel(state, by_folder, jobs):
-            state.adopt(fs)
-            if progress is not None:
-                progress.advance()
-        if len(contents) > 20:
-            authors.preload()
-        outcomes: list[FileOutcome] = []
+            progress.advance()
+    if len(contents) > 20:
+        authors.preload()
+    outcomes: list[FileOutcome] = []
 
-        def revisions():
-            # One revision at a time into one transaction: on a large estate the whole first
-            # record (every element added, every circuit's results) would not be held at once.
-            for o in _first_record(state, contents):
-                rev = to_revision(o, "startup", authors(o.file), "first record of this file")
-                o.content = None
-                if o.valid:   # what was written is not needed again: nothing to report yet
-                    o.changes, o.results, o.events = [], [], []
-                outcomes.append(o)
-                yield rev
-        recorded = history.record_many(revisions())
-        return state, list(zip(outcomes, recorded))
+    def revisions():
+        # One revision at a time into one transaction: on a large estate the whole first
+        # record (every element added, every circuit's results) would not be held at once.
+        for outcome in _first_record(state, contents):
+            revision = to_revision(outcome, "startup", authors(outcome.file), "first record of this file")
+            outcome.content = None
+            if outcome.valid:   # what was written is not needed again: nothing to report yet
+                outcome.changes, outcome.results, outcome.events = [], [], []
+            outcomes.append(outcome)
+            yield revision
+    recorded = history.record_many(revisions())
+    return list(zip(outcomes, recorded))
 
-    on_disk: dict[str, list[str]] = {}
-    for rel in disk:
-        on_disk.setdefault(state.folder_of(rel), []).append(rel)
+
+def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history: History, authors: Authors,
+              jobs: int, progress) -> list[tuple]:
+    """A history with revisions: every folder seeded from disk; those that differ from the
+    history are set to their recorded state and brought up to date file by file."""
+    on_disk = _by_folder(state, disk)
     known: dict[str, set[str]] = {}
     for rel in recorded:
         folder = state.folder_of(rel)
@@ -105,13 +113,13 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
         progress.total = len(on_disk)
     # Seed every folder from disk (in worker processes for a large estate); a folder whose files
     # all match the history is taken as it is — the common case, as fast as a plain check.
-    for fs in seed_in_parallel(state, on_disk, jobs):
-        rels = set(on_disk[fs.folder]) | known.get(fs.folder, set())
-        same = all(rel in recorded and recorded[rel][1] == fs.hashes.get(rel) for rel in rels)
-        if same and not fs.errors:
-            state.adopt(fs)
+    for seed in seed_in_parallel(state, on_disk, jobs):
+        rels = set(on_disk[seed.folder]) | known.get(seed.folder, set())
+        same = all(rel in recorded and recorded[rel][1] == seed.hashes.get(rel) for rel in rels)
+        if same and not seed.errors:
+            state.adopt(seed)
         else:
-            redo.append(fs.folder)
+            redo.append(seed.folder)
         if progress is not None:
             progress.advance()
     redo += [f for f in known if f not in on_disk]          # folders removed while nothing watched
@@ -119,18 +127,7 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
     for folder in redo:
         rels = set(on_disk.get(folder, ())) | known.get(folder, set())
         current = {rel: disk[rel].read_bytes() for rel in on_disk.get(folder, ())}
-        changed = [rel for rel in sorted(rels)
-                   if rel not in recorded or recorded[rel][1] != (sha256_hex(current[rel]) if rel in current else None)]
-        if not changed:   # unchanged, but a file does not load: keep its last good state in force
-            state.seed(current, last_good=history.latest_good_content)
-            continue
-        # Set the folder to its recorded state, then bring it up to date file by file.
-        old = {rel: history.latest_good_content(rel) for rel in rels if rel in recorded}
-        state.seed({rel: raw for rel, raw in old.items() if raw is not None}, last_good=history.latest_good_content)
-        for rel in rels:
-            if rel in recorded and recorded[rel][1] is not None:
-                state.hashes[rel] = recorded[rel][1]   # the history's latest, even a bad one
-        pending += [(rel, current.get(rel)) for rel in changed]
+        pending += _set_to_recorded(state, rels, current, recorded, history)
     done = []
     for rel, raw in pending:
         outcome = state.apply_bytes(rel, raw)
@@ -138,4 +135,21 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
             continue
         rec = history.record(to_revision(outcome, "startup", authors(rel), "changed while nothing was watching"))
         done.append((outcome, rec))
-    return state, done
+    return done
+
+
+def _set_to_recorded(state: EstateState, rels: set[str], current: dict[str, bytes], recorded: dict,
+                     history: History) -> list[tuple[str, bytes | None]]:
+    """Seed one folder as the history last saw it; the files to apply since then, with their
+    content now (None: removed)."""
+    changed = [rel for rel in sorted(rels)
+               if rel not in recorded or recorded[rel][1] != (sha256_hex(current[rel]) if rel in current else None)]
+    if not changed:   # unchanged, but a file does not load: keep its last good state in force
+        state.seed(current, last_good=history.latest_good_content)
+        return []
+    old = {rel: history.latest_good_content(rel) for rel in rels if rel in recorded}
+    state.seed({rel: raw for rel, raw in old.items() if raw is not None}, last_good=history.latest_good_content)
+    for rel in rels:
+        if rel in recorded and recorded[rel][1] is not None:
+            state.hashes[rel] = recorded[rel][1]   # the history's latest, even a bad one
+    return [(rel, current.get(rel)) for rel in changed]

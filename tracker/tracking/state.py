@@ -8,20 +8,24 @@ old ones to find the events.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
 
 import networkx as nx
 
-from tracker import graph as G
+from tracker import graph
 from tracker.checks.site import SiteResult, evaluate_site, explain_circuit
 from tracker.loading.errors import InputError
-from tracker.loading.estate import (SITE_FILE, STATE_DIR, EstateError, FileResult, _read_text, assemble_site,
-                                    _inside, sha256_hex, site_files, site_folders)
+from tracker.loading.estate import (SITE_FILE, STATE_DIR, FileResult, SiteLoad, assemble_site, duplicate_site_id,
+                                    estate_files, inside, read_content, sha256_hex)
 from tracker.model import Site
+from tracker.parallel import each_in_runs
 from tracker.tracking import impact
 from tracker.tracking.diff import ADDED, REMOVED, Change, diff_file, elements
+from tracker.tracking.outcome import FileOutcome
 from tracker.tracking.transitions import INPUT_ERROR, compare
+
+__all__ = ["EstateState", "FileOutcome", "FolderSeed", "SiteState", "seed_folder", "seed_in_parallel"]
 
 
 @dataclass
@@ -29,28 +33,6 @@ class SiteState:
     folder: str
     site: Site | None = None
     result: SiteResult | None = None
-
-
-@dataclass
-class FileOutcome:
-    """What one change of one file did."""
-
-    file: str
-    folder: str
-    site_id: str | None
-    content: bytes | None          # None: the file was deleted
-    content_hash: str | None
-    valid: bool
-    errors: list[InputError] = field(default_factory=list)
-    changes: list[Change] = field(default_factory=list)
-    events: list[dict] = field(default_factory=list)
-    results: list[tuple] = field(default_factory=list)
-    rechecked: int = 0             # circuits whose checks were re-run
-    first_record: bool = False     # the first record of the file (nothing before it to compare with)
-
-
-def _order(results: list[FileResult]) -> list[FileResult]:
-    return sorted(results, key=lambda r: (PurePosixPath(r.rel).name != SITE_FILE, r.rel))
 
 
 @dataclass
@@ -67,80 +49,69 @@ class FolderSeed:
 
 
 def seed_folder(folder: str, folder_name: str, files: dict[str, bytes], last_good=None) -> FolderSeed:
-    """A folder's files → its last good file results, its site and the site's results."""
-    good, hashes, errors, unloadable, now = {}, {}, {}, [], {}
-    for rel in sorted(files):
-        raw = files[rel]
-        digest = sha256_hex(raw)
-        hashes[rel] = digest
-        fr = _read_text(raw, rel, digest)
-        now[rel] = fr
-        if fr.errors:
-            errors[rel] = list(fr.errors)
+    """A folder's files → its last good file results, its site and the site's results.
+
+    `last_good(rel)` may give the last good bytes of a file that does not load now; the site is
+    then assembled with those in its place.
+    """
+    now = {rel: read_content(raw, rel) for rel, raw in sorted(files.items())}
+    hashes = {rel: result.sha256 for rel, result in now.items()}
+    bad = {rel: list(result.errors) for rel, result in now.items() if result.errors}
+    good, unloadable, errors = now, [], {}
+    if bad:
+        errors = _problems_by_file(folder_name, folder, now, bad)
+        good = {rel: result for rel, result in now.items() if rel not in bad}
+        for rel in bad:
             older = last_good(rel) if last_good else None
             if older is None:
                 unloadable.append(rel)
                 continue
-            fr = _read_text(older, rel, sha256_hex(older))
-            if fr.errors:
-                continue
-        good[rel] = fr
-    if errors:
-        errors = _all_problems(folder_name, folder, now, errors)
-    fs = FolderSeed(folder, good, hashes, errors, unloadable=tuple(unloadable))
-    sl = assemble_site(folder_name, folder, _order(list(good.values())))
-    if sl.site is None:
+            result = read_content(older, rel)
+            if not result.errors:
+                good[rel] = result
+    loaded = assemble_site(folder_name, folder, list(good.values()))
+    seed = FolderSeed(folder, good, hashes, errors, unloadable=tuple(unloadable))
+    if loaded.site is None:
         if not unloadable:   # (without a file that does not load, what remains says little)
-            for e in sl.errors:
-                fs.errors.setdefault(e.file, []).append(e)
-        return fs
-    fs.site, fs.result = sl.site, evaluate_site(sl.site, explain=False)
-    return fs
+            for e in loaded.errors:
+                seed.errors.setdefault(e.file, []).append(e)
+        return seed
+    seed.site, seed.result = loaded.site, evaluate_site(loaded.site, explain=False)
+    return seed
 
 
-def _all_problems(folder_name: str, folder: str, now: dict[str, FileResult],
-                  errors: dict[str, list]) -> dict[str, list]:
+def _problems_by_file(folder_name: str, folder: str, results: dict[str, FileResult],
+                      bad: dict[str, list]) -> dict[str, list]:
     """Every problem of a folder's files as they are now — what `check` reports: a file's own
     errors and, where every file parses, what assembling the site finds too (a reference that
     does not resolve, ...). Each is kept under its own file where that file is at fault, else
     under the first file at fault (whose fix is what clears them)."""
-    if not all(fr.parsed for fr in now.values()):
-        return errors
-    sl = assemble_site(folder_name, folder, _order(list(now.values())))
-    first = min(errors)
+    if not all(result.parsed for result in results.values()):
+        return bad
+    first = min(bad)
     out: dict[str, list] = {}
-    for e in sl.errors:
-        out.setdefault(e.file if e.file in errors else first, []).append(e)
-    return out or errors
+    for e in assemble_site(folder_name, folder, list(results.values())).errors:
+        out.setdefault(e.file if e.file in bad else first, []).append(e)
+    return out or bad
 
 
-def _seed_run(job) -> list[FolderSeed]:
-    """Worker process: seed a run of folders read from disk."""
-    root, run = job
-    out = []
-    for folder, folder_name, rels in run:
-        files = {}
-        for rel in rels:
-            try:
-                files[rel] = (root / rel).read_bytes()
-            except OSError:
-                continue
-        out.append(seed_folder(folder, folder_name, files))
-    return out
+def _seed_from_disk(root: Path, item: tuple) -> FolderSeed:
+    """Read one folder's files from disk and seed it (here or in a worker process)."""
+    folder, folder_name, rels = item
+    files = {}
+    for rel in rels:
+        try:
+            files[rel] = (root / rel).read_bytes()
+        except OSError:
+            continue
+    return seed_folder(folder, folder_name, files)
 
 
 def seed_in_parallel(state: "EstateState", folders: dict[str, list[str]], jobs: int):
     """FolderSeeds of the given folders (folder -> site files), in worker processes when there
     are enough folders for it to pay; yielded in the folders' order."""
     items = [(f, state.folder_name(f), sorted(rels)) for f, rels in sorted(folders.items())]
-    if jobs <= 1 or len(items) < 40:
-        yield from _seed_run((state.root, items))
-        return
-    from tracker.parallel import ordered_results
-    size = max(1, min(50, len(items) // (jobs * 8)))
-    runs = [(state.root, items[i:i + size]) for i in range(0, len(items), size)]
-    for batch in ordered_results(_seed_run, runs, jobs):
-        yield from batch
+    yield from each_in_runs(_seed_from_disk, items, state.root, jobs)
 
 
 class EstateState:
@@ -184,12 +155,13 @@ class EstateState:
     def explained(self, ref: str):
         """The results of one circuit with the working text of every check (the state keeps the
         verdicts and figures of all circuits, the text only of what is shown)."""
-        ss = self.site_by_id(ref.split("/", 1)[0])
-        if ss is None or ss.result is None or ref not in ss.result.circuits:
+        site_state = self.site_by_id(ref.split("/", 1)[0])
+        if site_state is None or site_state.result is None or ref not in site_state.result.circuits:
             return None
-        return explain_circuit(ss.result.circuits[ref])
+        return explain_circuit(site_state.result.circuits[ref])
 
-    def _explain_events(self, events: list[dict], result: SiteResult | None) -> None:
+    def explain_events(self, events: list[dict], result: SiteResult | None) -> None:
+        """Give each event the working text of its check (the state keeps no text)."""
         for e in events:
             r = result.circuits.get(e["ref"]) if result is not None else None
             if r is not None and not e.get("detail"):
@@ -197,32 +169,22 @@ class EstateState:
                 if full is not None:
                     e["detail"] = full.detail
 
-    def _place(self, ss: SiteState) -> None:
-        self.sites[ss.folder] = ss
-        old = self._id_of.get(ss.folder)
-        new = ss.site.id if ss.site is not None else None
-        if old is not None and old != new and self.by_id.get(old) == ss.folder:
+    def _place(self, site_state: SiteState) -> None:
+        folder = site_state.folder
+        self.sites[folder] = site_state
+        old = self._id_of.get(folder)
+        new = site_state.site.id if site_state.site is not None else None
+        if old is not None and old != new and self.by_id.get(old) == folder:
             del self.by_id[old]
         if new is not None:
-            self.by_id[new] = ss.folder
-            self._id_of[ss.folder] = new
+            self.by_id[new] = folder
+            self._id_of[folder] = new
         else:
-            self._id_of.pop(ss.folder, None)
+            self._id_of.pop(folder, None)
 
     def disk_files(self) -> dict[str, Path]:
-        """Every site file on disk now: rel -> path."""
-        out = {}
-        try:
-            single, folders, _ = site_folders(self.root)
-        except EstateError:
-            return out
-        for folder, _rel in folders:
-            files, _ = site_files(folder, self.root)   # the loader's rules: no links out of the estate
-            for path in files:
-                rel = path.relative_to(self.root).as_posix()
-                if self.folder_of(rel) is not None:
-                    out[rel] = path
-        return out
+        """Every site file on disk now (rel -> path), found by the loader's rules."""
+        return {rel: path for rel, path in estate_files(self.root).items() if self.folder_of(rel) is not None}
 
     # -- seeding without outcomes ----------------------------------------------------------
 
@@ -239,30 +201,28 @@ class EstateState:
         for folder, files in by_folder.items():
             self.adopt(seed_folder(folder, self.folder_name(folder), files, last_good))
 
-    def adopt(self, fs: "FolderSeed") -> None:
+    def adopt(self, seed: FolderSeed) -> None:
         """Take a folder seeded (here or in a worker process) into the state."""
-        self.hashes.update(fs.hashes)
-        for rel, errs in fs.errors.items():
-            self.errors.setdefault(rel, []).extend(errs)
-        self.good[fs.folder] = fs.good
-        ss = self.sites.setdefault(fs.folder, SiteState(fs.folder))
-        if fs.site is None:
+        self.hashes.update(seed.hashes)
+        for rel, errors in seed.errors.items():
+            self.errors.setdefault(rel, []).extend(errors)
+        self.good[seed.folder] = seed.good
+        site_state = self.sites.setdefault(seed.folder, SiteState(seed.folder))
+        if seed.site is None:
             return
-        if self._id_taken(fs.site.id, fs.folder):
-            self.errors.setdefault(fs.site.files[0], []).append(self._id_error(fs.site))
+        if self._id_taken(seed.site.id, seed.folder):
+            self.errors.setdefault(seed.site.files[0], []).append(self._id_error(seed.site))
             return
-        ss.site, ss.result = fs.site, fs.result
-        self._place(ss)
-        G.add_site(self.graph, fs.site)
+        site_state.site, site_state.result = seed.site, seed.result
+        self._place(site_state)
+        graph.add_site(self.graph, seed.site)
 
     def _id_taken(self, site_id: str, folder: str) -> bool:
         other = self.site_by_id(site_id)
         return other is not None and other.folder != folder
 
     def _id_error(self, site: Site) -> InputError:
-        other = self.site_by_id(site.id)
-        return InputError(site.files[0], 1, 1, f"site id '{site.id}' is already used by "
-                                               f"{other.site.files[0]}; site ids must be unique")
+        return duplicate_site_id(site.id, site.files[0], self.site_by_id(site.id).site.files[0])
 
     # -- applying changes -----------------------------------------------------------------
 
@@ -271,8 +231,8 @@ class EstateState:
         leads out of the estate is not followed: the file counts as absent."""
         path = self.root / rel
         try:
-            inside = not path.is_symlink() or _inside(self.root, path)
-            raw = path.read_bytes() if inside and path.is_file() else None
+            followed = not path.is_symlink() or inside(self.root, path)
+            raw = path.read_bytes() if followed and path.is_file() else None
         except OSError as exc:
             if rel not in self.hashes:
                 return None
@@ -292,31 +252,41 @@ class EstateState:
             self.hashes.pop(rel, None)
         else:
             self.hashes[rel] = digest
-        fr = _read_text(raw, rel, digest) if raw is not None else None
+        result = read_content(raw, rel, digest) if raw is not None else None
         good = dict(self.good.get(folder, {}))
-        if fr is not None and fr.errors:   # every problem at once, as `check` reports them
-            errors = _all_problems(self.folder_name(folder), folder, {**good, rel: fr}, {rel: fr.errors})[rel]
-            return self._input_error(rel, folder, raw, digest, errors)
+        if result is not None and result.errors:   # every problem at once, as `check` reports them
+            errors = _problems_by_file(self.folder_name(folder), folder, {**good, rel: result}, {rel: result.errors})
+            return self._input_error(rel, folder, raw, digest, errors[rel])
         self.errors.pop(rel, None)
-        if fr is None:
+        if result is None:
             good.pop(rel, None)
         else:
-            good[rel] = fr
-        ss = self.sites.get(folder) or SiteState(folder)
-        old_site, old_result = ss.site, ss.result
+            good[rel] = result
+        site_state = self.sites.get(folder) or SiteState(folder)
         if not good:
             self.good.pop(folder, None)
-            return self._remove_site(rel, folder, ss)
-        sl = assemble_site(self.folder_name(folder), folder, _order(list(good.values())))
-        if sl.site is not None and self._id_taken(sl.site.id, folder):
-            sl.errors, sl.site = [self._id_error(sl.site)], None
-        if sl.site is None:
-            if fr is None:   # a deleted file is gone whatever else is wrong
+            return self._remove_site(rel, folder, site_state)
+        loaded = self._assemble(folder, good)
+        if loaded.site is None:
+            if result is None:   # a deleted file is gone whatever else is wrong
                 self.good[folder] = good
-            out = self._input_error(rel, folder, raw, digest, sl.errors)
-            return out
-        new_site = sl.site
+            return self._input_error(rel, folder, raw, digest, loaded.errors)
         self.good[folder] = good
+        return self._take_site(rel, raw, digest, site_state, loaded.site)
+
+    def _assemble(self, folder: str, good: dict[str, FileResult]) -> SiteLoad:
+        """The folder's site from its files' last good results; a site id another folder holds
+        is an error."""
+        loaded = assemble_site(self.folder_name(folder), folder, list(good.values()))
+        if loaded.site is not None and self._id_taken(loaded.site.id, folder):
+            loaded.errors, loaded.site = [self._id_error(loaded.site)], None
+        return loaded
+
+    def _take_site(self, rel: str, raw: bytes | None, digest: str | None, site_state: SiteState,
+                   new_site: Site) -> FileOutcome:
+        """Put a folder's newly assembled site in place of its old one: diff, re-check what the
+        change can affect, compare the results."""
+        old_site, old_result = site_state.site, site_state.result
         if old_site is not None and old_site.id != new_site.id:
             changes = self._whole_site_changes(old_site, None) + self._whole_site_changes(None, new_site)
             old_site, old_result = None, None
@@ -326,21 +296,22 @@ class EstateState:
             changes = diff_file(old_site, new_site, rel)
         recheck = None
         if old_site is not None:
-            g_old = self._site_graph_copy(old_site.id)
-            G.remove_site(self.graph, old_site.id)
-            G.add_site(self.graph, new_site)
-            recheck = impact.affected_circuits(changes, new_site.id, g_old, self.graph)
+            graph_before = self._site_graph_copy(old_site.id)
+            graph.remove_site(self.graph, old_site.id)
+            graph.add_site(self.graph, new_site)
+            recheck = impact.affected_circuits(changes, new_site.id, graph_before, self.graph)
         else:
-            if ss.site is not None:
-                G.remove_site(self.graph, ss.site.id)
-            G.add_site(self.graph, new_site)
+            if site_state.site is not None:
+                graph.remove_site(self.graph, site_state.site.id)
+            graph.add_site(self.graph, new_site)
         new_result = evaluate_site(new_site, old_result, recheck, explain=False)
         events, results = compare(old_result, new_result)
-        self._explain_events(events, new_result)
-        ss.site, ss.result = new_site, new_result
-        self._place(ss)
+        self.explain_events(events, new_result)
+        site_state.site, site_state.result = new_site, new_result
+        self._place(site_state)
         rechecked = len(new_site.circuits) if recheck is None else len(recheck)
-        return FileOutcome(rel, folder, new_site.id, raw, digest, True, [], changes, events, results, rechecked)
+        return FileOutcome(rel, site_state.folder, new_site.id, raw, digest, True, [], changes, events, results,
+                           rechecked)
 
     def _site_graph_copy(self, site_id: str) -> nx.DiGraph:
         nodes = {site_id} | nx.descendants(self.graph, site_id) if site_id in self.graph else set()
@@ -354,12 +325,12 @@ class EstateState:
                 out.append(Change(ref, REMOVED if old is not None else ADDED))
         return out
 
-    def _remove_site(self, rel: str, folder: str, ss: SiteState) -> FileOutcome:
-        old_site, old_result = ss.site, ss.result
+    def _remove_site(self, rel: str, folder: str, site_state: SiteState) -> FileOutcome:
+        old_site, old_result = site_state.site, site_state.result
         changes = self._whole_site_changes(old_site, None) if old_site is not None else []
         events, results = compare(old_result, None)
         if old_site is not None:
-            G.remove_site(self.graph, old_site.id)
+            graph.remove_site(self.graph, old_site.id)
             self.by_id.pop(old_site.id, None)
         self._id_of.pop(folder, None)
         self.sites.pop(folder, None)
@@ -368,8 +339,8 @@ class EstateState:
 
     def _input_error(self, rel: str, folder: str | None, raw, digest, errors: list[InputError]) -> FileOutcome:
         self.errors[rel] = errors
-        ss = self.sites.get(folder) if folder is not None else None
-        site_id = ss.site.id if ss is not None and ss.site is not None else (
+        site_state = self.sites.get(folder) if folder is not None else None
+        site_id = site_state.site.id if site_state is not None and site_state.site is not None else (
             self.folder_name(folder) if folder is not None else None)
         text = "; ".join(str(e) for e in errors[:5]) + (f" (and {len(errors) - 5} more)" if len(errors) > 5 else "")
         event = {"ref": site_id or rel, "check": None, "transition": INPUT_ERROR, "detail": text}

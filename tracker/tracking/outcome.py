@@ -1,0 +1,35 @@
+"""What one change of one file did, and the history's revision that records it."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from tracker.history import NewRevision
+from tracker.loading.errors import InputError
+from tracker.tracking.diff import Change
+
+
+@dataclass
+class FileOutcome:
+    """What one change of one file did."""
+
+    file: str
+    folder: str
+    site_id: str | None
+    content: bytes | None          # None: the file was deleted
+    content_hash: str | None
+    valid: bool
+    errors: list[InputError] = field(default_factory=list)
+    changes: list[Change] = field(default_factory=list)
+    events: list[dict] = field(default_factory=list)
+    results: list[tuple] = field(default_factory=list)
+    rechecked: int = 0             # circuits whose checks were re-run
+    first_record: bool = False     # the first record of the file (nothing before it to compare with)
+
+
+def to_revision(outcome: FileOutcome, source: str, author: str, note: str | None = None) -> NewRevision:
+    """The revision recording `outcome` (`source`: startup, watch, replace)."""
+    return NewRevision(
+        source=source, author=author, file=outcome.file, site=outcome.site_id, content=outcome.content,
+        content_hash=outcome.content_hash, valid=outcome.valid, note=note,
+        changes=[c.as_row() for c in outcome.changes], results=outcome.results, events=outcome.events,
+    )
