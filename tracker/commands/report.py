@@ -17,7 +17,7 @@ from tracker.commands.history import DATE
 from tracker.output.terminal_text import clean
 from tracker.progress import Progress
 from tracker.loading import load_estate, load_site
-from tracker.loading.estate import EstateError, _inside, site_folders
+from tracker.loading.estate import EstateError, inside, site_folders
 
 FORMATS = ("html", "csv", "json")
 
@@ -72,7 +72,7 @@ class _Protected:
         if refuse:
             raise CommandError(f"-o {target}: that is a site file or the history (or one of its companion "
                                "files); give another file name")
-        if target.suffix.lower() in (".yaml", ".yml") and _inside(self.root, _where(target)):
+        if target.suffix.lower() in (".yaml", ".yml") and inside(self.root, _where(target)):
             raise CommandError(f"-o {target}: a .yaml file in the estate would be read as a site file; "
                                "give another file name")
 
