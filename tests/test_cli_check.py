@@ -111,6 +111,9 @@ def test_every_demo_circuit_shows_its_working(capsys):
             assert c["remedy"]["text"], c["ref"]
     failing = {x["id"] for c in doc["circuits"] for x in c["checks"] if x["status"] == "fail"}
     failing |= {x["id"] for b in doc["boards"] for x in b["checks"] if x["status"] == "fail"}
-    # the demo estate fails each check somewhere, on purpose (demo_site/README.md)
-    assert failing == {"design-current", "capacity", "voltage-drop", "fault-loop", "cpc-adiabatic",
+    # the demo estate fails each check somewhere, on purpose (demo_site/README.md) — but
+    # cpc-adiabatic: its demo failures were an MCB's 0.1 s bound taken as fact; read from the
+    # breakers' energy-limiting class, every demo cpc withstands its fault (tests/test_device_rules.py
+    # fails it where the published let-through exceeds k²S²)
+    assert failing == {"design-current", "capacity", "voltage-drop", "fault-loop",
                        "line-adiabatic", "breaking-capacity", "rcd", "demand"}

@@ -94,6 +94,7 @@ class Device:
     breaking_ka: float | None = None
     max_zs_ohm: float | None = None
     let_through_a2s: float | None = None
+    energy_class: int | None = None     # BS EN 60898-1 / 61009-1 energy-limiting class (1, 2, 3)
 
 
 @rebuilt_by_constructor
@@ -104,6 +105,9 @@ class Cable:
     length_m: float
     method: str
     cpc_mm2: float | None = None
+    cpc_route: str | None = None        # core | bunched | separate | armour (None: the kind's default)
+    armour_mm2: float | None = None     # steel armour cross-section (armour as the cpc)
+    armour_mohm_per_m: float | None = None   # armour resistance at 20 °C, maker's data
 
 
 @rebuilt_by_constructor
@@ -125,6 +129,7 @@ class Load:
     current_a: float | None = None
     power_factor: float = 1.0
     location: str | None = None
+    mobile: bool = False                # equipment moved about in use (411.3.3(b) when outdoors)
     phase_currents_a: tuple[float, float, float] | None = None   # L1, L2, L3 of an unbalanced three-phase load
     src: Src | None = field(default=None, compare=False)
 
@@ -147,6 +152,7 @@ class Circuit:
     phases: int = 1
     phase: str | None = None                 # L1 | L2 | L3: a single-phase circuit on a three-phase board
     triplen_harmonics_pct: float | None = None
+    concealed_in_wall: bool | None = None   # concealed < 50 mm without earthed protection (522.6.202)
     src: Src | None = field(default=None, compare=False)
 
     @property

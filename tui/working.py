@@ -276,15 +276,19 @@ def _fault_loop(r: CircuitResult, fl: CheckResult | None) -> tuple[Line, ...]:
 def _adiabatic(r: CircuitResult, cpc_c: CheckResult | None, line_c: CheckResult | None) -> tuple[Line, ...]:
     cpc, line = r.working.of(CpcAdiabaticWorking), r.working.of(LineAdiabaticWorking)
     if cpc is not None and cpc.cpc_min_mm2 is not None:
+        energy = (f"t {cpc.t_disconnect_s:g} s" if cpc.t_disconnect_s is not None
+                  else f"I²t {cpc.cpc_let_through_a2s:,.0f} A²s" if cpc.cpc_let_through_a2s is not None else "")
         out = [Line("cpc", f"needs {number(cpc.cpc_min_mm2, 'mm2')}, has {number(cpc_c.value, 'mm2')} "
-                           f"(I {number(cpc.earth_fault_a, 'A', 0)}, t {cpc.t_disconnect_s:g} s, "
+                           f"(I {number(cpc.earth_fault_a, 'A', 0)}, {energy}, "
                            f"k {cpc.k_cpc:.0f})", cpc_c.status)]
     else:
         out = [Line("cpc", _unknown(cpc_c), cpc_c.status if cpc_c else NOT_ASSESSED)]
     if line is not None and line.line_min_mm2 is not None:
+        at_board = (f", at the board {number(line.short_circuit_board_a, 'A', 0)}"
+                    if line.short_circuit_board_a is not None else "")
         out.append(Line("live conductors", f"need {number(line.line_min_mm2, 'mm2')}, have "
                                            f"{number(line_c.value, 'mm2')} (I {number(line.short_circuit_min_a, 'A', 0)}"
-                                           f", k {line.k_line:.0f})", line_c.status))
+                                           f"{at_board}, k {line.k_line:.0f})", line_c.status))
     else:
         out.append(Line("live conductors", _unknown(line_c), line_c.status if line_c else NOT_ASSESSED))
     return tuple(out)

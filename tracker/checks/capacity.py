@@ -122,14 +122,21 @@ def run(f: Facts, done) -> Outcome:
     return Outcome(result, CapacityWorking(**fac, iz_a=iz, basis=basis))
 
 
+def device_requirement_a(f: Facts) -> float:
+    """What Iz must reach for the device to protect the cable against overload: In, or In / 0.725
+    behind a semi-enclosed fuse (433.1.1(ii), 433.1.202)."""
+    if f.circuit.device.kind == "fuse-semi-enclosed":
+        return f.in_a / catalogue.factors()["semi_enclosed_fuse"]["factor"][0]
+    return f.in_a
+
+
 def _verdict(f: Facts, iz: float | None, how: str, adiabatic) -> tuple[CheckResult, str]:
     """(result, basis)."""
     c = f.circuit
     basis, required, why = DEVICE, f.in_a, f"In {f.in_a:g} A ({f.label}) — 433.1.1(ii)"
-    semi = c.device.kind == "fuse-semi-enclosed"
-    if semi:
+    if c.device.kind == "fuse-semi-enclosed":
         factor = catalogue.factors()["semi_enclosed_fuse"]["factor"][0]
-        required = f.in_a / factor
+        required = device_requirement_a(f)
         why = f"In / {factor:g} = {f.in_a:g} / {factor:g} = {required:.2f} A (semi-enclosed fuse, 433.1.202)"
     ring_ok, ring_why = rules.qualifies_as_ring(c)
     exempt_note = ""
@@ -145,6 +152,14 @@ def _verdict(f: Facts, iz: float | None, how: str, adiabatic) -> tuple[CheckResu
             exempt_note = f"; overload_exempt set but cannot be relied on: {problem} (433.3.1(ii))"
         elif f.ib_a is None:
             exempt_note = "; overload_exempt set but Ib is unknown"
+        elif iz is not None and iz >= required:
+            exempt_note = "; overload_exempt set but not needed: Iz reaches what the device requires"
+        elif iz is not None and iz < f.ib_a:
+            # Overloaded in normal service: no fault data can change that (433.1.1(i)).
+            detail = (f"Iz = {how} = {iz:.2f} A < Ib {f.ib_a:.2f} A: the cable, sized on Ib (433.3.1(ii)), "
+                      "cannot carry even the design current and is overloaded in normal service — 433.1.1"
+                      ) if f.explain else ""
+            return CheckResult(ID, FAIL, iz, f.ib_a, "A", ">=", detail, ib_limit_a=iz), DESIGN
         elif FAIL in (cpc.status, line.status):
             failing = " and ".join(r.id for r in adiabatic if r.status == FAIL)
             exempt_note = (f"; sizing on Ib (433.3.1(ii)) needs fault protection shown, but {failing} fails, "

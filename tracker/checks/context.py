@@ -126,7 +126,38 @@ class Facts:
     zln_far_ohm: float | None
     zln_why: str
     t_req_s: float
+    cpc_route: str = "core"      # core | bunched | separate | armour: where the cpc runs (sets its k)
     explain: bool = True         # False: statuses and figures only, no working text (remedy trials)
+
+
+# Where the cpc runs (BS 7671 Tables 54.2–54.4): a core of the cable; an insulated conductor bunched
+# with the live conductors in conduit or trunking; an insulated conductor on its own; the armour.
+CORE, BUNCHED, SEPARATE, ARMOUR = "core", "bunched", "separate", "armour"
+
+
+def cpc_route(circuit: Circuit) -> str:
+    """The cpc's route: `cable.cpc_route` where given, else the kind's usual one: twin-earth-70 a
+    core; singles-70 bunched with the live singles in the same conduit or trunking; swa-90 a core
+    of a three- or four-core cable where the site gives cpc_mm2, else the armour (a two-core SWA
+    has no copper cpc core)."""
+    cable = circuit.cable
+    if cable.cpc_route is not None:
+        return cable.cpc_route
+    if cable.kind == "singles-70":
+        return BUNCHED
+    if cable.kind == "swa-90" and cable.cpc_mm2 is None:
+        return ARMOUR
+    return CORE
+
+
+def _armour_cpc(cable) -> tuple[float | None, float | None, str]:
+    """(armour cross-section, armour resistance at 20 °C, why unknown) where the armour is the cpc.
+    No published armour resistances are held: the maker's figures come from the site file."""
+    missing = [key for key, v in (("cable.armour_mohm_per_m", cable.armour_mohm_per_m),
+                                  ("cable.armour_mm2", cable.armour_mm2)) if v is None]
+    why = ("the armour is the cpc (a two-core SWA has no copper cpc core; with a spare core as the cpc give "
+           "cable.cpc_mm2): give " + " and ".join(missing) + " from the maker's data") if missing else ""
+    return cable.armour_mm2, cable.armour_mohm_per_m, why
 
 
 def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
@@ -138,16 +169,20 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
     in_a = circuit.device.rating_a
     sockets = rules.has_kind(circuit, "socket-outlets")
     cable = circuit.cable
-    if cable.cpc_mm2 is not None:
-        cpc, cpc_how = cable.cpc_mm2, ""
-    else:
-        cpc = kind.default_cpc_mm2(cable.csa_mm2) if kind else None
-        cpc_how = (f"cpc {cpc:g} mm² assumed (standard construction of {kind.kind})" if cpc is not None
-                   else "cpc size not given (cable.cpc_mm2)")
+    route = cpc_route(circuit)
     r_line_v = catalogue.conductor_resistance(cable.csa_mm2)
-    r_cpc_v = catalogue.conductor_resistance(cpc) if cpc is not None else None
     r_line = r_line_v.value if r_line_v else None
-    r_cpc = r_cpc_v.value if r_cpc_v else None
+    if route == ARMOUR:
+        cpc, r_cpc, cpc_how = _armour_cpc(cable)
+    else:
+        if cable.cpc_mm2 is not None:
+            cpc, cpc_how = cable.cpc_mm2, ""
+        else:
+            cpc = kind.default_cpc_mm2(cable.csa_mm2) if kind else None
+            cpc_how = (f"cpc {cpc:g} mm² assumed (standard construction of {kind.kind})" if cpc is not None
+                       else "cpc size not given (cable.cpc_mm2)")
+        r_cpc_v = catalogue.conductor_resistance(cpc) if cpc is not None else None
+        r_cpc = r_cpc_v.value if r_cpc_v else None
     multiplier = kind.resistance_multiplier if kind else impedance.resistance_multiplier(70.0)
     loop = zs = zln = None
     zs_why = zln_why = ""
@@ -156,7 +191,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
     if ctx.z_ext_ohm is None:
         zs_why = ctx.unknown_z or "the loop impedance at the board is unknown"
     elif loop is None:
-        zs_why = cpc_how if cpc is None else "no conductor resistance held for that size"
+        zs_why = cpc_how if (cpc is None or r_cpc is None) and cpc_how else "no conductor resistance held for that size"
     else:
         zs = ctx.z_ext_ohm + loop
     if ctx.z_ln_ohm is None:
@@ -171,7 +206,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         circuit=circuit, ctx=ctx, kind=kind, device_info=info, label=device_label(circuit.device),
         in_a=in_a, ib_a=ib, ib_how=how, ib_vd_a=ib if ib is not None else in_a,
         sockets=sockets, lighting=rules.has_kind(circuit, "lighting"), distribution=circuit.is_submain,
-        rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how,
+        rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how, cpc_route=route,
         r_line_mohm_per_m=r_line, r_cpc_mohm_per_m=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
         zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain,
     )

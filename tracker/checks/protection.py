@@ -1,14 +1,38 @@
-"""The protective device's side of the checks: maximum Zs and disconnection-time bounds."""
+"""The protective device's side of the checks: maximum Zs, disconnection-time bounds and the
+energy let through to a fault.
+
+One meaning for a bound (BS 7671:2018 434.5.2, 543.1.3): a time or energy known only as an upper
+bound shows a conductor adequate when the conductor withstands it; when it does not, nothing is
+shown either way (`not-assessed`, naming the data that would settle it). A conductor is shown
+inadequate only where the published let-through energy of the device (its energy-limiting class
+at a prospective current at or below the fault's, or the maker's figure) already exceeds k²S².
+"""
 from __future__ import annotations
 
+import math
+from typing import NamedTuple
+
+from tracker import catalogue
 from tracker.checks.context import Facts
-from tracker.engine import disconnection
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS
+from tracker.engine import disconnection, let_through
 
 BREAKERS = ("mcb", "rcbo")
+# U0 of the maximum-Zs tables of BS 7671:2018 Tables 41.2–41.4.
+TABLE_U0_V = 230.0
+_WEAK = {"recalled": 3, "derived": 2, "code": 1, "seen": 0, "site": 0, "": 0}
 
 
 def _table_key(t_s: float) -> str:
     return f"{t_s:g}"
+
+
+def _note(status: str) -> str:
+    return f" [{status}]" if status in ("recalled", "derived", "code") else ""
+
+
+def _weakest(*statuses: str) -> str:
+    return max(statuses, key=lambda s: _WEAK.get(s, 0)) if statuses else ""
 
 
 def instantaneous_ia_a(f: Facts) -> float | None:
@@ -20,61 +44,106 @@ def instantaneous_ia_a(f: Facts) -> float | None:
     return multiple[0] * dev.rating_a if multiple else None
 
 
+def _breaker_multiple(f: Facts, t_s: float) -> tuple[float, str] | None:
+    """(multiple of In giving disconnection within t, status) for an MCB/RCBO: the instantaneous
+    multiple for t under 5 s, the 5 s multiple of Table 41.3 (type D: 10 In) for 5 s."""
+    dev = f.circuit.device
+    table = "five_s_multiple" if t_s >= 5.0 else "instantaneous_multiple"
+    entry = (f.device_info or {}).get(table, {}).get(dev.curve)
+    return (float(entry[0]), str(entry[1])) if entry else None
+
+
+def _fuse_row(f: Facts, t_s: float) -> tuple[float, str] | None:
+    """(tabulated max Zs at 230 V, status) of the fuse's rating for time t, or None."""
+    tables = (f.device_info or {}).get("max_zs_ohm") or {}
+    row = tables.get(_table_key(t_s)) or {}
+    rating = f.circuit.device.rating_a
+    entry = row.get(int(rating)) if float(rating).is_integer() else None
+    return (float(entry[0]), str(entry[1])) if entry else None
+
+
 def max_zs_ohm(f: Facts, t_s: float | None = None) -> tuple[float | None, str, str]:
     """(maximum Zs for the overcurrent device, how it was found, data status) for time t."""
     t_s = f.t_req_s if t_s is None else t_s
     dev = f.circuit.device
+    u0 = f.ctx.supply.u0_v
     if dev.max_zs_ohm is not None:
         return dev.max_zs_ohm, f"max Zs {dev.max_zs_ohm:g} Ω from the maker's data (site file)", "site"
-    ia = instantaneous_ia_a(f)
-    if ia is not None:
-        u0 = f.ctx.supply.u0_v
+    if dev.kind in BREAKERS:
+        found = _breaker_multiple(f, t_s)
+        if found is None:
+            return None, f"no tripping multiple held for a {f.label}", ""
+        multiple, status = found
+        ia = multiple * dev.rating_a
         value = disconnection.max_zs_from_ia_ohm(u0, ia)
-        multiple = ia / dev.rating_a
+        within = f"within {t_s:g} s" if t_s >= 5.0 else "instantaneous"
         return value, (f"max Zs = Cmin·U0/Ia = 0.95 × {u0:g} / {ia:g} = {value:.2f} Ω "
-                       f"(Ia = {multiple:g} In, type {dev.curve}; BS 7671 Table 41.3)"), "seen"
-    tables = (f.device_info or {}).get("max_zs_ohm")
-    if not tables:
-        return None, (f"no maximum Zs held for a {f.label} (give device.max_zs_ohm from the maker's data)"), ""
-    row = tables.get(_table_key(t_s))
+                       f"(Ia = {multiple:g} In, type {dev.curve} {within}; BS 7671 Table 41.3){_note(status)}"), status
+    row = _fuse_row(f, t_s)
     if row is None:
-        return None, f"no maximum Zs held for a {f.label} at {t_s:g} s", ""
-    entry = row.get(int(dev.rating_a)) if float(dev.rating_a).is_integer() else None
-    if entry is None:
-        return None, f"no maximum Zs held for a {f.label} at {t_s:g} s", ""
-    value, status = float(entry[0]), entry[1]
+        return None, (f"no maximum Zs held for a {f.label} at {t_s:g} s (give device.max_zs_ohm from the "
+                      "maker's data)"), ""
+    tabulated, status = row
+    value = tabulated * u0 / TABLE_U0_V
     table = "41.2" if t_s < 1 else "41.4"
-    note = " — derived value, confirm against the current table" if status != "seen" else ""
-    return value, f"max Zs {value:g} Ω for {t_s:g} s (BS 7671 Table {table}{note})", status
+    return value, f"max Zs {value:.2f} Ω for {t_s:g} s (BS 7671 Table {table}){_note(status)}", status
 
 
-def overcurrent_time_s(f: Facts, loop_ohm: float) -> tuple[float | None, str, bool]:
-    """(time, how, conclusive) for the overcurrent device and a fault through `loop_ohm`.
-
-    `conclusive`: the time is the one common practice takes as the device's (an MCB/RCBO in its
-    instantaneous region: 0.1 s, the limit its product standard sets). A time read off a
-    maximum-Zs table point (a fuse, or the maker's max Zs) is only an upper bound: a check that
-    fails on it has not been shown to fail.
-    """
+def time_points(f: Facts) -> list[tuple[float, float, str, str]]:
+    """The device's time-current points [(Ia A, t s, status, source)]: at Ia or more it operates
+    within t. From the instantaneous band of a breaker (BS EN 60898-1 Table 7), Table 41.3's 5 s
+    multiple, a fuse's maximum-Zs tables read back as Ia = Cmin·230/Zs (Tables 41.2/41.4), a
+    fuse's time-current zones (BS 1362), and the maker's max Zs (for the required time)."""
     dev = f.circuit.device
+    info = f.device_info or {}
+    points: list[tuple[float, float, str, str]] = []
+    if dev.max_zs_ohm is not None:
+        ia = disconnection.ia_from_max_zs_a(f.ctx.supply.u0_v, dev.max_zs_ohm)
+        points.append((ia, f.t_req_s, "site", "within the maker's max Zs"))
+    if dev.kind in BREAKERS:
+        for t_s in (info.get("instantaneous_time_s", 0.1), 5.0):
+            found = _breaker_multiple(f, t_s)
+            if found:
+                points.append((found[0] * dev.rating_a, float(t_s), found[1],
+                               f"{found[0]:g} In, type {dev.curve}"))
+        return points
+    for t_s in (0.4, 5.0):
+        row = _fuse_row(f, t_s)
+        if row:
+            ia = disconnection.ia_from_max_zs_a(TABLE_U0_V, row[0])
+            points.append((ia, t_s, row[1], f"BS 7671 Table {'41.2' if t_s < 1 else '41.4'}"))
+    rating = dev.rating_a
+    zones = info.get("time_current", {}).get(int(rating)) if float(rating).is_integer() else None
+    for current, t_s, status in zones or ():
+        points.append((float(current), float(t_s), str(status), f"{info.get('standard', '')} time-current zone"))
+    return points
+
+
+def overcurrent_time_s(f: Facts, loop_ohm: float) -> tuple[float | None, str, str]:
+    """(time bound, how, data status) for the overcurrent device and a fault through `loop_ohm`.
+
+    Every time here is an upper bound: the device operates within it. The current is taken at
+    Cmin (0.95 U0 / Z: the lowest the supply may give), so the bound holds at any voltage.
+    None with the reason, in words that state only what is known, where no point is reached.
+    """
     u0 = f.ctx.supply.u0_v
-    ia = instantaneous_ia_a(f)
-    if ia is not None:
-        if disconnection.CMIN * u0 / loop_ohm >= ia:
-            t = f.device_info["instantaneous_time_s"]
-            return t, f"t ≤ {t:g} s ({f.label} in its instantaneous region; common practice)", True
-    if dev.max_zs_ohm is not None and loop_ohm <= dev.max_zs_ohm:
-        return f.t_req_s, f"t ≤ {f.t_req_s:g} s (loop within the maker's max Zs; an upper bound)", False
-    if ia is not None:
-        return None, (f"fault current {disconnection.CMIN * u0 / loop_ohm:.0f} A (at Cmin) is below Ia {ia:g} A "
-                      f"of the {f.label}: time-current data needed"), False
-    for t in (0.4, 5.0):
-        limit, _, _ = max_zs_ohm(f, t)
-        if limit is not None and loop_ohm <= limit:
-            return t, f"t ≤ {t:g} s (loop within the {t:g} s maximum Zs of the {f.label}; an upper bound)", False
-    if not (f.device_info or {}).get("max_zs_ohm"):
-        return None, f"no time-current data held for a {f.label}", False
-    return None, f"the {f.label} does not operate within 5 s at this current: time-current data needed", False
+    current = disconnection.CMIN * u0 / loop_ohm
+    points = time_points(f)
+    reached = [p for p in points if current >= p[0]]
+    if reached:
+        ia, t, status, source = min(reached, key=lambda p: p[1])
+        if status == "site":
+            return t, f"t ≤ {t:g} s (loop within the maker's max Zs; an upper bound)", status
+        region = " in its instantaneous region" if f.circuit.device.kind in BREAKERS and t < 1 else ""
+        return t, (f"t ≤ {t:g} s ({f.label}{region} at {current:.0f} A (at Cmin) ≥ {ia:.0f} A, {source}; "
+                   f"an upper bound){_note(status)}"), status
+    if points:
+        lowest = min(points, key=lambda p: p[0])
+        return None, (f"fault current {current:.0f} A (at Cmin) is below {lowest[0]:.0f} A, the least current held "
+                      f"to operate the {f.label} within {lowest[1]:g} s ({lowest[3]}): its time-current data is "
+                      "needed"), ""
+    return None, (f"no time-current value held for a {f.label} (give device.max_zs_ohm or "
+                  "device.let_through_a2s from the maker's data)"), ""
 
 
 def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
@@ -89,21 +158,120 @@ def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
     return None, "", False
 
 
-def bound_only(check_id: str, working: str, what: str, value: float, limit: float):
-    """The verdict where a check fails only on an upper bound of the disconnection time: not shown
-    adequate, not shown inadequate either — not assessed."""
-    from tracker.checks.result import not_assessed
-    return not_assessed(check_id, "mm2", ">=", f"{working}; with only an upper bound of the disconnection time "
-                                               f"{what} cannot be shown adequate or inadequate: the device's "
-                                               "time-current or let-through data is needed",
-                        value=value, limit=limit)
+class FaultEnergy(NamedTuple):
+    """The energy I²t let through to a fault, as far as the data tells it."""
+
+    current_a: float
+    upper_a2s: float | None   # the let-through is at most this (None: no bound known)
+    lower_a2s: float | None   # the published let-through at a current at or below this one
+    how: str                  # where the figures come from, in words
+    status: str               # the weakest status of the data used
+    t_s: float | None = None  # the time bound, where the upper figure is I² t
 
 
-def fault_energy_a2s(f: Facts, current_a: float, t_s: float, by_overcurrent_device: bool) -> tuple[float, str]:
-    """Energy I²t let through to the fault: I² × the time bound, or, for an MCB/RCBO in its
-    instantaneous region, the maker's let-through energy where the site file gives it."""
-    energy = current_a ** 2 * t_s
-    lt = f.circuit.device.let_through_a2s
-    if by_overcurrent_device and lt is not None and instantaneous_ia_a(f) is not None and lt < energy:
-        return lt, f"I²t {lt:,.0f} A²s (maker's let-through energy, site file)"
-    return energy, ""
+def _class_energy(f: Facts, current_a: float) -> FaultEnergy | None:
+    """The let-through of a type B or C breaker's energy-limiting class at a prospective current
+    (BS EN 60898-1 / 61009-1 Annex ZA; class 3 unless device.energy_class says otherwise)."""
+    dev = f.circuit.device
+    table = catalogue.let_through_table()
+    cls = dev.energy_class if dev.energy_class is not None else int(table["default_class"])
+    found = catalogue.energy_class_rows(cls, dev.rating_a, dev.curve)
+    if found is None:
+        return None
+    rows, values, band = found
+    ia = instantaneous_ia_a(f)
+    lt = let_through.class_let_through(current_a, rows, [v.value for v in values], ia,
+                                       float((f.device_info or {}).get("instantaneous_time_s", 0.1)))
+    by_row = {r: v for r, v in zip(rows, values)}
+    assumed = "" if dev.energy_class is not None else ", assumed"
+    what = f"class {cls}{assumed}, type {dev.curve} up to {band:g} A"
+    parts, statuses = [], []
+    if lt.upper_a2s is not None:
+        if lt.upper_row_a is None:
+            statuses.append("derived")
+            parts.append(f"at most {lt.upper_a2s:,.0f} A²s (line from Ia {ia:g} A at 0.1 s to the "
+                         f"{rows[0] / 1000:g} kA row {values[0].value:,.0f} A²s) [derived]")
+        else:
+            v = by_row[lt.upper_row_a]
+            statuses.append(v.status)
+            parts.append(f"at most {lt.upper_a2s:,.0f} A²s ({lt.upper_row_a / 1000:g} kA row){_note(v.status)}")
+    if lt.lower_a2s is not None and lt.lower_row_a != lt.upper_row_a:
+        v = by_row[lt.lower_row_a]
+        statuses.append(v.status)
+        parts.append(f"at least the {lt.lower_a2s:,.0f} A²s of the {lt.lower_row_a / 1000:g} kA row"
+                     f"{_note(v.status)}")
+    if lt.upper_a2s is None:
+        parts.append(f"beyond the table's {rows[-1] / 1000:g} kA")
+    how = (f"let-through of the {f.label} at {current_a:.0f} A ({what}; BS EN 60898-1 Annex ZA): "
+           + ", ".join(parts))
+    return FaultEnergy(current_a, lt.upper_a2s, lt.lower_a2s, how, _weakest(*statuses))
+
+
+def fault_energy(f: Facts, current_a: float, loop_ohm: float, rcd: bool = False) -> FaultEnergy:
+    """What is known of the energy let through to a fault of `current_a` through `loop_ohm`.
+
+    The upper figure is the least of: the maker's let-through (device.let_through_a2s), the
+    energy-limiting class's (an MCB/RCBO in its instantaneous region), I² × the overcurrent
+    device's time bound and, for an earth fault (`rcd`), I² × the RCD's break time. The lower
+    figure is the maker's let-through, or the class's at the row at or below the current.
+    """
+    dev = f.circuit.device
+    options: list[FaultEnergy] = []
+    lower, lower_how = None, ""
+    t, t_how, t_status = overcurrent_time_s(f, loop_ohm)
+    if dev.let_through_a2s is not None:
+        lt = dev.let_through_a2s
+        options.append(FaultEnergy(current_a, lt, lt, f"I²t {lt:,.0f} A²s (maker's let-through energy, site file)",
+                                   "site"))
+        lower, lower_how = lt, options[-1].how
+    elif dev.kind in BREAKERS and t is not None and t < 1.0:
+        cls = _class_energy(f, current_a)
+        if cls is not None:
+            if cls.upper_a2s is not None:
+                options.append(cls)
+            lower, lower_how = cls.lower_a2s, cls.how
+    if t is not None:
+        options.append(FaultEnergy(current_a, current_a ** 2 * t, None, f"I²t ≤ {current_a:.0f}² × {t:g} s; {t_how}",
+                                   t_status, t))
+    if rcd:
+        t_rcd, rcd_how, _ = rcd_time_s(f, current_a)
+        if t_rcd is not None:
+            options.append(FaultEnergy(current_a, current_a ** 2 * t_rcd, None,
+                                       f"I²t ≤ {current_a:.0f}² × {t_rcd:g} s; {rcd_how}", "recalled", t_rcd))
+    if not options:
+        why = lower_how or t_how
+        return FaultEnergy(current_a, None, lower, why, "")
+    best = min(options, key=lambda o: o.upper_a2s)
+    how = best.how
+    if lower is not None and lower_how and lower_how != best.how:
+        how = f"{how}; {lower_how}"
+    return FaultEnergy(current_a, best.upper_a2s, lower, how, best.status, best.t_s)
+
+
+class Withstand(NamedTuple):
+    status: str                 # pass | fail | not-assessed
+    min_mm2: float | None       # the size the deciding figure needs: √(I²t)/k
+    energy: FaultEnergy
+    k: float
+
+
+def withstand(energy: FaultEnergy, k: float, csa_mm2: float) -> Withstand:
+    """The conductor against the energy: pass where the upper figure is within k²S²; fail where
+    even the lower (published) figure exceeds it; otherwise not assessed (434.5.2, 543.1.3)."""
+    limit = let_through.withstand_a2s(k, csa_mm2)
+    if energy.upper_a2s is not None and energy.upper_a2s <= limit:
+        return Withstand(PASS, math.sqrt(energy.upper_a2s) / k, energy, k)
+    if energy.lower_a2s is not None and energy.lower_a2s > limit:
+        return Withstand(FAIL, math.sqrt(energy.lower_a2s) / k, energy, k)
+    need = math.sqrt(energy.upper_a2s) / k if energy.upper_a2s is not None else None
+    return Withstand(NOT_ASSESSED, need, energy, k)
+
+
+def undecided_reason(w: Withstand, what: str, label: str) -> str:
+    """Why a withstand is not assessed, and what would settle it."""
+    e = w.energy
+    if e.upper_a2s is None:
+        return (f"{e.how}; no upper figure for the energy at {e.current_a:.0f} A, so {what} cannot be shown "
+                f"adequate: the {label}'s let-through I²t at {e.current_a:.0f} A (device.let_through_a2s) is needed")
+    return (f"with only an upper figure for the energy {what} cannot be shown adequate or inadequate: the "
+            f"{label}'s let-through I²t at {e.current_a:.0f} A (device.let_through_a2s, maker's data) would settle it")

@@ -1,5 +1,7 @@
 """`rcd`: additional protection by a 30 mA RCD where the rules ask for it (BS 7671:2018
-411.3.3, 701.411.3.3, 722.531.3.101; 411.3.4 advised)."""
+411.3.3 — socket-outlets, mobile equipment used outdoors —, 522.6.202/203 cables concealed in
+walls, 701.411.3.3, 722.531.3.101; 411.3.4 advised, and 522.6.202 advised where it is not known
+whether the cables are concealed)."""
 from __future__ import annotations
 
 from tracker.checks import rules
@@ -39,7 +41,8 @@ def _verdict(f: Facts) -> CheckResult:
                                                                   f"required: {why}")
         return CheckResult(ID, FAIL, have, limit, "mA", "<=", f"{what}, but a 30 mA RCD is required: {why}")
     if advised and not covered:
-        return CheckResult(ID, WARN, have, limit, "mA", "<=", f"{what}; a 30 mA RCD is advised: {advised[0]}")
+        return CheckResult(ID, WARN, have, limit, "mA", "<=", f"{what}; a 30 mA RCD is advised: "
+                                                              + "; ".join(advised))
     if f.distribution:
         return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what}; a distribution circuit needs no "
                                                               "additional protection (411.3.3 is for final circuits)")

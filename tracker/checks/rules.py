@@ -17,9 +17,19 @@ ADDITIONAL_PROTECTION_MA = 30.0
 SOCKET_RCD_MAX_RATING_A = 32.0   # 411.3.3(a): socket-outlets rated up to 32 A
 OUTDOOR_RCD_MAX_RATING_A = 32.0  # 411.3.3(b): mobile equipment for use outdoors up to 32 A
 
+# 522.6.202/203: cables concealed in a wall or partition at less than 50 mm from its surface need
+# 30 mA RCD protection unless they have an earthed metallic covering (the armour of an armoured
+# cable), are in earthed conduit or trunking, or are mechanically protected.
+EARTHED_COVERING_KINDS = frozenset({"swa-90"})
+
 # Loads that a designer cannot rely on being unable to overload (433.3.1(ii) needs a load that
 # is not likely to carry overload current): socket-outlets and motors (which can stall).
 OVERLOADABLE_KINDS = frozenset({"socket-outlets", "motor"})
+
+# Voltage drop of a conductor running below its maximum temperature may be corrected by Ct
+# (Appendix 4 section 6.1); for conductors up to 16 mm² the drop is all resistive.
+VOLTAGE_DROP_AT_CONDUCTOR_TEMPERATURE = True
+CT_MAX_CSA_MM2 = 16.0
 
 # RA above this may not be stable (BS 7671:2018 Table 41.5, note 2).
 TT_STABLE_RA_OHM = 200.0
@@ -67,11 +77,27 @@ def rcd_requirements(circuit: Circuit, domestic: bool = True) -> tuple[list[str]
         required.append("411.3.3(a) socket-outlets rated up to 32 A")
     if "bathroom" in places or "shower" in kinds:
         required.append("701.411.3.3 circuits of a location containing a bath or shower")
-    if "outdoor" in places and rating <= OUTDOOR_RCD_MAX_RATING_A:
-        required.append("411.3.3(b) equipment for use outdoors up to 32 A")
+    if rating <= OUTDOOR_RCD_MAX_RATING_A and any(ld.location == "outdoor" and (ld.mobile or ld.kind == "socket-outlets")
+                                                  for ld in circuit.loads):
+        required.append("411.3.3(b) mobile equipment for use outdoors up to 32 A")
+    concealed = concealed_cable_rule(circuit)
+    if concealed is not None:
+        (required if circuit.concealed_in_wall else advised).append(concealed)
     if "ev-charger" in kinds:
         required.append("722.531.3.101 each charging point")
     if domestic and "lighting" in kinds and not required:
         advised.append("411.3.4 luminaires of domestic premises (an improvement for an installation "
                        "designed to an earlier edition)")
     return required, advised
+
+
+def concealed_cable_rule(circuit: Circuit) -> str | None:
+    """The 522.6.202/203 text where it can apply to the circuit (required when
+    `concealed_in_wall` is true, to be found out when it is not given), else None."""
+    if circuit.concealed_in_wall is False or circuit.cable.kind in EARTHED_COVERING_KINDS:
+        return None
+    if circuit.concealed_in_wall:
+        return ("522.6.202 cables concealed in a wall or partition at less than 50 mm without earthed "
+                "covering or mechanical protection")
+    return ("522.6.202 if its cables are concealed in a wall or partition at less than 50 mm without earthed "
+            "covering or mechanical protection (set concealed_in_wall to say whether they are)")

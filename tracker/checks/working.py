@@ -41,7 +41,7 @@ def record(cls):
 
 # JSON rounding of a working figure follows its unit, read from the key's suffix (as the keys
 # carry their unit): the same digits as the check results'.
-_SUFFIX_UNITS = {"_a": "A", "_v": "V", "_ohm": "ohm", "_mm2": "mm2", "_ka": "kA", "_pct": "%", "_s": "s"}
+_SUFFIX_UNITS = {"_a2s": "A2s", "_a": "A", "_v": "V", "_ohm": "ohm", "_mm2": "mm2", "_ka": "kA", "_pct": "%", "_s": "s"}
 
 
 @cache

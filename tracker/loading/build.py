@@ -113,6 +113,7 @@ def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
         breaking_ka=_num(dev, "breaking_ka", path + ("device",), p),
         max_zs_ohm=_num(dev, "max_zs_ohm", path + ("device",), p),
         let_through_a2s=_num(dev, "let_through_a2s", path + ("device",), p),
+        energy_class=None if dev.get("energy_class") is None else int(dev["energy_class"]),
     )
     cable = Cable(
         kind=cab["kind"],
@@ -120,6 +121,9 @@ def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
         length_m=_num(cab, "length_m", path + ("cable",), p),
         method=_text(cab["method"]),
         cpc_mm2=_num(cab, "cpc_mm2", path + ("cable",), p),
+        cpc_route=cab.get("cpc_route"),
+        armour_mm2=_num(cab, "armour_mm2", path + ("cable",), p),
+        armour_mohm_per_m=_num(cab, "armour_mohm_per_m", path + ("cable",), p),
     )
     environment = Environment(
         ambient_c=_num(env, "ambient_c", path + ("environment",), p),
@@ -145,6 +149,7 @@ def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
         phases=int(d.get("phases", 1)),
         phase=d.get("phase"),
         triplen_harmonics_pct=_num(d, "triplen_harmonics_pct", path, p),
+        concealed_in_wall=None if d.get("concealed_in_wall") is None else bool(d["concealed_in_wall"]),
         src=Src(p.file, path),
     )
 
@@ -160,6 +165,7 @@ def build_load(d: dict, circuit_index: int, index: int, p: Problems) -> Load:
         current_a=_num(d, "current_a", path, p),
         power_factor=_num(d, "power_factor", path, p, 1.0),
         location=d.get("location"),
+        mobile=bool(d.get("mobile", False)),
         phase_currents_a=_phase_currents(d, path, p),
         src=Src(p.file, path),
     )

@@ -72,6 +72,10 @@ def _check_circuits(circuits: list[Circuit], boards: dict[str, Board], broken):
             title = catalogue.device_info(c.device.kind)["title"]
             yield _err(c, ("device", "rating_a"), f"{_fmt_rating(c.device.rating_a)} A is not a standard rating "
                                                   f"({title}: {', '.join(map(_fmt_rating, ratings))})")
+        yield from _check_cpc_route(c)
+        if c.device.energy_class is not None and c.device.kind not in ("mcb", "rcbo"):
+            yield _err(c, ("device", "energy_class"), "an energy-limiting class is marked on circuit-breakers "
+                                                      "(mcb, rcbo), not on fuses")
         if c.is_ring and c.is_submain:
             yield _err(c, ("topology",), "a sub-main (feeds) cannot be a ring")
         if c.is_submain and c.loads:
@@ -179,3 +183,18 @@ def _no_circuit(ref: str, refs: set[str]) -> str:
     on_board = sorted(r for r in refs if r.startswith(board + "/"))
     hint = f" (circuits of {board}: {', '.join(on_board)})" if on_board else ""
     return f"no circuit '{ref}' in this site{hint}"
+
+def _check_cpc_route(c: Circuit):
+    """cpc_route must fit the cable kind (BS 7671 Tables 54.2–54.4 tell the routes apart)."""
+    route, cable = c.cable.cpc_route, c.cable
+    if route is None:
+        return
+    if route == "armour" and cable.kind != "swa-90":
+        yield _err(c, ("cable", "cpc_route"), f"only an armoured cable (swa-90) has armour to serve as the cpc, "
+                                              f"not {cable.kind}")
+    elif route == "armour" and cable.cpc_mm2 is not None:
+        yield _err(c, ("cable", "cpc_mm2"), "cpc_mm2 is a copper cpc's size; with cpc_route armour give "
+                                            "armour_mm2 (and armour_mohm_per_m) instead")
+    elif route == "core" and cable.kind == "singles-70":
+        yield _err(c, ("cable", "cpc_route"), "single-core cables have no spare core: the cpc is bunched with "
+                                              "them in the conduit or trunking, or separate")
