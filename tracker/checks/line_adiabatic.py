@@ -60,7 +60,10 @@ def _overload_protected(f: Facts, done) -> bool:
 def run(f: Facts, done) -> Outcome:
     breaking = done.get("breaking-capacity")
     deemed = (breaking is not None and breaking.result.status == PASS and _overload_protected(f, done))
-    result, rec = _computed(f, board_end=not deemed)
+    # 434.5.2 at the board too for a cable sized on Ib: nothing else protects it there. (A circuit
+    # not deemed for another reason — a device that cannot break the PFC, a cable too small for
+    # In — fails on that reason's own check.)
+    result, rec = _computed(f, board_end=f.circuit.overload_exempt and not deemed)
     if not deemed or result.status == PASS:
         return Outcome(result, rec)
     detail = (f"deemed protected against short-circuit: the {f.label} protects the conductors against overload "
