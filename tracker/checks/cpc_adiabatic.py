@@ -109,6 +109,8 @@ def run(f: Facts, done) -> Outcome:
     else:
         need = f"S ≥ {w.min_mm2:.2f} mm² > cpc {f.cpc_mm2:g} mm²" if w.min_mm2 is not None else "no figure"
         return Outcome(not_assessed(ID, "mm2", ">=", f"{working}: {need}; "
-                                    + protection.undecided_reason(w, "the cpc", f.label) + extra,
+                                    + protection.undecided_reason(w, "the cpc", f.label,
+                                                                  f.circuit.device.kind in protection.BREAKERS)
+                                    + extra,
                                     value=f.cpc_mm2, limit=w.min_mm2), rec)
     return Outcome(CheckResult(ID, w.status, f.cpc_mm2, w.min_mm2, "mm2", ">=", detail), rec)

@@ -123,5 +123,6 @@ def _computed(f: Facts, board_end: bool) -> tuple[CheckResult, LineAdiabaticWork
                            f"{csa:g} mm² (k²S² = {(k * csa) ** 2:,.0f} A²s) — 434.5.2"), rec
     need = f"S ≥ {w.min_mm2:.2f} mm² > {csa:g} mm²" if w.min_mm2 is not None else "no figure"
     return not_assessed(ID, "mm2", ">=", f"{working}: {need}; "
-                        + protection.undecided_reason(w, "the conductors", f.label),
+                        + protection.undecided_reason(w, "the conductors", f.label,
+                                                     f.circuit.device.kind in protection.BREAKERS),
                         value=csa, limit=w.min_mm2), rec

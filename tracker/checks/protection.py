@@ -267,11 +267,17 @@ def withstand(energy: FaultEnergy, k: float, csa_mm2: float) -> Withstand:
     return Withstand(NOT_ASSESSED, need, energy, k)
 
 
-def undecided_reason(w: Withstand, what: str, label: str) -> str:
+def _settles(label: str, current_a: float, breaker: bool) -> str:
+    if breaker:
+        return f"the maker's let-through I²t of the {label} at {current_a:.0f} A (device.let_through_a2s)"
+    return (f"the {label}'s operating time at {current_a:.0f} A from its time-current characteristic "
+            f"(BS 7671 Appendix 3), given as I² × t in device.let_through_a2s")
+
+
+def undecided_reason(w: Withstand, what: str, label: str, breaker: bool = True) -> str:
     """Why a withstand is not assessed, and what would settle it."""
     e = w.energy
+    settle = _settles(label, e.current_a, breaker)
     if e.upper_a2s is None:
-        return (f"{e.how}; no upper figure for the energy at {e.current_a:.0f} A, so {what} cannot be shown "
-                f"adequate: the {label}'s let-through I²t at {e.current_a:.0f} A (device.let_through_a2s) is needed")
-    return (f"with only an upper figure for the energy {what} cannot be shown adequate or inadequate: the "
-            f"{label}'s let-through I²t at {e.current_a:.0f} A (device.let_through_a2s, maker's data) would settle it")
+        return f"no upper figure for the energy at {e.current_a:.0f} A, so {what} cannot be shown adequate: {settle}"
+    return f"with only an upper figure for the energy {what} cannot be shown adequate or inadequate: {settle}"
