@@ -93,7 +93,12 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
     breaking = breaking if breaking is not None else d0.breaking_ka
     cables = {}
     for _cost, rating, curve, csa, rcd in out:
-        device = Device(d0.kind, rating, curve, breaking, d0.max_zs_ohm, d0.let_through_a2s)
+        if (rating, curve) == (d0.rating_a, d0.curve):
+            device = replace(d0, breaking_ka=breaking)
+        else:
+            # A different device: the old one's maker's figures and class do not carry over (a new
+            # type B/C breaker is taken at the default energy-limiting class).
+            device = Device(d0.kind, rating, curve, breaking)
         cable = cables.get(csa)
         if cable is None:
             cable = c.cable
