@@ -184,6 +184,7 @@ def _no_circuit(ref: str, refs: set[str]) -> str:
     hint = f" (circuits of {board}: {', '.join(on_board)})" if on_board else ""
     return f"no circuit '{ref}' in this site{hint}"
 
+
 def _check_cpc_route(c: Circuit):
     """cpc_route must fit the cable kind (BS 7671 Tables 54.2–54.4 tell the routes apart)."""
     route, cable = c.cable.cpc_route, c.cable
