@@ -31,7 +31,7 @@ def test_watcher_and_replace_record_once_and_both_report(demo_copy):
         assert got and got[0].recorded.duplicate and got[0].recorded.author == "Ruth"
         assert ("quill-court-2/CU1/3", "capacity", "newly-failing") in {
             (e["ref"], e["check"], e["transition"]) for u in got for e in u.outcome.events}
-        rows = h.db.execute("SELECT source, author FROM revisions WHERE file = ? ORDER BY id", [FILE]).fetchall()
+        rows = h.db.execute("SELECT source, author FROM named_revisions WHERE file = ? ORDER BY id", [FILE]).fetchall()
         assert rows[-1] == ("replace", "Ruth") and [r[0] for r in rows].count("replace") == 1
         assert len(rows) == 2   # the first record and the replacement: nothing twice
         assert verify(h).ok
@@ -98,5 +98,5 @@ def test_processes_creating_the_history_at_once(tmp_path):
     procs = [subprocess.Popen([sys.executable, "-c", code, str(path)], stdout=subprocess.PIPE,
                               stderr=subprocess.PIPE, text=True) for _ in range(6)]
     outs = [p.communicate(timeout=60) for p in procs]
-    assert [o[0].strip() for o in outs] == ["1"] * 6, [o[1] for o in outs]
+    assert [o[0].strip() for o in outs] == ["2"] * 6, [o[1] for o in outs]
     assert sorted(p.name for p in path.parent.iterdir() if not p.name.startswith("history.sqlite")) == []

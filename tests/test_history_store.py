@@ -27,20 +27,27 @@ def store(tmp_path):
     h.close()
 
 
-# The schema as schema/history/0001-initial.sql declares it, written out here by hand so that a
-# table, index or trigger added, renamed or dropped without this test changing fails it.
+# The schema as schema/history/0001-initial.sql and 0002-people-outside-the-chain.sql declare it,
+# written out here by hand so that a table, index or trigger added, renamed or dropped without
+# this test changing fails it.
 EXPECTED_SQLITE_OBJECTS = {
     ("table", "revisions"), ("table", "blobs"), ("table", "changes"), ("table", "results"),
     ("table", "events"), ("table", "acks"), ("table", "_sqlite_migrations"),
+    ("table", "people"), ("table", "notes"), ("table", "rechained"), ("view", "named_revisions"),
     ("index", "revisions_file_succession"), ("index", "revisions_file"), ("index", "revisions_at"),
     ("index", "changes_ref"), ("index", "results_ref"), ("index", "events_ref"), ("index", "acks_ref"),
-    ("index", "idx__sqlite_migrations_migration_set_name"),
-    *(("trigger", f"{t}_append_only_{op}") for t in ("revisions", "changes", "results", "events", "acks", "blobs")
-      for op in "ud"),
+    ("index", "idx__sqlite_migrations_migration_set_name"), ("index", "people_name"), ("index", "notes_actor"),
+    *(("trigger", f"{t}_append_only_{op}") for t in ("revisions", "changes", "results", "events", "acks", "blobs",
+                                                      "rechained") for op in "ud"),
+    ("trigger", "people_keep"), ("trigger", "people_erase_only"), ("trigger", "notes_keep"),
+    ("trigger", "notes_erase_only"),
 }
 EXPECTED_COLUMNS = {
     "revisions": ["id", "at", "source", "file", "site", "content_hash", "valid", "file_prev_id", "author", "note",
-                  "tool_version", "prev_hash", "hash"],
+                  "tool_version", "prev_hash", "hash", "signature", "signer"],
+    "people": ["actor", "name", "salt", "erased_at"],
+    "notes": ["digest", "actor", "text", "salt", "erased_at"],
+    "rechained": ["revision_id", "old_hash", "at"],
     "blobs": ["hash", "size", "content"],
     "changes": ["revision_id", "seq", "ref", "change", "field", "old", "new"],
     "results": ["revision_id", "ref", "status", "checks"],
@@ -52,14 +59,15 @@ EXPECTED_COLUMNS = {
 
 def test_exact_schema_version_and_wal(store):
     db = store.db
-    assert db.execute("PRAGMA user_version").fetchone()[0] == 1   # one migration applied
+    assert db.execute("PRAGMA user_version").fetchone()[0] == 2   # two migrations applied
     assert db.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
     objects = {(t, n) for t, n in db.execute("SELECT type, name FROM sqlite_master")
                if not n.startswith("sqlite_autoindex_")}    # SQLite's own indexes of keys and UNIQUE
     assert objects == EXPECTED_SQLITE_OBJECTS
     for table, columns in EXPECTED_COLUMNS.items():
         assert [c.name for c in db[table].columns] == columns, table
-    assert db.execute("SELECT name FROM _sqlite_migrations").fetchall() == [("0001-initial",)]
+    assert db.execute("SELECT name FROM _sqlite_migrations").fetchall() == [("0001-initial",),
+                                                                            ("0002-people-outside-the-chain",)]
     # the partial unique index of a file's succession keeps its WHERE clause
     sql = db.execute("SELECT sql FROM sqlite_master WHERE name = 'revisions_file_succession'").fetchone()[0]
     assert "UNIQUE" in sql and "WHERE file IS NOT NULL" in sql
@@ -69,7 +77,7 @@ def test_migrations_are_not_reapplied(tmp_path):
     path = tmp_path / "h.sqlite"
     History.open(path).close()
     h = History.open(path)
-    assert h.db.execute("SELECT count(*) FROM _sqlite_migrations").fetchone()[0] == 1
+    assert h.db.execute("SELECT count(*) FROM _sqlite_migrations").fetchone()[0] == 2
     h.close()
 
 
@@ -119,7 +127,7 @@ def test_a_failing_migration_leaves_the_history_as_it_was(tmp_path):
     with pytest.raises(HistoryError):
         History.open(path, migrations=folder)
     conn = sqlite3.connect(path)
-    assert conn.execute("PRAGMA user_version").fetchone()[0] == 1
+    assert conn.execute("PRAGMA user_version").fetchone()[0] == 2
     assert conn.execute("SELECT count(*) FROM sqlite_master WHERE name = 'fine'").fetchone()[0] == 0
     conn.close()
 

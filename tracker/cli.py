@@ -113,7 +113,10 @@ def build_parser() -> argparse.ArgumentParser:
                                    "when intact, 1 otherwise (naming the first revision that does not match).")
     _add_path(p)
     _add_db(p, creates=False)
+    p.add_argument("--head", metavar="FILE",
+                   help="also check that the history still holds a chain head exported earlier (export-head)")
     p.set_defaults(func=_run("tracker.commands.verify"))
+    _add_keeping_commands(sub)
 
     p = sub.add_parser("due", help="every deadline of the inspection cycle: inspections, remedial work, copies",
                        description="List every site's deadlines on a day — the next inspection and test, the copy "
@@ -147,10 +150,41 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def _run(module: str):
+def _add_keeping_commands(sub) -> None:
+    """The history's keeping: copying it between stores, erasing a person, exporting its head."""
+    p = sub.add_parser("copy-history", help="copy the history into another store (SQLite ↔ PostgreSQL)",
+                       description="Copy every revision of the estate's history (--db, IZWATCH_DB or the default "
+                                   "file) into TARGET — a new SQLite file or a postgresql://… database or schema "
+                                   "that holds no history yet — and verify the copy: it must give the same chain "
+                                   "head. Exit 0: copied and verified; 2: nothing copied (the reason is printed).")
+    _add_path(p)
+    p.add_argument("--to", required=True, metavar="TARGET", help="a new history file, or postgresql://…")
+    _add_db(p, creates=False)
+    p.set_defaults(func=_run("tracker.commands.history_admin", "copy"))
+
+    p = sub.add_parser("erase", help="erase a person's name and notes from the history (the chain stays intact)",
+                       description="Blank one person's name and the text of every note they wrote; the history "
+                                   "shows 'erased' where they were. The hash chain holds only pseudonymous ids and "
+                                   "digests, so it still verifies. On PostgreSQL only the tables' owner may erase.")
+    _add_path(p)
+    p.add_argument("--person", required=True, metavar="NAME", help="the name exactly as recorded")
+    _add_db(p, creates=False)
+    p.set_defaults(func=_run("tracker.commands.history_admin", "erase"))
+
+    p = sub.add_parser("export-head", help="the chain head with a timestamp, to keep elsewhere",
+                       description="Verify the history and print its chain head (revision count, hash, the time "
+                                   "taken) as JSON, to keep where the history's administrators cannot change it; "
+                                   "`verify --head FILE` checks the history against it later.")
+    _add_path(p)
+    p.add_argument("-o", "--output", metavar="FILE", help="write it to FILE (default: standard output)")
+    _add_db(p, creates=False)
+    p.set_defaults(func=_run("tracker.commands.history_admin", "export_head"))
+
+
+def _run(module: str, function: str = "run"):
     def call(args) -> int:
         import importlib
-        return importlib.import_module(module).run(args)
+        return getattr(importlib.import_module(module), function)(args)
     return call
 
 

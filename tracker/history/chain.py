@@ -11,9 +11,16 @@ REVISION_FIELDS = ("id", "at", "source", "file", "site", "content_hash", "valid"
                    "author", "note", "tool_version", "prev_hash")
 
 
+# Fields added later (migration 2: signed authorship): hashed only where set, so that every
+# revision recorded before keeps its hash.
+OPTIONAL_FIELDS = ("signature", "signer")
+
+
 def canonical(revision: dict, changes: list, results: list, events: list, acks: list) -> bytes:
+    fields = {k: revision[k] for k in REVISION_FIELDS}
+    fields.update((k, revision[k]) for k in OPTIONAL_FIELDS if revision.get(k) is not None)
     payload = {
-        "revision": {k: revision[k] for k in REVISION_FIELDS},
+        "revision": fields,
         "changes": [list(r) for r in changes],
         "results": [list(r) for r in results],
         "events": [list(r) for r in events],

@@ -6,6 +6,13 @@ import json
 from tracker.history.store import History
 
 
+def named(history: History) -> str:
+    """The revisions with names and note texts in place of their ids (migration 2's view), or the
+    table itself in a history from before it."""
+    from tracker.history.people import has_people
+    return "named_revisions" if has_people(history) else "revisions"
+
+
 def _matches(ref: str, prefix: str) -> bool:
     return ref == prefix or ref.startswith(prefix + "/")
 
@@ -28,7 +35,7 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
                      "OR id IN (SELECT revision_id FROM events WHERE transition = 'input-error' AND ref = ?) "
                      "OR site = ?)")   # a site: also its revisions that changed no element (a file loads again)
         args += [ref, ref + "/", ref + "0"] * 3 + [ref.split("/")[0], ref]
-    sql = "SELECT id, at, source, file, site, content_hash, valid, author, note, hash FROM revisions"
+    sql = f"SELECT id, at, source, file, site, content_hash, valid, author, note, hash FROM {named(history)}"
     if where:
         sql += " WHERE " + " AND ".join(where)
     sql += " ORDER BY id" + (" DESC" if newest_first else "")
@@ -81,7 +88,7 @@ def latest_acks(history: History, into: dict | None = None, after: int = 0,
     out = {} if into is None else into
     for rid, ref, checks, at, author, note in history.db.execute(
             "SELECT a.revision_id, a.ref, a.checks, r.at, r.author, r.note FROM acks a "
-            "JOIN revisions r ON r.id = a.revision_id WHERE a.revision_id > ? AND a.revision_id <= ? "
+            f"JOIN {named(history)} r ON r.id = a.revision_id WHERE a.revision_id > ? AND a.revision_id <= ? "
             "ORDER BY a.revision_id", [after, _upto(upto)]):
         out[ref] = {"revision": rid, "at": at, "author": author, "note": note, "checks": json.loads(checks)}
     return out
@@ -100,7 +107,7 @@ def failing_since(history: History, into: dict | None = None, after: int = 0,
     out = {} if into is None else into
     for rid, ref, check, transition, at, author, note, file in history.db.execute(
             "SELECT e.revision_id, e.ref, e.check_id, e.transition, r.at, r.author, r.note, r.file "
-            "FROM events e JOIN revisions r ON r.id = e.revision_id "
+            f"FROM events e JOIN {named(history)} r ON r.id = e.revision_id "
             "WHERE e.revision_id > ? AND e.revision_id <= ? "
             "AND e.transition IN ('newly-failing', 'worse', 'cleared') ORDER BY e.revision_id", [after, _upto(upto)]):
         key = (ref, check)
@@ -135,7 +142,7 @@ def revisions_by_id(history: History, ids) -> dict[int, dict]:
         chunk = wanted[start:start + 500]
         marks = ",".join("?" * len(chunk))
         for rid, at, source, file, site, author, note, prev in db.execute(
-                f"SELECT id, at, source, file, site, author, note, file_prev_id FROM revisions "
+                f"SELECT id, at, source, file, site, author, note, file_prev_id FROM {named(history)} "
                 f"WHERE id IN ({marks})", chunk):
             out[rid] = {"id": rid, "at": at, "source": source, "file": file, "site": site, "author": author,
                         "note": note, "first_of_file": file is not None and prev == 0, "changes": []}

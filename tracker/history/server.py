@@ -160,6 +160,26 @@ class ServerHistory(History):
             "SELECT t.tgname, t.tgenabled FROM pg_trigger t JOIN pg_class c ON c.oid = t.tgrelid "
             "WHERE c.relnamespace = current_schema()::regnamespace AND NOT t.tgisinternal")}
 
+    def before_erase(self) -> None:
+        pass
+
+    def after_erase(self) -> None:
+        """Old row versions hold the erased text until VACUUM removes them (the owner's right)."""
+        with self._said_plainly():
+            self.db.execute("VACUUM people, notes")
+
+    @contextmanager
+    def guard_suspended(self, table: str):
+        """Inside a migration only (the owner's transaction): the table's row trigger switched off."""
+        self.db.execute(f"ALTER TABLE {table} DISABLE TRIGGER {table}_append_only")
+        yield
+        self.db.execute(f"ALTER TABLE {table} ENABLE TRIGGER {table}_append_only")
+
+    def columns(self, table: str) -> list[str]:
+        return [r[0] for r in self.db.execute(
+            "SELECT column_name FROM information_schema.columns WHERE table_schema = current_schema() "
+            "AND table_name = ? ORDER BY ordinal_position", [table])]
+
     def location(self) -> str:
         return shown(self.dsn)
 
@@ -178,6 +198,7 @@ class ServerHistory(History):
         with self._said_plainly():
             conn = self.db.conn
             conn.execute("BEGIN")
+            self._names = {}    # an erasure may have happened since: look names up afresh
             try:
                 if migrating:   # the schema's lock first: the tables may not exist yet
                     conn.execute("SELECT pg_advisory_xact_lock(%s, current_schema()::regnamespace::oid::int)",

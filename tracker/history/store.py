@@ -158,6 +158,8 @@ class NewRevision:
     events: list = field(default_factory=list)    # dicts: ref, check, transition, value, limit, unit, detail
     ack: tuple | None = None                      # (ref, [check ids])
     at: str | None = None
+    signature: str | None = None   # a change that arrived as a git commit: verified | unverified | bad | unsigned
+    signer: str | None = None      # the verified signer (git's principal for the key)
 
 
 @dataclass
@@ -174,6 +176,8 @@ class History:
         self.db = db
         self.path = path
         self.migrations = migrations   # a folder of migrations other than the shipped one (tests)
+        self._people: bool | None = None   # whether names are kept outside the chain (migration 2)
+        self._names: dict = {}             # actor ids and note digests looked up in this transaction
 
     # -- opening -------------------------------------------------------------------------
 
@@ -233,7 +237,7 @@ class History:
         return store
 
     @classmethod
-    def open_for_reading(cls, path: Path | str) -> History:
+    def open_for_reading(cls, path: Path | str, older: bool = False) -> History:
         """Open an existing store that nothing may write through (the landlord's report).
 
         An ordinary connection with ``PRAGMA query_only``: every write is refused, no migration
@@ -258,7 +262,7 @@ class History:
                 raise HistoryError(f"{path}: the history database is damaged ({bad[0]})", "damaged")
             version = conn.execute("PRAGMA user_version").fetchone()[0]
             known = len(migration_files(migrations_dir()))
-            if version != known:
+            if version != known and not (older and 0 < version < known):
                 conn.close()
                 raise HistoryError(f"{path}: history schema {version}, this izwatch reads schema {known}"
                                    + (" (open it once with `watch` or `verify` to bring it up to date)"
@@ -347,6 +351,7 @@ class History:
             if not pending:
                 return
             self._ensure_migrations_table()
+            from tracker.history import people  # noqa: F401  (registers migration 2's step)
             for name, sql in pending:
                 self._run_migration_sql(sql)
                 step = MIGRATION_STEPS.get(name)
@@ -371,6 +376,32 @@ class History:
         """The append-only triggers present: name -> "enabled" (SQLite cannot disable one)."""
         return {name: "enabled" for (name,) in self.db.execute(
             "SELECT name FROM sqlite_master WHERE type = 'trigger'")}
+
+    def before_erase(self) -> None:
+        self.db.execute("PRAGMA secure_delete = ON")   # freed space is overwritten with zeros
+
+    def after_erase(self) -> None:
+        """The erased bytes out of the WAL as well: its pages copied back and the file emptied."""
+        self.db.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+
+    @contextmanager
+    def guard_suspended(self, table: str):
+        """Inside a migration only: the table's update trigger dropped, and made again after."""
+        name = f"{table}_append_only_u"
+        row = self.db.execute("SELECT sql FROM sqlite_master WHERE type = 'trigger' AND name = ?", [name]).fetchone()
+        if row is not None:
+            self.db.execute(f"DROP TRIGGER {name}")
+        yield
+        if row is not None:
+            self.db.execute(row[0])
+
+    def columns(self, table: str) -> list[str]:
+        return [r[1] for r in self.db.execute(f"PRAGMA table_info({table})")]
+
+    def optional_fields(self) -> list[str]:
+        """The later, hashed-where-set fields of revisions this history has (chain.OPTIONAL_FIELDS)."""
+        present = set(self.columns("revisions"))
+        return [f for f in chain.OPTIONAL_FIELDS if f in present]
 
     def expected_guards(self) -> list[str]:
         """The triggers the applied migrations create (and do not drop again), in order."""
@@ -397,6 +428,7 @@ class History:
     def _begin(self, migrating: bool = False) -> None:
         """Start a write transaction holding SQLite's write lock from its start."""
         self.db.conn.execute("BEGIN IMMEDIATE")
+        self._names = {}    # an erasure may have happened since: look names up afresh
 
     def _commit(self) -> None:
         self.db.conn.execute("COMMIT")
@@ -506,7 +538,8 @@ class History:
                                   "WHERE file = ? ORDER BY id DESC LIMIT 1", [rev.file]).fetchone()
             if row is not None:
                 if row[1] == rev.content_hash and bool(row[2]) == rev.valid:
-                    return Recorded(row[0], True, row[3], row[4], row[5])
+                    from tracker.history.people import name_of
+                    return Recorded(row[0], True, row[3], name_of(self, row[4]), row[5])
                 file_prev_id = row[0]
             elif rev.content_hash is None:  # deleting a file never recorded: nothing to say
                 return Recorded(0, True, "", rev.author, rev.source)
@@ -515,11 +548,19 @@ class History:
         if rev.content is not None:
             self.db.execute("INSERT INTO blobs (hash, size, content) VALUES (?, ?, ?) ON CONFLICT (hash) DO NOTHING",
                             [rev.content_hash, len(rev.content), zlib.compress(rev.content, 6)])
+        author, note, signer = rev.author, rev.note, rev.signer
+        from tracker.history import people
+        if people.has_people(self):     # migration 2: ids and digests in the chain, names beside it
+            author = people.actor_for(self, rev.author, self._names)
+            note = people.note_for(self, author, rev.note, self._names)
+            signer = people.actor_for(self, rev.signer, self._names) if rev.signer is not None else None
         revision = {
             "id": rev_id, "at": at, "source": rev.source, "file": rev.file, "site": rev.site,
             "content_hash": rev.content_hash, "valid": int(rev.valid), "file_prev_id": file_prev_id,
-            "author": rev.author, "note": rev.note, "tool_version": __version__, "prev_hash": head_hash,
+            "author": author, "note": note, "tool_version": __version__, "prev_hash": head_hash,
         }
+        if rev.signature is not None:
+            revision.update(signature=rev.signature, signer=signer)
         changes = [(rev_id, i, ref, kind, fld, _j(old), _j(new))
                    for i, (ref, kind, fld, old, new) in enumerate(rev.changes)]
         results = sorted((rev_id, ref, status, json.dumps(checks, sort_keys=True, separators=(",", ":")))

@@ -6,7 +6,7 @@ import zlib
 from dataclasses import dataclass
 from itertools import groupby
 
-from tracker.history import chain
+from tracker.history import chain, people
 from tracker.history.store import History
 
 
@@ -68,7 +68,7 @@ def _verify_chain(history: History) -> Report:
             return rows
         return []
 
-    cols = ["id", *chain.REVISION_FIELDS[1:], "hash"]
+    cols = ["id", *chain.REVISION_FIELDS[1:], *history.optional_fields(), "hash"]
     expected_prev, expected_id, count = chain.GENESIS, 1, 0
     for row in db.execute(f"SELECT {', '.join(cols)} FROM revisions ORDER BY id"):
         rev = dict(zip(cols, row))
@@ -94,4 +94,7 @@ def _verify_chain(history: History) -> Report:
     if leftovers:
         return Report(False, count, expected_prev, f"{', '.join(leftovers)} rows belong to no revision "
                                                    f"(after revision {expected_id - 1})", expected_id)
+    altered = people.altered(history)
+    if altered:
+        return Report(False, count, expected_prev, altered)
     return Report(True, count, expected_prev)
