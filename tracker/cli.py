@@ -36,17 +36,7 @@ def _jobs(text: str) -> int:
     return n
 
 
-def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
-        prog="izwatch",
-        description="Keeps the sizing checks of existing electrical installations true as they change. "
-                    "A tool for competent persons: verify results against the current wiring regulations, "
-                    "local codes and manufacturers' data.",
-    )
-    parser.add_argument("--version", action="version", version=f"izwatch {__version__}")
-    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    sub.required = True
-
+def _command_check(sub) -> None:
     p = sub.add_parser("check", help="check an estate or a site once",
                        description="Load, validate and check every circuit and board. Exit 0: nothing fails; "
                                    "1: a check fails; 2: the input is invalid.")
@@ -57,6 +47,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help="worker processes for large estates (default: one per core; 1: a single process)")
     p.set_defaults(func=_run("tracker.commands.check"))
 
+
+def _command_watch(sub) -> None:
     p = sub.add_parser("watch", help="keep watching: re-check and record every change",
                        description="Watch the site files; every change is re-checked, recorded in the history "
                                    "and its events printed, one line each. Ctrl-C stops.")
@@ -66,6 +58,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--verbose", action="store_true", help="also print one line per recorded revision")
     p.set_defaults(func=_run("tracker.commands.watch"))
 
+
+def _command_tui(sub) -> None:
     p = sub.add_parser("tui", help="the terminal UI: problems first, live, with their working and history",
                        description="Open the terminal UI on an estate: the circuits that fail, newly broken "
                                    "first, kept up to date by a watcher while it runs. Press ? inside for every key.")
@@ -73,6 +67,8 @@ def build_parser() -> argparse.ArgumentParser:
     _add_db(p)
     p.set_defaults(func=_run("tracker.commands.tui"))
 
+
+def _command_replace(sub) -> None:
     p = sub.add_parser("replace", help="log an appliance replacement and see what it breaks",
                        description="Rewrite the load's power or current in its site file (comments and layout "
                                    "kept), record who and why, re-check, and print before → after for the "
@@ -88,6 +84,8 @@ def build_parser() -> argparse.ArgumentParser:
     _add_db(p)
     p.set_defaults(func=_run("tracker.commands.replace"))
 
+
+def _command_history(sub) -> None:
     p = sub.add_parser("history", help="what changed, when, by whom, and what it did",
                        description="List the recorded revisions with their changes and events.")
     _add_path(p)
@@ -97,6 +95,8 @@ def build_parser() -> argparse.ArgumentParser:
     _add_db(p, creates=False)
     p.set_defaults(func=_run("tracker.commands.history"))
 
+
+def _command_ack(sub) -> None:
     p = sub.add_parser("ack", help="acknowledge an open problem (e.g. remedial work booked)",
                        description="Record an acknowledgement of a circuit's open problems (or a board's, or a "
                                    "site origin's demand), with who and a note. It is part of the history's chain.")
@@ -108,6 +108,8 @@ def build_parser() -> argparse.ArgumentParser:
     _add_db(p)
     p.set_defaults(func=_run("tracker.commands.ack"))
 
+
+def _command_verify(sub) -> None:
     p = sub.add_parser("verify", help="check the history's hash chain",
                        description="Recompute the history's hash chain and SQLite's integrity check. Exit 0 "
                                    "when intact, 1 otherwise (naming the first revision that does not match).")
@@ -118,6 +120,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.set_defaults(func=_run("tracker.commands.verify"))
     _add_keeping_commands(sub)
 
+
+def _command_due(sub) -> None:
     p = sub.add_parser("due", help="every deadline of the inspection cycle: inspections, remedial work, copies",
                        description="List every site's deadlines on a day — the next inspection and test, the copy "
                                    "of the report to the tenants, remedial work for each C1, C2 or FI observation, "
@@ -129,6 +133,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print the izwatch.due/1 JSON document")
     p.set_defaults(func=_run("tracker.commands.due"))
 
+
+def _command_report(sub) -> None:
     p = sub.add_parser("report", help="the landlord's report: the installation, its state and its change history",
                        description="Write a site's report: site and supply, one-line diagram, every circuit's "
                                    "figures and verdict, the open problems with their cause, acknowledgement and "
@@ -147,6 +153,21 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--since", metavar="DATE", help="history section: only revisions at or after DATE (YYYY-MM-DD)")
     _add_db(p, creates=False)
     p.set_defaults(func=_run("tracker.commands.report"))
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="izwatch",
+        description="Keeps the sizing checks of existing electrical installations true as they change. "
+                    "A tool for competent persons: verify results against the current wiring regulations, "
+                    "local codes and manufacturers' data.",
+    )
+    parser.add_argument("--version", action="version", version=f"izwatch {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    sub.required = True
+    for add_command in (_command_check, _command_watch, _command_tui, _command_replace, _command_history, _command_ack,
+                        _command_verify, _command_due, _command_report):
+        add_command(sub)   # the order of the help's list
     return parser
 
 

@@ -267,8 +267,3 @@ def load_ref(site_id: str, circuit: Circuit, load: Load) -> str:
 def inspection_ref(site_id: str, inspection: Inspection) -> str:
     """``SITE/inspection:2026-03-11`` (':' never appears in a board id, so it cannot be mistaken for one)."""
     return f"{site_id}/inspection:{inspection.key}"
-
-
-def data_fields(obj) -> list[str]:
-    """Names of the fields of a model object that take part in equality."""
-    return [f.name for f in fields(obj) if f.compare]

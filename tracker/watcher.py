@@ -52,7 +52,7 @@ class Update:
 
 class _Handler(FileSystemEventHandler):
     def __init__(self, watcher: "Watcher"):
-        self.w = watcher
+        self.watcher = watcher
 
     def on_any_event(self, event: FileSystemEvent) -> None:
         try:
@@ -65,9 +65,9 @@ class _Handler(FileSystemEventHandler):
             if dest:
                 paths.append(dest)
             for p in paths:
-                self.w.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory)
+                self.watcher.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory)
         except Exception:   # noqa: BLE001 - never let the observer thread die: rescan instead
-            self.w.request_rescan()
+            self.watcher.request_rescan()
 
 
 class _OverflowListener(logging.Handler):
@@ -75,11 +75,11 @@ class _OverflowListener(logging.Handler):
 
     def __init__(self, watcher: "Watcher"):
         super().__init__(logging.WARNING)
-        self.w = watcher
+        self.watcher = watcher
 
     def emit(self, record: logging.LogRecord) -> None:
-        if "overflow" in record.getMessage().lower() and not self.w._stop.is_set():
-            self.w.request_rescan()
+        if "overflow" in record.getMessage().lower() and not self.watcher._stop.is_set():
+            self.watcher.request_rescan()
 
 
 class Watcher:

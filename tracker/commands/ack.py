@@ -41,10 +41,10 @@ def run(args) -> int:
         folder = folder_of_site(root, parts[0])
         history = open_history(args)
         state, _ = start(root, history, Authors(root), folders={folder})
-        ss = state.site_by_id(parts[0])
-        if ss is None or ss.result is None:
+        site_state = state.site_by_id(parts[0])
+        if site_state is None or site_state.result is None:
             raise CommandError(f"site {parts[0]} does not load; fix it first")
-        open_checks = _open_checks(ss.result, args.circuit_ref)
+        open_checks = _open_checks(site_state.result, args.circuit_ref)
         if not open_checks:
             raise CommandError(f"{args.circuit_ref} passes every check: nothing to acknowledge")
     except CommandError as exc:

@@ -30,7 +30,7 @@ class _JsonOut:
 
     def __init__(self, out, pretty: bool):
         from tracker.output import json_out
-        self.j = json_out
+        self.json_out = json_out
         self.out, self.pretty = out, pretty
         self.first = True
         self.boards, self.supplies = [], []
@@ -38,7 +38,7 @@ class _JsonOut:
 
     def worker_copy(self) -> "_JsonOut":
         twin = object.__new__(_JsonOut)
-        twin.j, twin.pretty, twin.out = None, self.pretty, None
+        twin.json_out, twin.pretty, twin.out = None, self.pretty, None
         return twin
 
     def _dump(self, obj) -> str:
@@ -46,13 +46,13 @@ class _JsonOut:
             return json.dumps(obj, ensure_ascii=False)
         return "\n" + textwrap.indent(json.dumps(obj, indent=2, ensure_ascii=False), "    ")
 
-    def render(self, sr, out: "SiteOut") -> None:
-        if self.j is None:
+    def render(self, result, out: "SiteOut") -> None:
+        if self.json_out is None:
             from tracker.output import json_out
-            self.j = json_out
-        out.text = ", ".join(self._dump(self.j.circuit_entry(sr, r)) for r in sr.circuits.values())
-        out.boards = [self.j.board_entry(b) for b in sr.boards.values()]
-        out.supply = self.j.supply_entry(sr)
+            self.json_out = json_out
+        out.text = ", ".join(self._dump(self.json_out.circuit_entry(result, r)) for r in result.circuits.values())
+        out.boards = [self.json_out.board_entry(b) for b in result.boards.values()]
+        out.supply = self.json_out.supply_entry(result)
 
     def write(self, out: "SiteOut") -> None:
         if out.text:
@@ -64,7 +64,7 @@ class _JsonOut:
     def close(self, errors, warnings) -> None:
         ind = 2 if self.pretty else None
         tail = {"boards": self.boards, "errors": [e.as_json() for e in errors], "supplies": self.supplies,
-                "warnings": [w.as_json() for w in warnings], "caution": self.j.CAUTION}
+                "warnings": [w.as_json() for w in warnings], "caution": self.json_out.CAUTION}
         body = json.dumps(tail, indent=ind, ensure_ascii=False)
         self.out.write("], " + body[1:] + "\n")
 
@@ -72,25 +72,25 @@ class _JsonOut:
 class _TextOut:
     def __init__(self, out, only_problems: bool):
         from tracker.output import text_out
-        self.t = text_out
+        self.text_out = text_out
         self.out, self.only = out, only_problems
         self.counts = {k: 0 for k in ("pass", "warn", "not-assessed", "fail")}
         self.sites = 0
 
     def worker_copy(self) -> "_TextOut":
         twin = object.__new__(_TextOut)
-        twin.t, twin.only, twin.out = None, self.only, None
+        twin.text_out, twin.only, twin.out = None, self.only, None
         return twin
 
-    def render(self, sr, out: "SiteOut") -> None:
-        if self.t is None:
+    def render(self, result, out: "SiteOut") -> None:
+        if self.text_out is None:
             from tracker.output import text_out
-            self.t = text_out
-        lines = self.t.render_site(sr, self.only)
+            self.text_out = text_out
+        lines = self.text_out.render_site(result, self.only)
         out.text = "\n".join(lines) + "\n\n" if lines else ""
-        for r in sr.circuits.values():
+        for r in result.circuits.values():
             out.counts[r.status] = out.counts.get(r.status, 0) + 1
-        demands = [b.status for b in sr.boards.values()] + ([sr.supply_check.status] if sr.supply_check else [])
+        demands = [b.status for b in result.boards.values()] + ([result.supply_check.status] if result.supply_check else [])
         out.counts["demand-checked"] = len(demands)
         out.counts["demand-fail"] = demands.count("fail")
 
@@ -112,7 +112,7 @@ class _TextOut:
                            f"{c.get('not-assessed', 0)} not fully assessed, {c.get('pass', 0)} pass{demand}\n")
         else:
             self.out.write(f"nothing checked: {len(errors)} input error(s), listed above\n")
-        self.out.write(f"Caution: {self.t.CAUTION}\n")
+        self.out.write(f"Caution: {self.text_out.CAUTION}\n")
 
 
 def _plural(n: int, one: str, many: str | None = None) -> str:
@@ -179,10 +179,8 @@ def run(args) -> int:
         progress.advance()
     progress.close()
     errors, warnings = sort_problems(errors), sort_problems(warnings)
-    for w in warnings:
-        print(clean(w), file=sys.stderr)
-    for e in errors:
-        print(clean(e), file=sys.stderr)
+    for problem in warnings + errors:
+        print(clean(problem), file=sys.stderr)
     out.close(errors, warnings)
     if errors:
         return EXIT_INPUT

@@ -8,7 +8,7 @@ import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
-from tracker import graph as G
+from tracker import graph
 from tracker.checks import remedy as remedies
 from tracker.checks.result import FAIL
 from tracker.checks.site import headroom_kw
@@ -107,7 +107,7 @@ class _Plan:
     """The replacement worked out from the site file as read."""
 
     state: object
-    ss: object
+    site_state: object
     circuit: object
     load: object
     path: Path
@@ -127,11 +127,11 @@ def _plan(root: Path, folder: str, history, ref: tuple, key: str, other: str, va
         # Anything changed while nothing watched is recorded first, so the replacement is
         # diffed against the file as it really was.
         state, _ = start(root, history, Authors(root), folders={folder})
-    ss = state.site_by_id(site_id)
-    if ss is None:
+    site_state = state.site_by_id(site_id)
+    if site_state is None:
         errs = [str(e) for errs in state.errors.values() for e in errs]
         raise CommandError(f"site {site_id} does not load; fix it first:\n" + "\n".join(errs))
-    circuit = next((c for c in ss.site.circuits if c.board == board_id and c.id == circuit_id), None)
+    circuit = next((c for c in site_state.site.circuits if c.board == board_id and c.id == circuit_id), None)
     load = next((ld for ld in circuit.loads if ld.id == load_id), None) if circuit else None
     if load is None:
         raise CommandError(f"no load {'/'.join(ref)} in the site files")
@@ -150,7 +150,7 @@ def _plan(root: Path, folder: str, history, ref: tuple, key: str, other: str, va
         new_text = set_scalar(text, load.src.path, key, value, drop=(other,))
     except EditError as exc:
         raise CommandError(f"{load.src.file}: {exc}") from None
-    return _Plan(state, ss, circuit, load, path, original, bom + new_text.encode("utf-8"), old_key, old_value)
+    return _Plan(state, site_state, circuit, load, path, original, bom + new_text.encode("utf-8"), old_key, old_value)
 
 
 def _fmt_check(c) -> str:
@@ -184,113 +184,187 @@ def _table(title: str, before, after) -> list[str]:
     return lines
 
 
-def run(args) -> int:
-    try:
-        root = check_root(args.path)
-        ref = _parse_ref(args.load_ref)
-        site_id, board_id, circuit_id, load_id = ref
-        by = plain_name("--by", args.by)
-        value = args.power_kw if args.power_kw is not None else args.current_a
-        key, other = ("power_kw", "current_a") if args.power_kw is not None else ("current_a", "power_kw")
-        if not math.isfinite(value) or value <= 0 or value > (MAX_KW if key == "power_kw" else MAX_A):
-            raise CommandError(f"--{key.replace('_', '-')} {value:g} is out of range (more than 0, at most "
-                               f"{MAX_KW if key == 'power_kw' else MAX_A:g})")
-        folder = folder_of_site(root, site_id)
-        history = None if args.dry_run else open_history(args)
-    except CommandError as exc:
-        return fail(exc)
-    authors = Authors(root, by=by)
-    circuit_ref = f"{site_id}/{board_id}/{circuit_id}"
-    recorded = None
-    try:
-        for attempt in range(MAX_TRIES):
-            try:
-                plan = _plan(root, folder, history, ref, key, other, value)
-            except CommandError as exc:
-                return fail(exc)
-            except OSError as exc:
-                if disk_full(exc):
-                    return fail(CommandError(f"disk full: {exc.strerror}; nothing was changed"))
-                raise
-            state, ss, load = plan.state, plan.ss, plan.load
-            before = ss.result
-            outcome = state.apply_bytes(load.src.file, plan.new)
-            if outcome is None or not outcome.valid or {c.ref for c in outcome.changes} != {args.load_ref}:
-                detail = "; ".join(str(e) for e in (outcome.errors if outcome else [])) or \
-                    "the edit changed more than the one value"
-                print(f"izwatch: the edit was not made: {clean(detail)}")
-                return EXIT_INPUT
-            after = state.site_by_id(site_id).result
-            if history is None:
-                break
-            rev = to_revision(outcome, "replace", authors(load.src.file), args.note)
-            swap = FileSwap(plan.path, plan.original, plan.new)
-            try:
-                recorded = history.record_after(rev, swap.swap, undo=swap.undo)
-                break
-            except FileChanged:
-                continue     # another edit landed meanwhile: work it out again from the file as it is now
-            except (OSError, sqlite3.Error) as exc:
-                if not disk_full(exc):
-                    raise
-                if swap.keep is not None:   # could not be put back: say exactly that
-                    return fail(CommandError(
-                        f"disk full while recording: {load.src.file} has the new value but the history could not "
-                        "record it; free some space and run `izwatch watch` to record it"))
-                return fail(CommandError(f"disk full: the replacement was not made and nothing was recorded "
-                                         f"({load.src.file} is unchanged); free some space and run it again"))
-            except HistoryError as exc:     # the history's server refused or went away
-                if swap.keep is not None:
-                    return fail(CommandError(f"{exc}: {load.src.file} has the new value but the history could not "
-                                             "record it; run `izwatch watch` to record it"))
-                return fail(CommandError(f"{exc}: the replacement was not made and nothing was recorded "
-                                         f"({load.src.file} is unchanged)"))
-            finally:
-                swap.done()
-        else:
-            return fail(CommandError(f"{load.src.file} kept changing while the replacement was being recorded "
-                                     f"({MAX_TRIES} tries): nothing was written; run it again"))
-    finally:
-        if history is not None:
-            history.close()
-    circuit = plan.circuit
-    old_key, old_value = plan.old_key, plan.old_value
+@dataclass
+class _Request:
+    """What the command line asks for, checked."""
 
-    # -- what it did ----------------------------------------------------------------------
-    old_show = f"{old_key} {format_number(old_value)}" if old_value is not None else "(none)"
-    lines = [f"{args.load_ref}: {old_show} → {key} {format_number(value)}"
-             + (f" ({clean(load.name)})" if load.name else "")]
+    root: Path
+    ref: tuple[str, str, str, str]    # site, board, circuit, load
+    key: str                          # power_kw or current_a: the value given
+    other: str                        # the other one, dropped from the load if present
+    value: float
+    folder: str                       # the site's folder
+    history: object                   # None on a dry run
+    by: str
+
+    @property
+    def circuit_ref(self) -> str:
+        return "/".join(self.ref[:3])
+
+
+@dataclass
+class _Done:
+    """The replacement made (or worked out, on a dry run)."""
+
+    plan: _Plan
+    before: object                    # the site's results before and after
+    after: object
+    recorded: object                  # the history's Recorded; None on a dry run
+
+
+def _request(args) -> _Request:
+    root = check_root(args.path)
+    ref = _parse_ref(args.load_ref)
+    by = plain_name("--by", args.by)
+    value = args.power_kw if args.power_kw is not None else args.current_a
+    key, other = ("power_kw", "current_a") if args.power_kw is not None else ("current_a", "power_kw")
+    if not math.isfinite(value) or value <= 0 or value > (MAX_KW if key == "power_kw" else MAX_A):
+        raise CommandError(f"--{key.replace('_', '-')} {value:g} is out of range (more than 0, at most "
+                           f"{MAX_KW if key == 'power_kw' else MAX_A:g})")
+    folder = folder_of_site(root, ref[0])
+    history = None if args.dry_run else open_history(args)
+    return _Request(root, ref, key, other, value, folder, history, by)
+
+
+class _Stop(Exception):
+    """The replacement cannot go on: the exit code, and what to print (on stdout for a bad edit,
+    as the command's one error line otherwise)."""
+
+    def __init__(self, code: int, message: str = "", error: CommandError | None = None):
+        super().__init__(message)
+        self.code, self.message, self.error = code, message, error
+
+
+def _replace(request: _Request, load_ref: str, note: str | None) -> _Done:
+    """Work the replacement out from the file as it is, re-check, and record it while writing
+    the file; again from the start when another edit of the file lands meanwhile."""
+    authors = Authors(request.root, by=request.by)
+    for _attempt in range(MAX_TRIES):
+        try:
+            plan = _plan(request.root, request.folder, request.history, request.ref, request.key, request.other,
+                         request.value)
+        except CommandError as exc:
+            raise _Stop(EXIT_INPUT, error=exc) from None
+        except OSError as exc:
+            if disk_full(exc):
+                raise _Stop(EXIT_INPUT, error=CommandError(f"disk full: {exc.strerror}; nothing was changed")) from None
+            raise
+        before = plan.site_state.result
+        outcome = plan.state.apply_bytes(plan.load.src.file, plan.new)
+        if outcome is None or not outcome.valid or {c.ref for c in outcome.changes} != {load_ref}:
+            detail = "; ".join(str(e) for e in (outcome.errors if outcome else [])) or \
+                "the edit changed more than the one value"
+            raise _Stop(EXIT_INPUT, f"izwatch: the edit was not made: {clean(detail)}")
+        after = plan.state.site_by_id(request.ref[0]).result
+        if request.history is None:
+            return _Done(plan, before, after, None)
+        revision = to_revision(outcome, "replace", authors(plan.load.src.file), note)
+        try:
+            return _Done(plan, before, after, _record(request.history, revision, plan))
+        except FileChanged:
+            continue     # another edit landed meanwhile: work it out again from the file as it is now
+    raise _Stop(EXIT_INPUT, error=CommandError(
+        f"{plan.load.src.file} kept changing while the replacement was being recorded ({MAX_TRIES} tries): "
+        "nothing was written; run it again"))
+
+
+def _record(history, revision, plan: _Plan):
+    """Record the revision and write the file under the history's write lock; if either fails,
+    say exactly what is on disk and in the history."""
+    file = plan.load.src.file
+    swap = FileSwap(plan.path, plan.original, plan.new)
+    try:
+        return history.record_after(revision, swap.swap, undo=swap.undo)
+    except (OSError, sqlite3.Error) as exc:
+        if not disk_full(exc):
+            raise
+        if swap.keep is not None:   # could not be put back: say exactly that
+            raise _Stop(EXIT_INPUT, error=CommandError(
+                f"disk full while recording: {file} has the new value but the history could not "
+                "record it; free some space and run `izwatch watch` to record it")) from None
+        raise _Stop(EXIT_INPUT, error=CommandError(
+            f"disk full: the replacement was not made and nothing was recorded "
+            f"({file} is unchanged); free some space and run it again")) from None
+    except HistoryError as exc:     # the history's server refused or went away
+        if swap.keep is not None:
+            raise _Stop(EXIT_INPUT, error=CommandError(
+                f"{exc}: {file} has the new value but the history could not "
+                "record it; run `izwatch watch` to record it")) from None
+        raise _Stop(EXIT_INPUT, error=CommandError(
+            f"{exc}: the replacement was not made and nothing was recorded ({file} is unchanged)")) from None
+    finally:
+        swap.done()
+
+
+def _summary(request: _Request, done: _Done, load_ref: str, note: str | None) -> tuple[list[str], bool]:
+    """The lines that say what the replacement did, and whether anything there fails now."""
+    plan, before, after, recorded = done.plan, done.before, done.after, done.recorded
+    circuit_ref = request.circuit_ref
+    old_show = f"{plan.old_key} {format_number(plan.old_value)}" if plan.old_value is not None else "(none)"
+    lines = [f"{load_ref}: {old_show} → {request.key} {format_number(request.value)}"
+             + (f" ({clean(plan.load.name)})" if plan.load.name else "")]
     if recorded is not None:
         lines.append(f"  recorded as revision {recorded.id} by {clean(recorded.author)}"
-                     + (f": {clean(args.note)}" if args.note else ""))
+                     + (f": {clean(note)}" if note else ""))
     else:
         lines.append("  dry run: nothing written")
-    r_old, r_new = before.circuits[circuit_ref], after.circuits[circuit_ref]
-    lines += _table(f"circuit {circuit_ref} \"{clean(circuit.name)}\"", r_old.checks, r_new.checks)
-    failing = r_new.status == FAIL
-    g = state.graph
-    for up in G.upstream(g, circuit_ref):
-        kind = G.kind_of(g, up)
-        if kind == G.BOARD:
-            b_old, b_new = before.boards.get(up), after.boards[up]
-            lines += _table(f"board {up}", [b_old.check] if b_old else None, [b_new.check])
-            failing |= b_new.status == FAIL
-        elif kind == G.CIRCUIT:
-            c_old, c_new = before.circuits.get(up), after.circuits[up]
-            lines += _table(f"sub-main {up}", c_old.checks if c_old else None, c_new.checks)
-            failing |= c_new.status == FAIL
-        elif kind == G.SUPPLY_NODE and after.supply_check is not None:
-            lines += _table(f"origin {up}", [before.supply_check] if before.supply_check else None,
-                            [after.supply_check])
-            failing |= after.supply_check.status == FAIL
-    h_old, h_new = headroom_kw(before, r_old), headroom_kw(after, r_new)
-    show = lambda h: "—" if h is None else f"{h:+.2f} kW"  # noqa: E731
-    lines.append(f"headroom: {show(h_old)} → {show(h_new)}")
-    if r_new.status == FAIL:
-        fix = remedies.find(r_new)
+    old_result, new_result = before.circuits[circuit_ref], after.circuits[circuit_ref]
+    lines += _table(f"circuit {circuit_ref} \"{clean(plan.circuit.name)}\"", old_result.checks, new_result.checks)
+    failing = new_result.status == FAIL
+    upstream_lines, upstream_failing = _upstream(plan.state.graph, circuit_ref, before, after)
+    lines += upstream_lines
+    failing |= upstream_failing
+    headroom_before, headroom_after = headroom_kw(before, old_result), headroom_kw(after, new_result)
+    lines.append(f"headroom: {_kw(headroom_before)} → {_kw(headroom_after)}")
+    if new_result.status == FAIL:
+        fix = remedies.find(new_result)
         if fix:
             lines.append(f"remedy: {clean(fix['text'])}")
     lines.append("Caution: verify against the current regulations and the maker's data; work on "
                  "installations is for qualified people.")
+    return lines, failing
+
+
+def _upstream(estate_graph, circuit_ref: str, before, after) -> tuple[list[str], bool]:
+    """Before → after of every board, sub-main and origin upstream of the circuit."""
+    lines, failing = [], False
+    for up in graph.upstream(estate_graph, circuit_ref):
+        kind = graph.kind_of(estate_graph, up)
+        if kind == graph.BOARD:
+            board_before, board_after = before.boards.get(up), after.boards[up]
+            lines += _table(f"board {up}", [board_before.check] if board_before else None, [board_after.check])
+            failing |= board_after.status == FAIL
+        elif kind == graph.CIRCUIT:
+            submain_before, submain_after = before.circuits.get(up), after.circuits[up]
+            lines += _table(f"sub-main {up}", submain_before.checks if submain_before else None,
+                            submain_after.checks)
+            failing |= submain_after.status == FAIL
+        elif kind == graph.SUPPLY_NODE and after.supply_check is not None:
+            lines += _table(f"origin {up}", [before.supply_check] if before.supply_check else None,
+                            [after.supply_check])
+            failing |= after.supply_check.status == FAIL
+    return lines, failing
+
+
+def _kw(headroom: float | None) -> str:
+    return "—" if headroom is None else f"{headroom:+.2f} kW"
+
+
+def run(args) -> int:
+    try:
+        request = _request(args)
+    except CommandError as exc:
+        return fail(exc)
+    try:
+        done = _replace(request, args.load_ref, args.note)
+    except _Stop as stop:
+        if stop.error is not None:
+            return fail(stop.error)
+        print(stop.message)
+        return stop.code
+    finally:
+        if request.history is not None:
+            request.history.close()
+    lines, failing = _summary(request, done, args.load_ref, args.note)
     print("\n".join(lines))
     return EXIT_FAIL if failing else EXIT_OK

@@ -19,8 +19,6 @@ from tracker.progress import Progress
 from tracker.loading import load_estate, load_site
 from tracker.loading.estate import EstateError, inside, site_folders
 
-FORMATS = ("html", "csv", "json")
-
 
 def _renderers(fmt: str):
     from tracker.report import csv_rows, html_page, json_doc
@@ -167,8 +165,8 @@ def _all_sites(root: Path, args, since, db: Path) -> int:
         reader.close()
         progress.close()
     loaded_folders = {s.folder for s in estate.sites.values()}
-    failed = [(folder or root.name, sl.errors or [e for e in estate.errors if e.file.startswith(folder)])
-              for folder, sl in estate.loads.items() if folder not in loaded_folders]
+    failed = [(folder or root.name, loaded.errors or [e for e in estate.errors if e.file.startswith(folder)])
+              for folder, loaded in estate.loads.items() if folder not in loaded_folders]
     index = gather.index([(doc, name) for doc, name, _ in pages], failed, str(root))
     try:
         out.mkdir(exist_ok=True)

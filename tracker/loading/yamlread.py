@@ -7,8 +7,6 @@ needs them, by composing the file into nodes (which carry line and column marks)
 from __future__ import annotations
 
 import datetime
-import math
-from dataclasses import dataclass
 
 import yaml
 
@@ -128,14 +126,6 @@ class _Loader(yaml.CSafeLoader):
 
 
 _Loader.add_constructor(_TIMESTAMP, _Loader.construct_yaml_timestamp)   # the standard path too
-
-
-@dataclass(slots=True)
-class ParsedFile:
-    rel: str            # file name relative to the user's path
-    text: str
-    data: object        # the parsed document (a dict when valid)
-    sha256: str
 
 
 def decode(raw: bytes, rel: str) -> tuple[str | None, list[InputError]]:
@@ -258,10 +248,6 @@ def _expansion_problem(data) -> str | None:
     except _Refused as exc:
         return exc.message
     return None
-
-
-def is_finite_number(value) -> bool:
-    return not isinstance(value, float) or math.isfinite(value)
 
 
 class Locator:

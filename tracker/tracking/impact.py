@@ -15,56 +15,58 @@ from __future__ import annotations
 
 import networkx as nx
 
-from tracker import graph as G
+from tracker import graph
 from tracker.tracking.diff import ADDED, REMOVED, Change
 
 STRUCTURAL_FIELDS = {"fed_by", "feeds", "board"}
 
 
 def _kind(ref: str, *graphs: nx.DiGraph) -> str | None:
-    for g in graphs:
-        if ref in g:
-            return G.kind_of(g, ref)
+    for estate_graph in graphs:
+        if ref in estate_graph:
+            return graph.kind_of(estate_graph, ref)
     return None
 
 
-def affected_circuits(changes: list[Change], site_id: str, g_old: nx.DiGraph, g_new: nx.DiGraph) -> set[str] | None:
+def affected_circuits(changes: list[Change], site_id: str, graph_before: nx.DiGraph,
+                      graph_after: nx.DiGraph) -> set[str] | None:
     """Refs of the circuits to re-check; None: the whole site."""
     seeds: set[str] = set()
     out: set[str] = set()
-    for ch in changes:
-        if ch.ref == site_id:
+    for change in changes:
+        if change.ref == site_id:
             return None
-        kind = _kind(ch.ref, g_new, g_old)
-        if ch.field in STRUCTURAL_FIELDS:
+        kind = _kind(change.ref, graph_after, graph_before)
+        if change.field in STRUCTURAL_FIELDS:
             return None
-        if kind == G.BOARD:
-            if ch.change in (ADDED, REMOVED):
+        if kind == graph.BOARD:
+            if change.change in (ADDED, REMOVED):
                 return None
-            out |= G.downstream(g_new, ch.ref, G.CIRCUIT)
-        elif kind == G.CIRCUIT:
-            if ch.change in (ADDED, REMOVED) and _feeds_a_board(ch.ref, g_old, g_new):
+            out |= graph.downstream(graph_after, change.ref, graph.CIRCUIT)
+        elif kind == graph.CIRCUIT:
+            if change.change in (ADDED, REMOVED) and _feeds_a_board(change.ref, graph_before, graph_after):
                 return None
-            seeds.add(ch.ref)
-        elif kind == G.LOAD:
-            seeds.add(ch.ref.rsplit("/", 1)[0])
+            seeds.add(change.ref)
+        elif kind == graph.LOAD:
+            seeds.add(change.ref.rsplit("/", 1)[0])
         else:
             return None
     for ref in seeds:
-        g = g_new if ref in g_new else g_old
-        if ref in g_new:
+        around = graph_after if ref in graph_after else graph_before
+        if ref in graph_after:
             out.add(ref)
-            out |= G.downstream(g_new, ref, G.CIRCUIT)   # a sub-main: everything below it
-        submains = G.upstream(g, ref, G.CIRCUIT)
+            out |= graph.downstream(graph_after, ref, graph.CIRCUIT)   # a sub-main: everything below it
+        submains = graph.upstream(around, ref, graph.CIRCUIT)
         if submains:
             top = submains[-1]
             out.add(top)
-            out |= G.downstream(g_new, top, G.CIRCUIT)
+            out |= graph.downstream(graph_after, top, graph.CIRCUIT)
     return out
 
 
 def _feeds_a_board(ref: str, *graphs: nx.DiGraph) -> bool:
-    for g in graphs:
-        if ref in g and any(G.kind_of(g, s) == G.BOARD for s in g.successors(ref)):
+    for estate_graph in graphs:
+        if ref in estate_graph and any(graph.kind_of(estate_graph, below) == graph.BOARD
+                                       for below in estate_graph.successors(ref)):
             return True
     return False
