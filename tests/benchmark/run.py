@@ -17,7 +17,11 @@ process so that one measurement cannot warm the next:
   of them alike; and the terminal UI's new snapshot after each;
 - at the smallest and the largest size: end-to-end latency from a saved file to its event printed
   by `izwatch watch --json` (p50 and p95 over --edits edits), the watcher's first start (which
-  makes the history's first record), and its start on the unchanged estate with that history.
+  makes the history's first record), and its start on the unchanged estate with that history;
+  and a burst of 50 saves of one file paced at 50 a second: how long the saves took, and the time
+  from the last save to its event;
+- once: every hostile input of tests/reliability/test_hostile_yaml.py refused by `izwatch check`
+  (the slowest refusal; the reliability suite checks that each is refused, this how quickly).
 
 It prints one JSON document: the figures, the ratios and each target with whether it is met.
 """
@@ -169,6 +173,41 @@ class WatchProcess:
         return usage.ru_maxrss / 1024.0
 
 
+def burst(w: WatchProcess, path: Path) -> dict:
+    """50 saves of one site file paced at 50 a second, the last one breaking a circuit: how long
+    the saves took, and the time from the last save to its event; then the file is put back."""
+    site = sorted(p for p in path.iterdir() if p.is_dir() and not p.name.startswith("."))[0] / "site.yaml"
+    text = site.read_text()
+    old = re.search(r"kind: lighting, power_kw: ([0-9.]+)", text).group(0)
+    rel = site.relative_to(path).as_posix()
+    t0 = time.perf_counter()
+    for i in range(49):
+        site.write_text(text.replace(old, f"kind: lighting, power_kw: {0.01 * (i + 1):.2f}", 1))
+        time.sleep(max(0.0, t0 + (i + 1) / 50 - time.perf_counter()))
+    site.write_text(text.replace(old, "kind: lighting, power_kw: 60", 1))
+    t_last = time.perf_counter()
+    t_line, _ = w.wait_for(lambda d: d.get("file") == rel and d.get("transition") == "newly-failing", 60)
+    site.write_text(text)
+    w.wait_for(lambda d: d.get("file") == rel and d.get("transition") == "cleared", 60)
+    return {"saves": 50, "saves_s": t_last - t0, "last_save_to_event_s": t_line - t_last}
+
+
+def hostile_inputs(workdir: Path) -> dict:
+    """Each hostile input of the reliability suite, alone in a site, checked in a fresh process."""
+    from tests.reliability.test_hostile_yaml import CASES
+    times = {}
+    for name, content in sorted(CASES.items()):
+        site = workdir / "hostile" / "flat-1"
+        site.mkdir(parents=True, exist_ok=True)
+        if isinstance(content, str):
+            content = content.replace("{marker}", str(workdir / "hostile-ran")).encode("utf-8")
+        (site / "site.yaml").write_bytes(content)
+        times[name], _, _ = run_timed([sys.executable, "-m", "tracker.cli", "check", str(site.parent)], ok=(2,))
+    slowest = max(times, key=times.get)
+    return {"cases": len(times), "slowest": slowest, "slowest_s": times[slowest],
+            "median_s": statistics.median(times.values())}
+
+
 def end_to_end(path: Path, edits: int) -> dict:
     w = WatchProcess(path)
     t_ready, ready = w.wait_for(lambda d: d.get("event") == "ready")
@@ -196,12 +235,13 @@ def end_to_end(path: Path, edits: int) -> dict:
     w2 = WatchProcess(path)
     t_ready2, ready2 = w2.wait_for(lambda d: d.get("event") == "ready")
     restart = t_ready2 - w2.t0
+    bursts = burst(w2, path)
     w2.stop()
     q = statistics.quantiles(latencies, n=20)
     return {"edits": len(latencies), "p50_s": statistics.median(latencies), "p95_s": q[18],
             "max_s": max(latencies), "first_start_s": first_start, "restart_unchanged_s": restart,
             "restart_recorded_nothing": ready2.get("revisions") == ready.get("revisions") + len(latencies),
-            "watch_peak_mib": watch_rss}
+            "watch_peak_mib": watch_rss, "burst": bursts}
 
 
 def main() -> None:
@@ -238,6 +278,7 @@ def main() -> None:
     for n in sizes:
         res[n]["incremental"] = inc[str(paths[n])]
     print(f"# incremental re-checks done ({time.perf_counter() - t_all:.0f} s)", file=sys.stderr, flush=True)
+    hostile = hostile_inputs(workdir)
     lo, hi = min(sizes), max(sizes)
     targets = []
 
@@ -258,9 +299,10 @@ def main() -> None:
                1.2)
     if 100000 in res:
         target("check peak memory at 100k (MiB)", res[100000]["check_peak_mib"], 600)
+    target("slowest hostile input refused (seconds)", hostile["slowest_s"], 10)
     doc = {"benchmark": "izwatch/1", "python": platform.python_version(), "machine": platform.machine(),
            "cpus": os.cpu_count(), "total_s": round(time.perf_counter() - t_all, 1),
-           "sizes": res, "incremental_process_peak_mib": inc_peak, "targets": targets, "all_met": all(t["met"] for t in targets)}
+           "sizes": res, "incremental_process_peak_mib": inc_peak, "hostile_inputs": hostile, "targets": targets, "all_met": all(t["met"] for t in targets)}
     text = json.dumps(doc, indent=2)
     print(text)
     if a.out:
