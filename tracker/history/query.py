@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import json
 
+from tracker.events import stored_event
 from tracker.history.store import History
 
 
@@ -56,8 +57,7 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
     for rid, ref_, check, transition, value, limit_v, unit, detail in db.execute(
             f"SELECT revision_id, ref, check_id, transition, value, limit_value, unit, detail FROM events "
             f"WHERE revision_id IN ({marks}) ORDER BY revision_id, seq", ids):
-        events.setdefault(rid, []).append({"ref": ref_, "check": check, "transition": transition, "value": value,
-                                           "limit": limit_v, "unit": unit, "detail": detail})
+        events.setdefault(rid, []).append(stored_event(ref_, check, transition, value, limit_v, unit, detail))
     acks = {rid: {"ref": r, "checks": json.loads(c)} for rid, r, c in
             db.execute(f"SELECT revision_id, ref, checks FROM acks WHERE revision_id IN ({marks})", ids)}
     out = []

@@ -15,9 +15,10 @@ from tracker.history import History
 from tracker.loading.estate import sha256_hex
 from tracker.tracking.authors import Authors
 from tracker.tracking.diff import ADDED, Change, elements
+from tracker.events import input_error_event
 from tracker.tracking.outcome import FileOutcome, to_revision
 from tracker.tracking.state import EstateState, seed_in_parallel
-from tracker.tracking.transitions import INPUT_ERROR, compare
+from tracker.tracking.transitions import compare
 
 
 def _first_record(state: EstateState, contents: dict[str, bytes]):
@@ -33,8 +34,7 @@ def _first_record(state: EstateState, contents: dict[str, bytes]):
         out = FileOutcome(rel, folder, site.id if site else state.folder_name(folder), raw, sha256_hex(raw),
                           not errors, list(errors), first_record=True)
         if errors:
-            out.events = [{"ref": out.site_id, "check": None, "transition": INPUT_ERROR,
-                           "detail": "; ".join(str(e) for e in errors[:5])}]
+            out.events = [input_error_event(out.site_id, "; ".join(str(e) for e in errors[:5]))]
         elif site is not None:
             out.changes = [Change(ref, ADDED) for ref in elements(site, rel)]
             if rel == site.files[0]:

@@ -22,8 +22,9 @@ from tracker.model import Site
 from tracker.parallel import each_in_runs
 from tracker.tracking import impact
 from tracker.tracking.diff import ADDED, REMOVED, Change, diff_file, elements
+from tracker.events import input_error_event
 from tracker.tracking.outcome import FileOutcome
-from tracker.tracking.transitions import INPUT_ERROR, compare
+from tracker.tracking.transitions import compare
 
 __all__ = ["EstateState", "FileOutcome", "FolderSeed", "SiteState", "seed_folder", "seed_in_parallel"]
 
@@ -343,5 +344,5 @@ class EstateState:
         site_id = site_state.site.id if site_state is not None and site_state.site is not None else (
             self.folder_name(folder) if folder is not None else None)
         text = "; ".join(str(e) for e in errors[:5]) + (f" (and {len(errors) - 5} more)" if len(errors) > 5 else "")
-        event = {"ref": site_id or rel, "check": None, "transition": INPUT_ERROR, "detail": text}
+        event = input_error_event(site_id or rel, text)
         return FileOutcome(rel, folder or "", site_id, raw, digest, False, errors, [], [event], [])

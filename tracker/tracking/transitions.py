@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from tracker.checks.result import FAIL, CheckResult
 from tracker.checks.site import SiteResult
+from tracker.events import CLEARED, INPUT_ERROR, NEWLY_FAILING, TRANSITIONS, WORSE, Event, check_event  # noqa: F401
 
-NEWLY_FAILING, CLEARED, WORSE, INPUT_ERROR = "newly-failing", "cleared", "worse", "input-error"
 _EPS = 1e-9
 
 
@@ -34,12 +34,7 @@ def transition(old: CheckResult | None, new: CheckResult) -> str | None:
     return None
 
 
-def event(ref: str, r: CheckResult, kind: str) -> dict:
-    return {"ref": ref, "check": r.id, "transition": kind, "value": r.value, "limit": r.limit,
-            "unit": r.unit, "compare": r.compare, "detail": r.detail}
-
-
-def compare(old: SiteResult | None, new: SiteResult | None) -> tuple[list[dict], list[tuple]]:
+def compare(old: SiteResult | None, new: SiteResult | None) -> tuple[list[Event], list[tuple]]:
     """(events, changed results as (ref, status, {check: [status, value, limit, unit]}))."""
     before, after = checks_by_ref(old), checks_by_ref(new)
     events, changed = [], []
@@ -48,14 +43,14 @@ def compare(old: SiteResult | None, new: SiteResult | None) -> tuple[list[dict],
         for c in checks:
             kind = transition(prior.get(c.id), c)
             if kind:
-                events.append(event(ref, c, kind))
+                events.append(check_event(ref, c, kind))
         if ref not in before or _snapshot(checks) != _snapshot(before[ref][1]):
             changed.append((ref, status, _snapshot(checks)))
     for ref, (_, checks) in before.items():
         if ref not in after:
             for c in checks:
                 if c.status == FAIL:   # a failing element removed: its problem is gone with it
-                    events.append({**event(ref, c, CLEARED), "detail": "removed from the site files"})
+                    events.append(check_event(ref, c, CLEARED, detail="removed from the site files"))
     return events, changed
 
 
