@@ -22,6 +22,7 @@ from tracker.history import query
 from tracker.history.verify import verify
 from tracker.model import Site
 from tracker.output.json_out import CAUTION, circuit_entry
+from tracker.report import inspections as inspection_record
 
 SCHEMA = "izwatch.report/1"
 STATUSES = (PASS, FAIL, WARN, NOT_ASSESSED)
@@ -301,6 +302,7 @@ def build(site: Site, site_files: dict[str, str | None], db: Path, since: str | 
         "problems": problems,
         "history": history,
         "verification": hist["verification"],
+        "inspections": inspection_record.section(sr, now.date()),
         "warnings": [w.as_json() for w in warnings],
     }
 

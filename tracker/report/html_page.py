@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from tracker.checks import registry
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, UNIT_DIGITS, WARN, fmt
-from tracker.report import diagram
+from tracker.report import diagram, inspections_html
 from tracker.report.markup import Safe, cat, el
 from tracker.report.style import stylesheet
 from tracker.report.symbols import MEANING, ORDER, SHAPE, WORD, badge, mark
@@ -519,7 +519,7 @@ def _foot(doc: dict) -> Safe:
 def _contents() -> Safe:
     links = [("supply", "1 Site and supply"), ("diagram", "2 One-line diagram"), ("circuits", "3 Circuits"),
              ("problems", "4 Open problems"), ("history", "5 Change history"), ("integrity", "6 Integrity"),
-             ("appendix", "Appendix")]
+             ("inspections", "7 Inspections and deadlines"), ("appendix", "Appendix")]
     return el("p", "Contents: ", cat(*[cat(el("a", t, href=f"#{a}"), " · " if i < len(links) - 1 else "")
                                        for i, (a, t) in enumerate(links)]), class_="contents")
 
@@ -542,7 +542,7 @@ def render(doc: dict) -> str:
                el("aside", el("b", "Caution. "), doc["caution"], class_="caution"),
                _contents(), _warnings(doc),
                _supply(doc), _diagram(doc), _circuits(doc), _problems(doc), _history(doc), _integrity(doc),
-               _foot(doc), _appendix(doc))
+               inspections_html.section(doc), _foot(doc), _appendix(doc))
     return _page(f"Installation report — {site['name'] or site['id']}",
                  f"izwatch report · {site['id']} · {doc['generated_at'][:10]}", body)
 
