@@ -61,6 +61,7 @@ class IzwatchApp(App):
     BINDINGS = [
         Binding("question_mark,f1", "help", "help", key_display="?"),
         Binding("r", "recheck", "re-check"),
+        Binding("d", "deadlines", "deadlines", show=False),
         Binding("q", "quit", "quit"),
     ]
 
@@ -210,6 +211,11 @@ class IzwatchApp(App):
         self.notify(escape(f"⚠ not acknowledged: {clean(message.text)}"), severity="error", timeout=8)
 
     # -- help -------------------------------------------------------------------------------
+
+    def action_deadlines(self) -> None:
+        from tui.components.deadlines_screen import DeadlinesScreen
+        if not isinstance(self.screen, DeadlinesScreen):
+            self.push_screen(DeadlinesScreen(self.snapshot, self.clock))
 
     def action_help(self) -> None:
         if not isinstance(self.screen, HelpScreen):

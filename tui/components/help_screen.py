@@ -22,6 +22,8 @@ KEY_NAMES = {"question_mark": "?", "slash": "/", "left_square_bracket": "[", "ri
 # Longer words for the help than the footer has room for; any binding not here shows its own.
 LONGER = {
     "help": "this help", "recheck": "re-read every file and re-run every check", "quit": "quit",
+    "deadlines": "the deadlines of the inspection cycle across the estate, overdue first",
+    "toggle_done": "show or hide the deadlines already met",
     "filter('new')": "list only the newly broken (since their last acknowledgement)",
     "filter('failing')": "list everything that fails, newly broken first",
     "filter('all')": "list every circuit, board and origin",
@@ -60,6 +62,7 @@ def binding_groups() -> list[tuple[str, list[tuple[str, str]]]]:
 
     from tui.app import IzwatchApp
     from tui.components.ack_dialog import AckDialog
+    from tui.components.deadlines_screen import DeadlinesScreen
     from tui.components.details_screen import DetailsScreen
     from tui.components.estate_tree import EstateTree
     from tui.components.overview import OverviewScreen
@@ -73,6 +76,7 @@ def binding_groups() -> list[tuple[str, list[tuple[str, str]]]]:
         ("In the estate tree", binding_rows(list(EstateTree.BINDINGS) + tree_extra)),
         ("Details of an element", binding_rows(DetailsScreen.BINDINGS)),
         ("Acknowledging", binding_rows(AckDialog.BINDINGS) + [("Enter", "record (in the note field)")]),
+        ("Deadlines", binding_rows(DeadlinesScreen.BINDINGS)),
         ("Help", binding_rows(HelpScreen.BINDINGS)),
     ]
 
