@@ -8,6 +8,7 @@ old ones to find the events.
 """
 from __future__ import annotations
 
+import datetime
 from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
 
@@ -18,6 +19,7 @@ from tracker.checks.site import SiteResult, evaluate_site, explain_circuit
 from tracker.loading.errors import InputError
 from tracker.loading.estate import (SITE_FILE, STATE_DIR, FileResult, SiteLoad, assemble_site, duplicate_site_id,
                                     estate_files, inside, read_content, sha256_hex)
+from tracker.inspection.events import deadline_events
 from tracker.model import Site
 from tracker.parallel import each_in_runs
 from tracker.tracking import impact
@@ -128,6 +130,7 @@ class EstateState:
         self.errors: dict[str, list[InputError]] = {}   # rel -> open input errors
         self.by_id: dict[str, str] = {}              # site id -> folder
         self._id_of: dict[str, str] = {}             # folder -> site id
+        self.today = datetime.date.today              # the day deadlines are judged on (tests set it)
 
     # -- where files belong ----------------------------------------------------------------
 
@@ -308,6 +311,7 @@ class EstateState:
         new_result = evaluate_site(new_site, old_result, recheck, explain=False)
         events, results = compare(old_result, new_result)
         self.explain_events(events, new_result)
+        events += deadline_events(old_site, new_site, self.today())
         site_state.site, site_state.result = new_site, new_result
         self._place(site_state)
         rechecked = len(new_site.circuits) if recheck is None else len(recheck)
