@@ -225,3 +225,10 @@ def k_factor(role: str, conductor_c: float, route: str | None = None) -> KFactor
 def deadlines() -> dict:
     """The inspection cycle's deadline rules (tracker/data/deadlines.yaml)."""
     return _load("deadlines.yaml")
+
+
+@lru_cache(maxsize=None)
+def suggested_codes() -> dict:
+    """Suggested classification codes for failing measured checks (tracker/data/suggested_codes.yaml:
+    common practice, a suggestion for the inspector to confirm)."""
+    return _load("suggested_codes.yaml")
