@@ -28,6 +28,8 @@ class DueItem:
     source: str
     ref: str
     done_on: datetime.date | None = None    # when the duty was met (status done)
+    duty: str = ""                          # next-inspection | first-inspection | report-copy | remedial | confirmation
+    about: tuple = ()                       # (inspection key,) or (inspection key, observation number from 1)
 
     def as_json(self) -> dict:
         return {"site": self.site, "what": self.what, "due": self.due.isoformat(), "status": self.status,
@@ -64,8 +66,8 @@ def site_items(site: Site, on: datetime.date) -> list[DueItem]:
     for x in site.inspections:
         if x.date > on:
             continue
-        for o in x.observations:
-            items.extend(_observation_items(site, x, o, on, duties))
+        for n, o in enumerate(x.observations, 1):
+            items.extend(_observation_items(site, x, n, o, on, duties))
     items.sort(key=lambda i: (i.due, i.what))
     return items
 
@@ -77,7 +79,8 @@ def _next_inspection(site: Site, on: datetime.date, duties: dict) -> list[DueIte
         if first is None:
             return []
         return [DueItem(site.id, "first inspection and test (none recorded)", first.by,
-                        status_on(first.by, on, NEXT_DUE_SOON_DAYS, None), first.cite(), site.id)]
+                        status_on(first.by, on, NEXT_DUE_SOON_DAYS, None), first.cite(), site.id,
+                        duty="first-inspection")]
     last = done[-1]
     rule: Duty | None = duties.get("next-inspection")
     soon = rule.soon_days if rule is not None else NEXT_DUE_SOON_DAYS
@@ -91,14 +94,14 @@ def _next_inspection(site: Site, on: datetime.date, duties: dict) -> list[DueIte
     else:
         due, source = rule_due, rule.cite()
     return [DueItem(site.id, f"next inspection and test (last {last.date.isoformat()})", due,
-                    status_on(due, on, soon, None), source, site.id)]
+                    status_on(due, on, soon, None), source, site.id, duty="next-inspection", about=(last.key,))]
 
 
 def _report_copy(site: Site, x: Inspection, on: datetime.date, duty: Duty) -> DueItem:
     due = period_end(x.date, duty.period)
     return DueItem(site.id, f"copy of the {x.date.isoformat()} report to the tenants", due,
                    status_on(due, on, duty.soon_days, x.copy_to_tenant_on), duty.cite(),
-                   inspection_ref(site.id, x), x.copy_to_tenant_on)
+                   inspection_ref(site.id, x), x.copy_to_tenant_on, "report-copy", (x.key,))
 
 
 def remedial_due(x: Inspection, o: Observation, duty: Duty) -> datetime.date:
@@ -109,7 +112,8 @@ def remedial_due(x: Inspection, o: Observation, duty: Duty) -> datetime.date:
     return due
 
 
-def _observation_items(site: Site, x: Inspection, o: Observation, on: datetime.date, duties: dict) -> list[DueItem]:
+def _observation_items(site: Site, x: Inspection, n: int, o: Observation, on: datetime.date,
+                       duties: dict) -> list[DueItem]:
     out = []
     label = f"{o.code} {_short(o.text)}" + (f" ({o.ref})" if o.ref else "")
     ref = _observation_ref(site, x, o)
@@ -119,13 +123,13 @@ def _observation_items(site: Site, x: Inspection, o: Observation, on: datetime.d
         late = o.done_on is not None and o.done_on > due
         what = f"remedial work: {label}" + (f" — done late, {o.done_on.isoformat()}" if late else "")
         out.append(DueItem(site.id, what, due, status_on(due, on, remedial.soon_days, o.done_on),
-                           remedial.cite(), ref, o.done_on))
+                           remedial.cite(), ref, o.done_on, "remedial", (x.key, n)))
     confirm = duties.get("confirmation")
     if confirm is not None and o.code in ("C1", "C2", "FI") and o.done_on is not None and o.done_on <= on:
         due = period_end(o.done_on, confirm.period)
         out.append(DueItem(site.id, f"written confirmation of the work to {confirm.to}: {label}", due,
                            status_on(due, on, confirm.soon_days, o.confirmed_on), confirm.cite(), ref,
-                           o.confirmed_on))
+                           o.confirmed_on, "confirmation", (x.key, n)))
     return out
 
 
