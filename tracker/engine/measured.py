@@ -78,6 +78,18 @@ def zs_at_operating_ohm(zs_measured_ohm: float, ze_ohm: float, operating_c: floa
     return ze_ohm + (zs_measured_ohm - ze_ohm) * ratio
 
 
+def max_measured_zs_ohm(max_zs_ohm: float, ze_ohm: float, operating_c: float, test_c: float = 20.0) -> float:
+    """The most a Zs measured at `test_c` may read for a maximum `max_zs_ohm` at the operating
+    temperature: the inverse of :func:`zs_at_operating_ohm` (BS 7671 Appendix 3)."""
+    ratio = resistance_multiplier(test_c) / resistance_multiplier(operating_c)
+    return ze_ohm + (max_zs_ohm - ze_ohm) * ratio
+
+
+def temperature_ratio(operating_c: float, test_c: float = 20.0) -> float:
+    """Copper's resistance at `operating_c` over that at `test_c`."""
+    return resistance_multiplier(operating_c) / resistance_multiplier(test_c)
+
+
 def expected_r1_r2_ohm(r1_mohm_per_m: float, r2_mohm_per_m: float, length_m: float, test_c: float = 20.0,
                        ring: bool = False) -> float:
     """R1+R2 that a cable of route length `length_m` should measure at `test_c`, from its
