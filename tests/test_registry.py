@@ -51,7 +51,7 @@ def test_the_schemas_describe_working_field_by_field():
 
 # Units live in names (DEVELOPERS.md): a working figure's declared unit and its key's suffix agree.
 SUFFIXES = {"A": "_a", "V": "_v", "%": "_pct", "ohm": "_ohm", "mm2": "_mm2", "kA": "_ka", "s": "_s", "mA": "_ma",
-            "A2s": "_a2s"}
+            "A2s": "_a2s", "Mohm": "_mohm", "ms": "_ms", "m": "_m"}
 
 
 def test_working_fields_carry_their_unit_in_their_name():

@@ -5,6 +5,7 @@ from typing import NamedTuple
 
 from tracker.checks import capacity, registry
 from tracker.checks.context import BoardContext, Facts, build_facts
+from tracker.checks.readings import counted
 from tracker.checks.registry import Outcome
 from tracker.checks.result import CheckResult, worst
 from tracker.checks.working import NO_WORKING, CircuitWorking
@@ -28,6 +29,7 @@ class CircuitResult(NamedTuple):
     vd_end_v: float | None      # volts dropped from the origin to the far end (sub-mains: at the fed board)
     v_per_a: float | None       # this circuit's own volts per ampere
     vd_slack_v: float | None = None   # volts left before the voltage-drop limit (for headroom upstream)
+    readings: object = None           # the latest measurements the reading checks judged (Readings)
 
     @property
     def site_id(self) -> str:
@@ -58,11 +60,11 @@ class CircuitResult(NamedTuple):
 
 
 def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
-             explain: bool = True) -> tuple[CircuitResult, Facts]:
+             explain: bool = True, readings=None) -> tuple[CircuitResult, Facts]:
     """Every check of the circuit that applies, in the registry's order; with explain=False the
     details and the working records are left out (faster, for searches and for a state that only
     needs the verdicts and figures)."""
-    f = build_facts(circuit, ctx, fed_demand_a, explain)
+    f = build_facts(circuit, ctx, fed_demand_a, explain, readings)
     plan = registry.plan(circuit)
     done: dict[str, Outcome] = {}
     for spec in plan.run:
@@ -75,13 +77,13 @@ def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = N
     vd_rec = _record(done, "voltage-drop")
     result = CircuitResult(
         ref=f"{ctx.site_id}/{circuit.board}/{circuit.id}", circuit=circuit, ctx=ctx, fed_demand_a=fed_demand_a,
-        checks=checks, status=worst(r.status for r in checks), ib_a=f.ib_a, in_a=f.in_a,
+        checks=checks, status=worst(r.status for r in counted(checks)), ib_a=f.ib_a, in_a=f.in_a,
         iz_a=capacity_rec.iz_a if capacity_rec else None,
         basis=capacity_rec.basis if capacity_rec else capacity.DEVICE,
         working=CircuitWorking(tuple(o.record for o in done.values() if o.record is not None)) if explain
         else NO_WORKING,
         vd_end_v=vd_rec.end_v if vd_rec else None, v_per_a=vd_rec.per_a_v if vd_rec else None,
-        vd_slack_v=vd_rec.vd_slack_v if vd_rec else None,
+        vd_slack_v=vd_rec.vd_slack_v if vd_rec else None, readings=readings,
     )
     return result, f
 

@@ -128,6 +128,7 @@ class Facts:
     t_req_s: float
     cpc_route: str = "core"      # core | bunched | separate | armour: where the cpc runs (sets its k)
     explain: bool = True         # False: statuses and figures only, no working text (remedy trials)
+    readings: object = None      # tracker.checks.readings.Readings: the latest measurements, if any
 
 
 # Where the cpc runs (BS 7671 Tables 54.2–54.4): a core of the cable; an insulated conductor bunched
@@ -161,7 +162,7 @@ def _armour_cpc(cable) -> tuple[float | None, float | None, str]:
 
 
 def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
-                explain: bool = True) -> Facts:
+                explain: bool = True, readings=None) -> Facts:
     sup = ctx.supply
     kind = catalogue.cable_kind(circuit.cable.kind)
     info = catalogue.device_info(circuit.device.kind)
@@ -208,7 +209,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         sockets=sockets, lighting=rules.has_kind(circuit, "lighting"), distribution=circuit.is_submain,
         rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how, cpc_route=route,
         r_line_mohm_per_m=r_line, r_cpc_mohm_per_m=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
-        zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain,
+        zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain, readings=readings,
     )
 
 

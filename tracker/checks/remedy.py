@@ -16,6 +16,7 @@ from tracker.checks import registry
 from tracker.checks.breaking_capacity import BREAKING_STEPS_KA
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.context import device_label
+from tracker.checks.readings import READING_CHECKS
 from tracker.checks.registry import BREAKING, CURVE, RATING, RATING_UP, RCD, SIZE
 from tracker.checks.result import FAIL, NOT_ASSESSED, WARN
 from tracker.model import Cable, Device
@@ -29,7 +30,9 @@ def _failing(result: CircuitResult) -> set[str]:
 
 
 def _with(result: CircuitResult, status: str) -> set[str]:
-    return {r.id for r in result.checks if r.status == status}
+    # The checks on readings judge the installed circuit as measured: a change to its cable or device
+    # is not theirs to judge (the readings would be taken again), so the search leaves them out.
+    return {r.id for r in result.checks if r.status == status and r.id not in READING_CHECKS}
 
 
 def _load_limited(result: CircuitResult, failing: set[str]) -> bool:

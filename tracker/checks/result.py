@@ -7,7 +7,7 @@ PASS, FAIL, WARN, NOT_ASSESSED = "pass", "fail", "warn", "not-assessed"
 # Worst first. An unknown is worse than a caution: a not-assessed check has not been shown to hold.
 SEVERITY = {FAIL: 3, NOT_ASSESSED: 2, WARN: 1, PASS: 0}
 
-UNIT_DIGITS = {"A2s": 0, "A": 2, "V": 2, "%": 2, "ohm": 3, "mm2": 2, "kA": 2, "kW": 2, "mA": 0}
+UNIT_DIGITS = {"A2s": 0, "A": 2, "V": 2, "%": 2, "ohm": 3, "mm2": 2, "kA": 2, "kW": 2, "mA": 0, "Mohm": 2, "ms": 1}
 
 
 class CheckResult(NamedTuple):

@@ -7,6 +7,7 @@ from dataclasses import dataclass, field
 from tracker.checks import circuit as circuit_checks
 from tracker.checks import demand as demand_checks
 from tracker.checks.circuit import CircuitResult
+from tracker.checks.readings import latest_readings
 from tracker.checks.context import BoardContext, child_context, build_facts, origin_context, supply_context
 from tracker.checks.result import CheckResult, worst
 from tracker.model import Circuit, Site
@@ -65,6 +66,7 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
         return demands[board_id]
 
     out = SiteResult(site)
+    readings = latest_readings(site)
     old = previous.circuits if previous is not None else {}
     boards = {b.id: b for b in site.boards}
 
@@ -80,7 +82,7 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
             if prior is not None and recheck is not None and cref not in recheck:
                 result, facts = prior, None
             else:
-                result, facts = circuit_checks.evaluate(c, ctx, fed, explain)
+                result, facts = circuit_checks.evaluate(c, ctx, fed, explain, readings.get(f"{c.board}/{c.id}"))
             out.circuits[cref] = result
             if c.feeds:
                 facts = facts or build_facts(c, ctx, fed)
@@ -143,7 +145,7 @@ def explain_circuit(result: CircuitResult) -> CircuitResult:
     the inputs the result holds: the circuit, the conditions at its board, the demand it feeds)."""
     if all(c.detail for c in result.checks):
         return result
-    explained, _ = circuit_checks.evaluate(result.circuit, result.ctx, result.fed_demand_a, True)
+    explained, _ = circuit_checks.evaluate(result.circuit, result.ctx, result.fed_demand_a, True, result.readings)
     return explained
 
 

@@ -3,6 +3,7 @@ schema/check-output.schema.json)."""
 from __future__ import annotations
 
 from tracker.checks import remedy as remedies
+from tracker.inspection.suggest import suggestions
 from tracker.checks.result import FAIL
 from tracker.checks.site import SiteResult, headroom_kw
 
@@ -36,6 +37,9 @@ def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
     }
     if with_remedy and r.status == FAIL:
         entry["remedy"] = remedies.find(r)
+        found = suggestions(r.checks)
+        if found:
+            entry["suggested_codes"] = found
     return entry
 
 
