@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from operator import itemgetter
 
 from tracker.checks.result import FAIL, PASS
+from tracker.checks.readings import unmeasured
 from tracker.checks.site import SiteResult
 from tracker.history import History
 from tracker.history.query import failing_since, latest_acks, refs_touched, revisions_by_id
@@ -113,7 +114,7 @@ def _base_rows(sr: SiteResult) -> list[tuple]:
     for ref, r in sr.circuits.items():
         out.append((ref, CIRCUIT, r.circuit.board, r.circuit.id, clean(r.circuit.name), r.status,
                     tuple(c.id for c in r.checks if c.status == FAIL),
-                    tuple(c.id for c in r.checks if c.status != PASS)))
+                    tuple(c.id for c in r.checks if c.status != PASS and not unmeasured(c))))
     return out
 
 

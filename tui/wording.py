@@ -23,7 +23,8 @@ STATE_WORDS = {NEW: "newly broken", ACKED: "acknowledged", WARN: "warning", NOT_
 STATUS_MARK = {FAIL: "✗", WARN: "!", NOT_ASSESSED: "?", PASS: "✓"}
 STATUS_WORD = {FAIL: "FAIL", WARN: "warn", NOT_ASSESSED: "not assessed", PASS: "pass"}
 
-UNIT_SHOWN = {"ohm": "Ω", "mm2": "mm²", "%": "%", "A": "A", "V": "V", "kA": "kA", "kW": "kW", "mA": "mA", "s": "s"}
+UNIT_SHOWN = {"ohm": "Ω", "mm2": "mm²", "%": "%", "A": "A", "V": "V", "kA": "kA", "kW": "kW", "mA": "mA", "s": "s",
+              "Mohm": "MΩ", "ms": "ms"}
 
 # Field names carry their unit (`power_kw`); shown as "power … kW".
 _FIELD_UNITS = (("_mm2", "mm²"), ("_ohm", "Ω"), ("_kw", "kW"), ("_ka", "kA"), ("_ma", "mA"), ("_mm", "mm"),

@@ -14,10 +14,13 @@ from tracker.checks.breaking_capacity import BreakingCapacityWorking
 from tracker.checks.capacity import DESIGN, DEVICE, RING, CapacityWorking
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.context import device_label
+from tracker.checks.continuity import ContinuityWorking
 from tracker.checks.cpc_adiabatic import CpcAdiabaticWorking
 from tracker.checks.design_current import DesignCurrentWorking
 from tracker.checks.fault_loop import FaultLoopWorking
 from tracker.checks.line_adiabatic import LineAdiabaticWorking
+from tracker.checks.measured_zs import MeasuredZsWorking
+from tracker.checks.readings import unmeasured
 from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
 from tracker.checks.site import explain_circuit, SiteResult, headroom_kw
@@ -182,15 +185,54 @@ def circuit_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) 
         Section("Earth fault loop", _fault_loop(r, chk.get("fault-loop"))),
         Section("Adiabatic (minimum sizes)", _adiabatic(r, chk.get("cpc-adiabatic"), chk.get("line-adiabatic"))),
         Section("Fault level", _fault_level(r, chk.get("breaking-capacity"))),
+        Section("As measured", _as_measured(r, chk)),
     )
     hk = headroom_kw(sr, r)
     head = ("not assessed: a check that depends on the load could not be assessed" if hk is None
             else f"{hk:+.2f} kW " + ("more load before a check of it or upstream fails" if hk >= 0
                                      else "over: that much load must come off"))
-    gauges = tuple(g for g in (gauge(x) for x in r.checks) if g is not None)
+    # A check on readings with nothing measured is said once, in "As measured", not in every list.
+    shown = [x for x in r.checks if not unmeasured(x)]
+    gauges = tuple(g for g in (gauge(x) for x in shown) if g is not None)
     title = clean(c.name) if c.name else row.ref
     return Working(row.ref, CIRCUIT, title, r.status, row.state, c.src.file if c.src else None, sections,
-                   gauges, check_lines(row.ref, r.checks, snapshot), head, r.status == FAIL)
+                   gauges, check_lines(row.ref, shown, snapshot), head, r.status == FAIL)
+
+
+def _as_measured(r: CircuitResult, chk: dict) -> tuple[Line, ...]:
+    """The latest readings beside the figures calculated from the model, each with its check."""
+    rd = r.readings
+    if rd is None:
+        return (Line("readings", "none recorded for this circuit (inspections: results in the site files)"),)
+    m = rd.measurement
+    zs_rec, cont_rec = r.working.of(MeasuredZsWorking), r.working.of(ContinuityWorking)
+    fl_rec = r.working.of(FaultLoopWorking)
+    lines = [Line("inspection", f"{rd.date.isoformat()} by {clean(rd.by)}"
+                                + (f", Ze {plain(rd.ze_ohm)} Ω measured" if rd.ze_ohm is not None else ""))]
+    if m.zs_ohm is not None:
+        calc = f" — calculated {number(fl_rec.zs_ohm, 'ohm')} at the operating temperature" \
+            if fl_rec is not None and fl_rec.zs_ohm is not None else ""
+        lines.append(Line("Zs", f"{number(m.zs_ohm, 'ohm')} measured{calc}; {figures(chk['measured-zs'])}",
+                          chk["measured-zs"].status))
+    if m.r1_r2_ohm is not None or m.ring is not None:
+        expected = cont_rec.r1_r2_expected_ohm if cont_rec is not None else None
+        implied = cont_rec.implied_length_m if cont_rec is not None else None
+        text = f"{number(m.r1_r2_ohm, 'ohm')} measured" if m.r1_r2_ohm is not None else "ring ends only"
+        if expected is not None:
+            text += f" — expected {number(expected, 'ohm')} for the modelled cable"
+        if implied is not None:
+            text += f" (implies {implied:.0f} m against {r.circuit.cable.length_m:g} m)"
+        lines.append(Line("R1+R2", text, chk["continuity"].status))
+    if m.ring is not None:
+        lines.append(Line("ring ends", f"r1 {plain(m.ring.r1_ohm)} · rn {plain(m.ring.rn_ohm)} · "
+                                       f"r2 {plain(m.ring.r2_ohm)} Ω"))
+    if m.ir_mohm is not None:
+        lines.append(Line("insulation", figures(chk["insulation-resistance"])
+                          + (f" at {m.ir_test_v:g} V" if m.ir_test_v is not None else ""),
+                          chk["insulation-resistance"].status))
+    if m.rcd_ms is not None:
+        lines.append(Line("RCD time", figures(chk["rcd-operation"]), chk["rcd-operation"].status))
+    return tuple(lines)
 
 
 def _equipment(r: CircuitResult) -> tuple[Line, ...]:

@@ -5,6 +5,7 @@ REF is a circuit (SITE/BOARD/CIRCUIT) as SPEC §4 names it, or — an extension 
 """
 from __future__ import annotations
 
+from tracker.checks.readings import unmeasured
 from tracker.checks.result import PASS
 from tracker.cli import EXIT_OK
 from tracker.commands.common import CommandError, check_root, fail, folder_of_site, open_history, plain_name
@@ -26,7 +27,7 @@ def _open_checks(result, ref: str) -> list[str]:
         checks = (result.supply_check,) if result.supply_check is not None else None
     if checks is None:
         raise CommandError(f"no {('origin', 'board', 'circuit')[depth]} {ref} in the site files")
-    return [c.id for c in checks if c.status != PASS]
+    return [c.id for c in checks if c.status != PASS and not unmeasured(c)]
 
 
 def run(args) -> int:

@@ -3,6 +3,8 @@ on one line under its circuit. Statuses are words and symbols, never colour alon
 from __future__ import annotations
 
 from tracker.checks import remedy as remedies
+from tracker.checks.readings import unmeasured
+from tracker.inspection.suggest import LABEL, suggestions
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.checks.site import SiteResult, headroom_kw
 from tracker.output.json_out import CAUTION  # noqa: F401 - the check command prints it from here
@@ -43,12 +45,14 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
                          f"Ib {_num(r.ib_a):>6}  In {r.in_a:>5g}  Iz {_num(r.iz_a):>6}  "
                          f"headroom {_num(hk, '{:+.2f}')} kW")
             for chk in r.checks:
-                if chk.status in (FAIL, WARN, NOT_ASSESSED):
+                if chk.status in (FAIL, WARN, NOT_ASSESSED) and not unmeasured(chk):
                     lines.append(f"        {SYMBOL[chk.status]} {chk.id}: {clean(chk.detail)}")
             if r.status == FAIL:
                 rem = remedies.find(r)
                 if rem:
                     lines.append(f"        → remedy: {clean(rem['text'])}")
+                for sug in suggestions(r.checks):
+                    lines.append(f"        → {LABEL}: {sug['code']} for {sug['check']} ({sug['why']})")
     if sr.supply_check is not None and sr.supply_check.status != PASS:
         lines.append(f"   {SYMBOL[sr.supply_check.status]} origin demand: {clean(sr.supply_check.detail)}")
     if only_problems and len(lines) == 2:

@@ -12,6 +12,7 @@ from pathlib import Path
 
 from tracker import __version__
 from tracker.checks.context import build_facts, device_label
+from tracker.checks.readings import unmeasured
 from tracker.checks.fault_loop import FaultLoopWorking
 from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, UNIT_DIGITS, WARN
@@ -170,7 +171,7 @@ def _problems(sr: SiteResult, circuits: list[dict], boards: list[dict], origin: 
             [(c, "circuit", c["checks"]) for c in circuits]
             + [(b, "board", [b["check"]]) for b in boards]
             + [(origin, "origin", [origin["check"]])]):
-        open_checks = [chk for chk in checks if chk["status"] != PASS]
+        open_checks = [chk for chk in checks if chk["status"] != PASS and not unmeasured(chk)]
         if not open_checks:
             continue
         ref = entry["ref"]

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from tracker.checks import registry
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, UNIT_DIGITS, WARN, fmt
+from tracker.checks.readings import unmeasured
 from tracker.report import diagram, inspections_html
 from tracker.report.markup import Safe, cat, el
 from tracker.report.style import stylesheet
@@ -14,7 +15,7 @@ from tracker.tracking.diff import show_value
 # No script may run and nothing may be fetched, whatever ends up in the page.
 CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'"
 
-UNIT_TEXT = {"ohm": "Ω", "mm2": "mm²"}
+UNIT_TEXT = {"ohm": "Ω", "mm2": "mm²", "Mohm": "MΩ"}
 SOURCE_TEXT = {"watch": "seen by the watcher", "replace": "replacement", "ack": "acknow\u00adledgement",
                "startup": "found at start"}
 TRANSITION_MARK = {"newly-failing": FAIL, "worse": FAIL, "cleared": PASS, "input-error": WARN}
@@ -222,7 +223,7 @@ def _circuit_row(c: dict) -> Safe:
         zs_limit = None
     verdict = [badge(c["status"])]
     verdict += [el("div", mark(k["status"], 9), " ", k["id"], class_="small")
-                for k in c["checks"] if k["status"] != PASS]
+                for k in c["checks"] if k["status"] != PASS and not unmeasured(k)]
     return el("tr",
               el("td", c["id"]),
               el("td", what),
