@@ -84,3 +84,14 @@ def test_text_from_the_site_file_is_shown_escaped(site_factory, capsys):
     root = site_factory(RENTED.replace('"Circuit at the shed not traced"', '"Shed\\rok"'))
     _, out, _ = _due(capsys, root, "--on", "2026-03-25")
     assert "FI Shed\\rok" in out and "\r" not in out
+
+
+def test_the_demo_estate(capsys):
+    from tests.conftest import DEMO
+    code, out, _ = _due(capsys, DEMO, "--on", "2026-12-03", "--json")
+    items = json.loads(out)["items"]
+    overdue = [(i["site"], i["what"].split(" (")[0]) for i in items if i["status"] == "overdue"]
+    # demo_site/tansy-walk-9a: inspected 2021-01-19, the inspector asked for the next by 2024-01-18
+    assert overdue == [("tansy-walk-9a", "next inspection and test")] and code == 1
+    quill = {i["what"].split(":")[0]: i["status"] for i in items if i["site"] == "quill-court-2"}
+    assert quill["remedial work"] == "done"     # the C2, reconnected 2026-03-24 within the 28 days
