@@ -18,7 +18,11 @@ def render(revisions: list[dict], filtered: bool = False) -> str:
     for r in revisions:
         what = clean(r["file"] or (f"acknowledgement of {r['ack']['ref']}" if r.get("ack") else ""))
         note = f" — {clean(r['note'])}" if r["note"] else ""
-        lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {clean(r['author'])}{note}")
+        signed = r.get("signature")
+        commit = ""
+        if signed:      # arrived as a git commit: git's verdict on its signature
+            commit = f"  [commit {signed['status']}" + (f" by {clean(signed['signer'])}" if signed["signer"] else "") + "]"
+        lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {clean(r['author'])}{commit}{note}")
         for c in r["changes"]:
             if c["change"] == "modified":
                 lines.append(f"    {clean(c['ref'])} {clean(c['field'])} {clean(show_value(c['old']))} → "

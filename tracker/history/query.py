@@ -36,7 +36,9 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
                      "OR id IN (SELECT revision_id FROM events WHERE transition = 'input-error' AND ref = ?) "
                      "OR site = ?)")   # a site: also its revisions that changed no element (a file loads again)
         args += [ref, ref + "/", ref + "0"] * 3 + [ref.split("/")[0], ref]
-    sql = f"SELECT id, at, source, file, site, content_hash, valid, author, note, hash FROM {named(history)}"
+    signed = named(history) == "named_revisions"
+    sql = (f"SELECT id, at, source, file, site, content_hash, valid, author, note, hash"
+           f"{', signature, signer' if signed else ', NULL, NULL'} FROM {named(history)}")
     if where:
         sql += " WHERE " + " AND ".join(where)
     sql += " ORDER BY id" + (" DESC" if newest_first else "")
@@ -61,7 +63,7 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
     acks = {rid: {"ref": r, "checks": json.loads(c)} for rid, r, c in
             db.execute(f"SELECT revision_id, ref, checks FROM acks WHERE revision_id IN ({marks})", ids)}
     out = []
-    for rid, at, source, file, site, chash, valid, author, note, hsh in rows:
+    for rid, at, source, file, site, chash, valid, author, note, hsh, signature, signer in rows:
         ch, ev = changes.get(rid, []), events.get(rid, [])
         if ref:
             ch = [c for c in ch if _matches(c["ref"], ref)]
@@ -70,6 +72,8 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
                  "content_hash": chash, "valid": bool(valid), "hash": hsh, "changes": ch, "events": ev}
         if rid in acks:
             entry["ack"] = acks[rid]
+        if signature is not None:      # the change arrived as a git commit: how it was signed
+            entry["signature"] = {"status": signature, "signer": signer}
         out.append(entry)
     return out
 

@@ -313,6 +313,8 @@ def _revision(r: dict) -> dict:
             "changes", "events")
     out = {k: r[k] for k in keep}
     out["ack"] = r.get("ack")
+    if r.get("signature"):     # arrived as a git commit (extension)
+        out["signature"] = r["signature"]
     return out
 
 

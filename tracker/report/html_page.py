@@ -361,6 +361,16 @@ def _first_record(r: dict) -> bool:
     return r["source"] == "startup" and bool(r["changes"]) and all(ch["change"] == "added" for ch in r["changes"])
 
 
+def _signature_text(r: dict):
+    """How the git commit a change arrived by was signed, in words (nothing if not by a commit)."""
+    signed = r.get("signature")
+    if not signed:
+        return ""
+    words = {"verified": "signed commit, verified", "unverified": "signed commit, not verifiable",
+             "bad": "commit with a BAD signature", "unsigned": "unsigned commit"}[signed["status"]]
+    return el("div", words + (f" ({signed['signer']})" if signed.get("signer") else ""), class_="small")
+
+
 def _source_text(r: dict) -> str:
     return "first record" if _first_record(r) else SOURCE_TEXT.get(r["source"], r["source"])
 
@@ -431,7 +441,7 @@ def _history(doc: dict) -> Safe:
                el("td", f"#{r['id']}", el("div", _source_text(r), class_="small")),
                el("td", el("span", when(r["at"]).split(" ")[0], class_="nowrap"),
                   el("div", " ".join(when(r["at"]).split(" ")[1:]), class_="small")),
-               el("td", r["author"]),
+               el("td", r["author"], _signature_text(r)),
                el("td", r["note"] or el("span", "no note", class_="small")),
                el("td", _what_changed(r, doc["site"]["id"])),
                el("td", _what_it_did(r, doc["site"]["id"])), data_revision=r["id"])

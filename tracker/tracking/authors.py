@@ -15,12 +15,28 @@ def os_user() -> str:
         return os.environ.get("USER") or os.environ.get("USERNAME") or "unknown"
 
 
+class Attribution(str):
+    """A name, with how the git commit it comes from was signed (tracking/signatures.py):
+    `signature` is None where the change did not arrive as a commit."""
+    signature: str | None = None
+    signer: str | None = None
+
+    @classmethod
+    def signed(cls, name: str, mark: tuple[str, str | None] | None) -> str:
+        if mark is None:
+            return name
+        out = cls(name)
+        out.signature, out.signer = mark
+        return out
+
+
 class Authors:
     def __init__(self, root: Path, by: str | None = None):
         self.root = Path(root)
         self.by = by
         self._git: bool | None = None
         self._map: dict[str, str] | None = None
+        self._signatures = None
 
     def _in_git(self) -> bool:
         if self._git is None:
@@ -33,6 +49,17 @@ class Authors:
         return self._git
 
     def __call__(self, rel: str) -> str:
+        """Who made the change to `rel`; where it arrived as a git commit, an Attribution that
+        also says how the commit was signed."""
+        name = self._name(rel)
+        if self.by or not self._in_git():
+            return name
+        if self._signatures is None:
+            from tracker.tracking.signatures import Signatures
+            self._signatures = Signatures(self.root)
+        return Attribution.signed(name, self._signatures(rel))
+
+    def _name(self, rel: str) -> str:
         if self.by:
             return self.by
         if self._in_git():
@@ -52,6 +79,9 @@ class Authors:
         """One `git log` for every file at once (for a first record of many files)."""
         if self.by or not self._in_git():
             return
+        from tracker.tracking.signatures import Signatures
+        self._signatures = Signatures(self.root)
+        self._signatures.preload()
         try:
             out = subprocess.run(["git", "-C", str(self.root), "log", "--format=%x00%an", "--name-only",
                                   "--relative", "--", "."], capture_output=True, text=True, timeout=120)

@@ -29,7 +29,8 @@ class FileOutcome:
 def to_revision(outcome: FileOutcome, source: str, author: str, note: str | None = None) -> NewRevision:
     """The revision recording `outcome` (`source`: startup, watch, replace)."""
     return NewRevision(
-        source=source, author=author, file=outcome.file, site=outcome.site_id, content=outcome.content,
+        source=source, author=str(author), file=outcome.file, site=outcome.site_id, content=outcome.content,
         content_hash=outcome.content_hash, valid=outcome.valid, note=note,
         changes=[c.as_row() for c in outcome.changes], results=outcome.results, events=outcome.events,
+        signature=getattr(author, "signature", None), signer=getattr(author, "signer", None),
     )
