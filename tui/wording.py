@@ -7,8 +7,8 @@ from __future__ import annotations
 
 from datetime import datetime, timezone
 
-from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, UNIT_DIGITS, WARN
-from tracker.tracking.diff import show_value
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
+from tracker.output import figures
 
 # The state of a circuit in the UI: the engine's status, with failing circuits split by
 # whether somebody has acknowledged them since they last got worse.
@@ -23,30 +23,15 @@ STATE_WORDS = {NEW: "newly broken", ACKED: "acknowledged", WARN: "warning", NOT_
 STATUS_MARK = {FAIL: "✗", WARN: "!", NOT_ASSESSED: "?", PASS: "✓"}
 STATUS_WORD = {FAIL: "FAIL", WARN: "warn", NOT_ASSESSED: "not assessed", PASS: "pass"}
 
-UNIT_SHOWN = {"ohm": "Ω", "mm2": "mm²", "%": "%", "A": "A", "V": "V", "kA": "kA", "kW": "kW", "mA": "mA", "s": "s",
-              "Mohm": "MΩ", "ms": "ms"}
 
 # Field names carry their unit (`power_kw`); shown as "power … kW".
 _FIELD_UNITS = (("_mm2", "mm²"), ("_ohm", "Ω"), ("_kw", "kW"), ("_ka", "kA"), ("_ma", "mA"), ("_mm", "mm"),
                 ("_a", "A"), ("_v", "V"), ("_m", "m"), ("_c", "°C"), ("_s", "s"))
 
 
-def unit(u: str | None) -> str:
-    return UNIT_SHOWN.get(u or "", u or "")
-
-
-def number(x: float | None, u: str | None = None, digits: int | None = None) -> str:
-    """A value with its unit, or '—' where there is none."""
-    if x is None:
-        return "—"
-    if digits is None:
-        digits = UNIT_DIGITS.get(u or "", 2)
-    text = f"{x:.{digits}f}"
-    shown = unit(u)
-    return f"{text} {shown}" if shown else text
-
-
-plain = show_value   # a recorded old/new value as written in a site file
+unit = figures.unit_shown     # 'ohm' -> 'Ω'
+number = figures.quantity     # an engine figure with its unit: '35.00 A', or '—'
+plain = figures.as_written    # a recorded old/new value as written in a site file
 
 
 def field_and_unit(field: str | None) -> tuple[str, str]:
@@ -78,8 +63,7 @@ def change_text(change: dict, within: str) -> str:
     if change["change"] != "modified":
         return f"{where or 'this circuit'} {change['change']}"
     name, u = field_and_unit(change.get("field"))
-    old, new = plain(change.get("old")), plain(change.get("new"))
-    values = f"{old} → {new}" + (f" {u}" if u and change.get("new") is not None else "")
+    values = figures.change(change.get("old"), change.get("new"), u)
     return " ".join(x for x in (where, name, values) if x)
 
 

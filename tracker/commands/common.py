@@ -11,6 +11,7 @@ from pathlib import Path
 from tracker.cli import EXIT_INPUT
 from tracker.history import History, HistoryError, default_db_path, history_location
 from tracker.loading.estate import EstateError, site_folder_of, site_folders
+from tracker.output import figures
 from tracker.output.terminal_text import clean, clean_lines, first_unsafe
 
 
@@ -66,13 +67,6 @@ def fail(exc: Exception) -> int:
     return EXIT_INPUT
 
 
-def _fmt(value, unit) -> str:
-    if value is None:
-        return "—"
-    digits = {"ohm": 3}.get(unit, 2)
-    return f"{value:.{digits}f} {unit}"
-
-
 def event_line(e: dict, outcome, recorded, as_json: bool) -> str:
     """One printed line for one event (watch, replace, startup)."""
     if as_json:
@@ -91,8 +85,8 @@ def event_line(e: dict, outcome, recorded, as_json: bool) -> str:
         return f"INPUT ERROR  {clean(e['detail'])}  (last good state kept; {clean(outcome.file)}{who})"
     mark = {"newly-failing": "NEWLY FAILING", "cleared": "cleared", "worse": "WORSE"}[e["transition"]]
     need = {"<=": "at most", ">=": "at least"}.get(e.get("compare"), "limit")
-    return (f"{mark:<13} {clean(e['ref'])}  {e['check']}: {_fmt(e.get('value'), e.get('unit'))}, needs {need} "
-            f"{_fmt(e.get('limit'), e.get('unit'))}  ({clean(outcome.file)}{who})")
+    return (f"{mark:<13} {clean(e['ref'])}  {e['check']}: {figures.quantity(e.get('value'), e.get('unit'))}, needs {need} "
+            f"{figures.quantity(e.get('limit'), e.get('unit'))}  ({clean(outcome.file)}{who})")
 
 
 def plain_name(option: str, text: str) -> str:

@@ -8,7 +8,7 @@ from tracker.cli import EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path, fail, open_history
 from tracker.history import location_exists, query
 from tracker.output.terminal_text import clean
-from tracker.tracking.diff import show_value
+from tracker.output import figures
 
 DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
 
@@ -25,8 +25,8 @@ def render(revisions: list[dict], filtered: bool = False) -> str:
         lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {clean(r['author'])}{commit}{note}")
         for c in r["changes"]:
             if c["change"] == "modified":
-                lines.append(f"    {clean(c['ref'])} {clean(c['field'])} {clean(show_value(c['old']))} → "
-                             f"{clean(show_value(c['new']))}")
+                lines.append(f"    {clean(c['ref'])} {clean(c['field'])} "
+                             f"{clean(figures.change(c['old'], c['new']))}")
             else:
                 lines.append(f"    {clean(c['ref'])} {c['change']}")
         for e in r["events"]:

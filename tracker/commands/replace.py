@@ -17,6 +17,7 @@ from tracker.commands.common import (CommandError, check_root, disk_full, fail, 
                                      plain_name)
 from tracker.edit import EditError, format_number, set_scalar
 from tracker.history import HistoryError
+from tracker.output import figures
 from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors
 from tracker.tracking.outcome import to_revision
@@ -155,17 +156,14 @@ def _plan(root: Path, folder: str, history, ref: tuple, key: str, other: str, va
 
 def _fmt_check(c) -> str:
     if c is None:
-        return "—"
-    digits = {"ohm": 3}.get(c.unit, 2)
-    v = "—" if c.value is None else f"{c.value:.{digits}f}"
-    return f"{c.status:<12} {v:>8} {c.unit}"
+        return figures.NONE
+    return f"{c.status:<12} {figures.quantity(c.value, c.unit, show_unit=False):>8} {figures.unit_shown(c.unit)}"
 
 
 def _limit(c) -> str:
     if c is None or c.limit is None:
         return ""
-    digits = {"ohm": 3}.get(c.unit, 2)
-    return f"{'≤' if c.compare == '<=' else '≥'} {c.limit:.{digits}f}"
+    return f"{'≤' if c.compare == '<=' else '≥'} {figures.quantity(c.limit, c.unit, show_unit=False)}"
 
 
 def _table(title: str, before, after) -> list[str]:

@@ -6,6 +6,7 @@ from tracker.checks import remedy as remedies
 from tracker.inspection.suggest import suggestions
 from tracker.checks.result import FAIL
 from tracker.checks.site import SiteResult, headroom_kw
+from tracker.output.figures import rounded
 
 SCHEMA = "izwatch.check/1"
 CAUTION = ("izwatch supports, and does not replace, a competent person: verify every result against "
@@ -14,21 +15,17 @@ CAUTION = ("izwatch supports, and does not replace, a competent person: verify e
 
 
 
-def _r(x, digits=2):
-    return None if x is None else round(x, digits)
-
-
 def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
     c = r.circuit
     entry = {
         "ref": r.ref,
         "name": c.name,
         "status": r.status,
-        "ib_a": _r(r.ib_a),
+        "ib_a": rounded(r.ib_a, "A"),
         "in_a": r.in_a,
-        "iz_a": _r(r.iz_a),
+        "iz_a": rounded(r.iz_a, "A"),
         "basis": r.basis,
-        "headroom_kw": _r(headroom_kw(sr, r)),
+        "headroom_kw": rounded(headroom_kw(sr, r), "kW"),
         "checks": [x.as_json() for x in r.checks],
         "site": r.site_id,
         "board": c.board,
@@ -44,13 +41,13 @@ def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
 
 
 def board_entry(b) -> dict:
-    return {"ref": b.ref, "demand_a": _r(b.demand.demand_a), "status": b.status,
+    return {"ref": b.ref, "demand_a": rounded(b.demand.demand_a, "A"), "status": b.status,
             "checks": [b.check.as_json()]}
 
 
 def supply_entry(sr: SiteResult) -> dict:
     chk = sr.supply_check
-    return {"ref": sr.site.id, "demand_a": _r(chk.value), "status": chk.status, "checks": [chk.as_json()]}
+    return {"ref": sr.site.id, "demand_a": rounded(chk.value, "A"), "status": chk.status, "checks": [chk.as_json()]}
 
 
 def check_document(results, errors=(), warnings=()) -> dict:

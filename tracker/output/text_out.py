@@ -7,6 +7,7 @@ from tracker.checks.readings import unmeasured
 from tracker.inspection.suggest import LABEL, suggestions
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.checks.site import SiteResult, headroom_kw
+from tracker.output import figures
 from tracker.output.json_out import CAUTION  # noqa: F401 - the check command prints it from here
 from tracker.output.terminal_text import clean
 
@@ -14,15 +15,13 @@ MARK = {PASS: "ok  ", FAIL: "FAIL", WARN: "warn", NOT_ASSESSED: "n/a "}
 SYMBOL = {FAIL: "✗", WARN: "!", NOT_ASSESSED: "?"}
 
 
-def _num(x, fmt="{:.1f}") -> str:
-    return "—" if x is None else fmt.format(x)
 
 
 def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
     site = sr.site
     sup = site.supply
     lines = [f"== {site.id}  {clean(site.name)}".rstrip(),
-             f"   supply {sup.system}, U0 {sup.u0_v:g} V, Ze {_num(sup.ze_ohm, '{:g}')} Ω"
+             f"   supply {sup.system}, U0 {sup.u0_v:g} V, Ze {figures.as_written(sup.ze_ohm) if sup.ze_ohm is not None else figures.NONE} Ω"
              + (f", PFC {sup.pfc_ka:g} kA" if sup.pfc_ka else "")
              + (f", supplier's fuse {sup.service_fuse_a:g} A" if sup.service_fuse_a else "")]
     by_board: dict[str, list] = {}
@@ -42,8 +41,8 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
                 continue
             hk = headroom_kw(sr, r)
             lines.append(f"   {MARK[r.status]} {r.circuit.id:<5} {clean(r.circuit.name)[:34]:<34} "
-                         f"Ib {_num(r.ib_a):>6}  In {r.in_a:>5g}  Iz {_num(r.iz_a):>6}  "
-                         f"headroom {_num(hk, '{:+.2f}')} kW")
+                         f"Ib {figures.quantity(r.ib_a, places=1):>6}  In {r.in_a:>5g}  Iz {figures.quantity(r.iz_a, places=1):>6}  "
+                         f"headroom {figures.quantity(hk, 'kW', sign=True, show_unit=False)} kW")
             for chk in r.checks:
                 if chk.status in (FAIL, WARN, NOT_ASSESSED) and not unmeasured(chk):
                     lines.append(f"        {SYMBOL[chk.status]} {chk.id}: {clean(chk.detail)}")

@@ -7,7 +7,7 @@ as a mark (shape and glyph, as well as colour) and, for a circuit, the state in 
 """
 from __future__ import annotations
 
-from tracker.checks.result import fmt
+from tracker.output import figures
 from tracker.report.markup import Safe, cat, el, svg_el
 from tracker.report.symbols import WORD, mark_at
 
@@ -21,7 +21,7 @@ CHAR_EM = 0.6   # a generous average glyph width, so the drawing is never narrow
 def _num(x, digits=2, unit="") -> str:
     if x is None:
         return "not assessed"
-    return f"{fmt(x, digits)} {unit}".rstrip()
+    return f"{figures.trimmed(x, digits)} {unit}".rstrip()
 
 
 def _labels(doc: dict) -> dict[str, tuple[str, str, str]]:

@@ -15,13 +15,14 @@ from tracker.checks.context import build_facts, device_label
 from tracker.checks.readings import unmeasured
 from tracker.checks.fault_loop import FaultLoopWorking
 from tracker.checks.rcd import RcdWorking
-from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, UNIT_DIGITS, WARN
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, WARN
 from tracker.checks.site import SiteResult, evaluate_site
 from tracker.graph import BOARD, CIRCUIT, LOAD, build_graph, kind_of
 from tracker.history import History, HistoryError, history_location, location_exists, shown_location
 from tracker.history import query
 from tracker.history.verify import verify
 from tracker.model import Site
+from tracker.output.figures import rounded
 from tracker.output.json_out import CAUTION, circuit_entry
 from tracker.report import inspections as inspection_record
 
@@ -30,8 +31,6 @@ STATUSES = (PASS, FAIL, WARN, NOT_ASSESSED)
 VERIFY_SCOPE = "the whole history file (every site recorded in it)"
 
 
-def _r(x, digits=2):
-    return None if x is None else round(x, digits)
 
 
 def _iso(moment: datetime) -> str:
@@ -44,13 +43,13 @@ def _supply(site: Site, sr: SiteResult) -> dict:
     s = site.supply
     used = next(iter(sr.boards.values())).ctx.supply.pfc_ka if sr.boards else s.pfc_ka
     return {"system": s.system, "u0_v": s.u0_v, "ze_ohm": s.ze_ohm, "pfc_ka": s.pfc_ka,
-            "pfc_used_ka": _r(used), "service_fuse_a": s.service_fuse_a,
+            "pfc_used_ka": rounded(used, "kA"), "service_fuse_a": s.service_fuse_a,
             "electrode_ohm": s.electrode_ohm, "private": s.private}
 
 
 def _origin(sr: SiteResult) -> dict:
     chk = sr.supply_check
-    return {"ref": sr.site.id, "status": chk.status, "demand_a": _r(chk.value), "check": chk.as_json()}
+    return {"ref": sr.site.id, "status": chk.status, "demand_a": rounded(chk.value, "A"), "check": chk.as_json()}
 
 
 def _board(sr: SiteResult, b) -> dict:
@@ -61,11 +60,11 @@ def _board(sr: SiteResult, b) -> dict:
         "fed_via": ctx.fed_via, "main_switch_a": board.main_switch_a, "rcd_ma": board.rcd_ma,
         "conditional_rating_ka": board.conditional_rating_ka,
         "file": board.src.file if board.src else None,
-        "status": b.status, "demand_a": _r(b.demand.demand_a),
-        "demand_parts": [{"category": cat, "connected_a": _r(conn), "allowed_a": _r(allowed)}
+        "status": b.status, "demand_a": rounded(b.demand.demand_a, "A"),
+        "demand_parts": [{"category": cat, "connected_a": rounded(conn, "A"), "allowed_a": rounded(allowed, "A")}
                          for cat, conn, allowed in b.demand.parts],
         "not_counted": list(b.demand.unknown),
-        "pfc_ka": _r(ctx.pfc_ka), "loop_at_board_ohm": _r(ctx.z_ext_ohm, 3),
+        "pfc_ka": rounded(ctx.pfc_ka, "kA"), "loop_at_board_ohm": rounded(ctx.z_ext_ohm, "ohm"),
         "check": b.check.as_json(),
     }
 
@@ -89,8 +88,8 @@ def _circuit(sr: SiteResult, r) -> dict:
                   "method": c.cable.method},
         "loads": [{"id": ld.id, "kind": ld.kind, "name": ld.name, "power_kw": ld.power_kw,
                    "current_a": ld.current_a, "location": ld.location} for ld in c.loads],
-        "vd_pct": _r(vd.value, UNIT_DIGITS["%"]), "vd_limit_pct": _r(vd.limit, UNIT_DIGITS["%"]),
-        "zs_ohm": _r(loop.zs_ohm, 3) if loop else None, "max_zs_ohm": _r(loop.max_zs_ohm, 3) if loop else None,
+        "vd_pct": rounded(vd.value, "%"), "vd_limit_pct": rounded(vd.limit, "%"),
+        "zs_ohm": rounded(loop.zs_ohm, "ohm") if loop else None, "max_zs_ohm": rounded(loop.max_zs_ohm, "ohm") if loop else None,
     })
     entry.setdefault("remedy", None)
     return entry

@@ -4,18 +4,17 @@ every piece of text goes through `markup`, which escapes it."""
 from __future__ import annotations
 
 from tracker.checks import registry
-from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, UNIT_DIGITS, WARN, fmt
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.checks.readings import unmeasured
 from tracker.report import diagram, inspections_html
 from tracker.report.markup import Safe, cat, el
 from tracker.report.style import stylesheet
 from tracker.report.symbols import MEANING, ORDER, SHAPE, WORD, badge, mark
-from tracker.tracking.diff import show_value
+from tracker.output import figures
 
 # No script may run and nothing may be fetched, whatever ends up in the page.
 CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'"
 
-UNIT_TEXT = {"ohm": "Ω", "mm2": "mm²", "Mohm": "MΩ"}
 SOURCE_TEXT = {"watch": "seen by the watcher", "replace": "replacement", "ack": "acknow\u00adledgement",
                "startup": "found at start"}
 TRANSITION_MARK = {"newly-failing": FAIL, "worse": FAIL, "cleared": PASS, "input-error": WARN}
@@ -34,19 +33,15 @@ def when(at: str | None) -> str:
 
 
 def num(x, unit: str | None = None, digits: int | None = None, sign: bool = False) -> str:
-    if x is None:
-        return "—"
-    d = digits if digits is not None else UNIT_DIGITS.get(unit or "", 2)
-    text = f"{x:+.{d}f}" if sign else f"{x:.{d}f}"
-    text = text.replace("-", "−")
-    return f"{text} {UNIT_TEXT.get(unit, unit)}" if unit else text
+    """An engine figure (the one formatter, with a true minus sign)."""
+    return figures.quantity(x, unit, digits, sign=sign, minus="−")
 
 
 def plain(x, unit: str = "") -> str:
     """A catalogue or site-file quantity as written (40 A, 2.5 mm²)."""
     if x is None:
-        return "—"
-    return f"{fmt(x, 3)} {UNIT_TEXT.get(unit, unit)}".strip()
+        return figures.NONE
+    return f"{figures.trimmed(x, 3)} {figures.unit_shown(unit)}".strip()
 
 
 def against(chk: dict) -> str:
@@ -209,8 +204,8 @@ def _circuit_row(c: dict) -> Safe:
     if dev["breaking_ka"] is not None:
         extra.append(plain(dev["breaking_ka"], "kA"))
     device.append(el("div", ", ".join(extra), class_="small"))
-    cpc = f"{fmt(cab['cpc_mm2'], 2)}" if cab["cpc_mm2"] is not None else "?"
-    cable = [el("span", f"{fmt(cab['csa_mm2'], 2)}/{cpc} mm²", class_="nowrap"),
+    cpc = f"{figures.trimmed(cab['cpc_mm2'], 2)}" if cab["cpc_mm2"] is not None else "?"
+    cable = [el("span", f"{figures.trimmed(cab['csa_mm2'], 2)}/{cpc} mm²", class_="nowrap"),
              el("div", cab["kind"], class_="small nowrap"),
              el("div", f"method {cab['method']}, {plain(cab['length_m'], 'm')}", class_="small")]
     cap = next(k for k in c["checks"] if k["id"] == "capacity")
@@ -352,7 +347,7 @@ def _compact(changes: list[dict]) -> list[dict]:
 def _change_line(ch: dict, site_id: str) -> str:
     ref = _short(ch["ref"], site_id)
     if ch["change"] == "modified":
-        return f"{ref} {ch['field']}: {show_value(ch['old'])} → {show_value(ch['new'])}"
+        return f"{ref} {ch['field']}: {figures.change(ch['old'], ch['new'])}"
     what = {0: "site", 1: "board", 2: "circuit", 3: "load"}.get(_depth(ch["ref"]), "element")
     return f"{ref} {what} {ch['change']}"
 

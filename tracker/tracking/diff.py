@@ -5,6 +5,7 @@ from __future__ import annotations
 import datetime
 from dataclasses import dataclass, fields, is_dataclass
 
+from tracker.output import figures
 from tracker.model import Site, board_ref, circuit_ref, inspection_ref, load_ref
 
 ADDED, REMOVED, MODIFIED = "added", "removed", "modified"
@@ -23,19 +24,8 @@ class Change:
 
     def __str__(self) -> str:
         if self.change == MODIFIED:
-            return f"{self.ref} {self.field} {show_value(self.old)} → {show_value(self.new)}"
+            return f"{self.ref} {self.field} {figures.change(self.old, self.new)}"
         return f"{self.ref} {self.change}"
-
-
-def show_value(value) -> str:
-    """A field's value as a change line shows it: 7.5, true, (none)."""
-    if value is None:
-        return "(none)"
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, float):
-        return f"{value:g}"
-    return str(value)
 
 
 def _flat(obj, prefix: str = "", skip=("loads",)) -> dict:
