@@ -124,7 +124,7 @@ def test_operating_time_bound_from_points():
 def test_class_table_rows_and_statuses():
     rows, energies, band = catalogue.energy_class_rows(3, 16, "B")
     # BS EN 60898-1 Annex ZA: tested at the rated short-circuit capacities 3, 4.5, 6 and 10 kA.
-    assert rows == [3000, 4500, 6000, 10000] and band == 16
+    assert rows == (3000, 4500, 6000, 10000) and band == 16
     # Class 3, type B, at 10 kA: 70 000 A²s; type C 84 000 A²s (seen, a secondary source quoting
     # Annex ZA). Class 2: 240 000 / 290 000 A²s (same source).
     assert (energies[-1].value, energies[-1].status) == (70000, "seen")

@@ -179,8 +179,9 @@ def let_through_table() -> dict:
     return _load("let_through.yaml")
 
 
+@lru_cache(maxsize=None)
 def energy_class_rows(energy_class: int, rating_a: float, curve: str | None
-                      ) -> tuple[list[float], list[Value], float] | None:
+                      ) -> tuple[tuple[float, ...], tuple[Value, ...], float] | None:
     """(prospective currents A, maximum I²t A²s, the band's upper In) of an energy-limiting class
     for a breaker of that rating and type, or None where the class sets no limit (class 1) or
     the table holds no band or type for it (type D, In over 32 A)."""
@@ -193,7 +194,7 @@ def energy_class_rows(energy_class: int, rating_a: float, curve: str | None
             row = bands[top].get(curve)
             if row is None:
                 return None
-            return [float(a) for a in table["prospective_a"]], [_value(v) for v in row], float(top)
+            return tuple(float(a) for a in table["prospective_a"]), tuple(_value(v) for v in row), float(top)
     return None
 
 
@@ -210,6 +211,7 @@ class KFactor:
     table: str
 
 
+@lru_cache(maxsize=None)
 def k_factor(role: str, conductor_c: float, route: str | None = None) -> KFactor | None:
     """k of BS 7671 Tables 43.1 / 54.2 / 54.3 / 54.4: role 'line', 'cpc' (route 'in-cable' or
     'separate') or 'armour', for a cable whose conductors run at `conductor_c`."""

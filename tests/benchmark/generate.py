@@ -65,7 +65,9 @@ def site_text(rng: random.Random, index: int, circuits: int) -> dict[str, str]:
     if has_sub:
         body += ("  - id: \"99\"\n    board: CU1\n    name: \"Sub-main to outbuilding\"\n    feeds: OB1\n"
                  "    device: {kind: mcb, curve: B, rating_a: 40, breaking_ka: 6}\n"
-                 f"    cable: {{kind: swa-90, csa_mm2: 10, length_m: {round(rng.uniform(8, 40), 1)}, method: D}}\n")
+                 # a three-core SWA with a core as the cpc (a two-core one's cpc is its armour)
+                 f"    cable: {{kind: swa-90, csa_mm2: 10, cpc_mm2: 10, length_m: {round(rng.uniform(8, 40), 1)}, "
+                 "method: D}\n")
         ob = ("# Outbuilding board\nboards:\n  - id: OB1\n    fed_by: CU1/99\n    main_switch_a: 63\n    rcd_ma: 30\n"
               "circuits:\n" + "".join(_circuit(rng, "OB1", str(i + 1), system) for i in range(circuits - main)))
         files["outbuilding.yaml"] = ob

@@ -10,6 +10,8 @@ at a prospective current at or below the fault's, or the maker's figure) already
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
+from functools import lru_cache
 from typing import NamedTuple
 
 from tracker import catalogue
@@ -89,34 +91,40 @@ def max_zs_ohm(f: Facts, t_s: float | None = None) -> tuple[float | None, str, s
     return value, f"max Zs {value:.2f} Ω for {t_s:g} s (BS 7671 Table {table}){_note(status)}", status
 
 
-def time_points(f: Facts) -> list[tuple[float, float, str, str]]:
+def time_points(f: Facts) -> tuple[tuple[float, float, str, str], ...]:
     """The device's time-current points [(Ia A, t s, status, source)]: at Ia or more it operates
     within t. From the instantaneous band of a breaker (BS EN 60898-1 Table 7), Table 41.3's 5 s
     multiple, a fuse's maximum-Zs tables read back as Ia = Cmin·230/Zs (Tables 41.2/41.4), a
     fuse's time-current zones (BS 1362), and the maker's max Zs (for the required time)."""
-    dev = f.circuit.device
-    info = f.device_info or {}
+    return _points(f.circuit.device, f.ctx.supply.u0_v, f.t_req_s)
+
+
+@lru_cache(maxsize=4096)
+def _points(dev, u0_v: float, t_req_s: float) -> tuple[tuple[float, float, str, str], ...]:
+    info = catalogue.device_info(dev.kind) or {}
     points: list[tuple[float, float, str, str]] = []
     if dev.max_zs_ohm is not None:
-        ia = disconnection.ia_from_max_zs_a(f.ctx.supply.u0_v, dev.max_zs_ohm)
-        points.append((ia, f.t_req_s, "site", "within the maker's max Zs"))
+        ia = disconnection.ia_from_max_zs_a(u0_v, dev.max_zs_ohm)
+        points.append((ia, t_req_s, "site", "within the maker's max Zs"))
     if dev.kind in BREAKERS:
-        for t_s in (info.get("instantaneous_time_s", 0.1), 5.0):
-            found = _breaker_multiple(f, t_s)
-            if found:
-                points.append((found[0] * dev.rating_a, float(t_s), found[1],
-                               f"{found[0]:g} In, type {dev.curve}"))
-        return points
-    for t_s in (0.4, 5.0):
-        row = _fuse_row(f, t_s)
-        if row:
-            ia = disconnection.ia_from_max_zs_a(TABLE_U0_V, row[0])
-            points.append((ia, t_s, row[1], f"BS 7671 Table {'41.2' if t_s < 1 else '41.4'}"))
+        for t_s, table in ((info.get("instantaneous_time_s", 0.1), "instantaneous_multiple"),
+                           (5.0, "five_s_multiple")):
+            entry = info.get(table, {}).get(dev.curve)
+            if entry:
+                points.append((float(entry[0]) * dev.rating_a, float(t_s), str(entry[1]),
+                               f"{float(entry[0]):g} In, type {dev.curve}"))
+        return tuple(points)
     rating = dev.rating_a
-    zones = info.get("time_current", {}).get(int(rating)) if float(rating).is_integer() else None
+    whole = float(rating).is_integer()
+    for t_s in (0.4, 5.0):
+        entry = ((info.get("max_zs_ohm") or {}).get(_table_key(t_s)) or {}).get(int(rating)) if whole else None
+        if entry:
+            ia = disconnection.ia_from_max_zs_a(TABLE_U0_V, float(entry[0]))
+            points.append((ia, t_s, str(entry[1]), f"BS 7671 Table {'41.2' if t_s < 1 else '41.4'}"))
+    zones = info.get("time_current", {}).get(int(rating)) if whole else None
     for current, t_s, status in zones or ():
         points.append((float(current), float(t_s), str(status), f"{info.get('standard', '')} time-current zone"))
-    return points
+    return tuple(points)
 
 
 def overcurrent_time_s(f: Facts, loop_ohm: float) -> tuple[float | None, str, str]:
@@ -126,24 +134,32 @@ def overcurrent_time_s(f: Facts, loop_ohm: float) -> tuple[float | None, str, st
     Cmin (0.95 U0 / Z: the lowest the supply may give), so the bound holds at any voltage.
     None with the reason, in words that state only what is known, where no point is reached.
     """
-    u0 = f.ctx.supply.u0_v
-    current = disconnection.CMIN * u0 / loop_ohm
+    t, status, describe = _time_bound(f, loop_ohm)
+    return t, describe(), status
+
+
+def _time_bound(f: Facts, loop_ohm: float) -> tuple[float | None, str, Callable[[], str]]:
+    """(time bound, status, a function giving its words): the words are built only when shown."""
+    current = disconnection.CMIN * f.ctx.supply.u0_v / loop_ohm
     points = time_points(f)
-    reached = [p for p in points if current >= p[0]]
-    if reached:
-        ia, t, status, source = min(reached, key=lambda p: p[1])
+    best = None
+    for p in points:
+        if current >= p[0] and (best is None or p[1] < best[1]):
+            best = p
+    if best is not None:
+        ia, t, status, source = best
         if status == "site":
-            return t, f"t ≤ {t:g} s (loop within the maker's max Zs; an upper bound)", status
+            return t, status, lambda: f"t ≤ {t:g} s (loop within the maker's max Zs; an upper bound)"
         region = " in its instantaneous region" if f.circuit.device.kind in BREAKERS and t < 1 else ""
-        return t, (f"t ≤ {t:g} s ({f.label}{region} at {current:.0f} A (at Cmin) ≥ {ia:.0f} A, {source}; "
-                   f"an upper bound){_note(status)}"), status
+        return t, status, lambda: (f"t ≤ {t:g} s ({f.label}{region} at {current:.0f} A (at Cmin) ≥ {ia:.0f} A, "
+                                   f"{source}; an upper bound){_note(status)}")
     if points:
         lowest = min(points, key=lambda p: p[0])
-        return None, (f"fault current {current:.0f} A (at Cmin) is below {lowest[0]:.0f} A, the least current held "
-                      f"to operate the {f.label} within {lowest[1]:g} s ({lowest[3]}): its time-current data is "
-                      "needed"), ""
-    return None, (f"no time-current value held for a {f.label} (give device.max_zs_ohm or "
-                  "device.let_through_a2s from the maker's data)"), ""
+        return None, "", lambda: (f"fault current {current:.0f} A (at Cmin) is below {lowest[0]:.0f} A, the least "
+                                  f"current held to operate the {f.label} within {lowest[1]:g} s ({lowest[3]}): its "
+                                  "time-current data is needed")
+    return None, "", lambda: (f"no time-current value held for a {f.label} (give device.max_zs_ohm or "
+                              "device.let_through_a2s from the maker's data)")
 
 
 def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
@@ -164,17 +180,20 @@ class FaultEnergy(NamedTuple):
     current_a: float
     upper_a2s: float | None   # the let-through is at most this (None: no bound known)
     lower_a2s: float | None   # the published let-through at a current at or below this one
-    how: str                  # where the figures come from, in words
+    describe: Callable[[], str]   # where the figures come from, in words (built when shown)
     status: str               # the weakest status of the data used
     t_s: float | None = None  # the time bound, where the upper figure is I² t
+
+    @property
+    def how(self) -> str:
+        return self.describe()
 
 
 def _class_energy(f: Facts, current_a: float) -> FaultEnergy | None:
     """The let-through of a type B or C breaker's energy-limiting class at a prospective current
     (BS EN 60898-1 / 61009-1 Annex ZA; class 3 unless device.energy_class says otherwise)."""
     dev = f.circuit.device
-    table = catalogue.let_through_table()
-    cls = dev.energy_class if dev.energy_class is not None else int(table["default_class"])
+    cls = dev.energy_class if dev.energy_class is not None else _default_class()
     found = catalogue.energy_class_rows(cls, dev.rating_a, dev.curve)
     if found is None:
         return None
@@ -182,29 +201,37 @@ def _class_energy(f: Facts, current_a: float) -> FaultEnergy | None:
     ia = instantaneous_ia_a(f)
     lt = let_through.class_let_through(current_a, rows, [v.value for v in values], ia,
                                        float((f.device_info or {}).get("instantaneous_time_s", 0.1)))
-    by_row = {r: v for r, v in zip(rows, values)}
-    assumed = "" if dev.energy_class is not None else ", assumed"
-    what = f"class {cls}{assumed}, type {dev.curve} up to {band:g} A"
-    parts, statuses = [], []
+    by_row = dict(zip(rows, values))
+    statuses = []
     if lt.upper_a2s is not None:
-        if lt.upper_row_a is None:
-            statuses.append("derived")
-            parts.append(f"at most {lt.upper_a2s:,.0f} A²s (line from Ia {ia:g} A at 0.1 s to the "
-                         f"{rows[0] / 1000:g} kA row {values[0].value:,.0f} A²s) [derived]")
-        else:
-            v = by_row[lt.upper_row_a]
-            statuses.append(v.status)
-            parts.append(f"at most {lt.upper_a2s:,.0f} A²s ({lt.upper_row_a / 1000:g} kA row){_note(v.status)}")
+        statuses.append("derived" if lt.upper_row_a is None else by_row[lt.upper_row_a].status)
     if lt.lower_a2s is not None and lt.lower_row_a != lt.upper_row_a:
-        v = by_row[lt.lower_row_a]
-        statuses.append(v.status)
-        parts.append(f"at least the {lt.lower_a2s:,.0f} A²s of the {lt.lower_row_a / 1000:g} kA row"
-                     f"{_note(v.status)}")
-    if lt.upper_a2s is None:
-        parts.append(f"beyond the table's {rows[-1] / 1000:g} kA")
-    how = (f"let-through of the {f.label} at {current_a:.0f} A ({what}; BS EN 60898-1 Annex ZA): "
-           + ", ".join(parts))
-    return FaultEnergy(current_a, lt.upper_a2s, lt.lower_a2s, how, _weakest(*statuses))
+        statuses.append(by_row[lt.lower_row_a].status)
+
+    def describe() -> str:
+        assumed = "" if dev.energy_class is not None else ", assumed"
+        parts = []
+        if lt.upper_a2s is not None:
+            if lt.upper_row_a is None:
+                parts.append(f"at most {lt.upper_a2s:,.0f} A²s (line from Ia {ia:g} A at 0.1 s to the "
+                             f"{rows[0] / 1000:g} kA row {values[0].value:,.0f} A²s) [derived]")
+            else:
+                v = by_row[lt.upper_row_a]
+                parts.append(f"at most {lt.upper_a2s:,.0f} A²s ({lt.upper_row_a / 1000:g} kA row){_note(v.status)}")
+        if lt.lower_a2s is not None and lt.lower_row_a != lt.upper_row_a:
+            v = by_row[lt.lower_row_a]
+            parts.append(f"at least the {lt.lower_a2s:,.0f} A²s of the {lt.lower_row_a / 1000:g} kA row"
+                         f"{_note(v.status)}")
+        if lt.upper_a2s is None:
+            parts.append(f"beyond the table's {rows[-1] / 1000:g} kA")
+        return (f"let-through of the {f.label} at {current_a:.0f} A (class {cls}{assumed}, type {dev.curve} up to "
+                f"{band:g} A; BS EN 60898-1 Annex ZA): " + ", ".join(parts))
+
+    return FaultEnergy(current_a, lt.upper_a2s, lt.lower_a2s, describe, _weakest(*statuses))
+
+
+def _default_class() -> int:
+    return int(catalogue.let_through_table()["default_class"])
 
 
 def fault_energy(f: Facts, current_a: float, loop_ohm: float, rcd: bool = False) -> FaultEnergy:
@@ -217,35 +244,35 @@ def fault_energy(f: Facts, current_a: float, loop_ohm: float, rcd: bool = False)
     """
     dev = f.circuit.device
     options: list[FaultEnergy] = []
-    lower, lower_how = None, ""
-    t, t_how, t_status = overcurrent_time_s(f, loop_ohm)
+    lower, lower_of = None, None
+    t, t_status, t_words = _time_bound(f, loop_ohm)
     if dev.let_through_a2s is not None:
         lt = dev.let_through_a2s
-        options.append(FaultEnergy(current_a, lt, lt, f"I²t {lt:,.0f} A²s (maker's let-through energy, site file)",
-                                   "site"))
-        lower, lower_how = lt, options[-1].how
+        options.append(FaultEnergy(current_a, lt, lt, lambda: f"I²t {lt:,.0f} A²s (maker's let-through energy, "
+                                                               "site file)", "site"))
+        lower, lower_of = lt, options[-1]
     elif dev.kind in BREAKERS and t is not None and t < 1.0:
         cls = _class_energy(f, current_a)
         if cls is not None:
             if cls.upper_a2s is not None:
                 options.append(cls)
-            lower, lower_how = cls.lower_a2s, cls.how
+            lower, lower_of = cls.lower_a2s, cls
     if t is not None:
-        options.append(FaultEnergy(current_a, current_a ** 2 * t, None, f"I²t ≤ {current_a:.0f}² × {t:g} s; {t_how}",
-                                   t_status, t))
+        options.append(FaultEnergy(current_a, current_a ** 2 * t, None,
+                                   lambda: f"I²t ≤ {current_a:.0f}² × {t:g} s; {t_words()}", t_status, t))
     if rcd:
         t_rcd, rcd_how, _ = rcd_time_s(f, current_a)
         if t_rcd is not None:
             options.append(FaultEnergy(current_a, current_a ** 2 * t_rcd, None,
-                                       f"I²t ≤ {current_a:.0f}² × {t_rcd:g} s; {rcd_how}", "recalled", t_rcd))
+                                       lambda: f"I²t ≤ {current_a:.0f}² × {t_rcd:g} s; {rcd_how}", "recalled", t_rcd))
     if not options:
-        why = lower_how or t_how
+        why = lower_of.describe if lower_of is not None else t_words
         return FaultEnergy(current_a, None, lower, why, "")
     best = min(options, key=lambda o: o.upper_a2s)
-    how = best.how
-    if lower is not None and lower_how and lower_how != best.how:
-        how = f"{how}; {lower_how}"
-    return FaultEnergy(current_a, best.upper_a2s, lower, how, best.status, best.t_s)
+    describe = best.describe
+    if lower is not None and lower_of is not None and lower_of is not best:
+        describe = lambda: f"{best.describe()}; {lower_of.describe()}"   # noqa: E731
+    return FaultEnergy(current_a, best.upper_a2s, lower, describe, best.status, best.t_s)
 
 
 class Withstand(NamedTuple):

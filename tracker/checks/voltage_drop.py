@@ -41,9 +41,15 @@ def _cause_upstream(result) -> bool:
     return ctx.vd_v is not None and check.limit is not None and ctx.vd_v >= check.limit / 100.0 * ctx.supply.u0_v
 
 
+def _needs(circuit) -> tuple[str, ...]:
+    # Ct reads the rating factors the capacity check found.
+    return ("capacity",)
+
+
 CHECK = CheckSpec(
     id=ID, rank=30, stage=60, name="voltage drop", unit="%", compare="<=", gauge="drop / limit",
     record=VoltageDropWorking, helps=frozenset({SIZE}), load_dependent=always_on_load, cause_upstream=_cause_upstream,
+    needs=_needs,
 )
 
 
@@ -73,8 +79,10 @@ def run(f: Facts, done) -> Outcome:
     if f.ctx.vd_v is None:
         return Outcome(not_assessed(ID, "%", "<=", f.ctx.unknown_vd, limit=limit_pct), VoltageDropWorking(per_a_v=per_a))
     strict_v = volts
-    ct_of = _ct_function(f)
+    ct_of = _ct_function(f, done.get("capacity"))
     ct = ct_of(f.ib_a) if ct_of is not None else None
+    if ct is not None and ct >= 1.0:
+        ct = None                     # at or above its maximum temperature: the tabulated figure
     if ct is not None:
         volts = strict_v * ct
     total_v = f.ctx.vd_v + volts
@@ -108,35 +116,49 @@ def run(f: Facts, done) -> Outcome:
     return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), rec)
 
 
-def _ct_function(f: Facts):
+def _ct_function(f: Facts, capacity=None):
     """Ct as a function of the circuit's current, where the rule set and the circuit allow the
-    correction (BS 7671:2018 Appendix 4 section 6.1), else None."""
+    correction (BS 7671:2018 Appendix 4 section 6.1), else None. Ct(I) = a + b I² (the formula
+    rearranged), held at 1 from the current that brings the conductor to its maximum temperature:
+    the correction is for a conductor below it."""
     c = f.circuit
     if (not rules.VOLTAGE_DROP_AT_CONDUCTOR_TEMPERATURE or f.ib_a is None or c.is_ring or f.kind is None
             or c.cable.csa_mm2 > rules.CT_MAX_CSA_MM2 or c.environment.insulation_mm > 0 or c.cable.method == "D"):
         return None
-    from tracker.checks.capacity import rated_capacity
-    iz, _, fac = rated_capacity(f)
-    if iz is None or not fac.get("it_a"):
+    rec = capacity.record if capacity is not None else None
+    if rec is None or rec.iz_a is None or not rec.it_a:
         return None
-    tp, ca, cg, it = f.kind.conductor_c, fac["ca"], fac["cg"], fac["it_a"]
-    return lambda ib_a: vd.conductor_temperature_factor(tp, ca, cg, ib_a, it)
+    tp, ca, cg, it = f.kind.conductor_c, rec.ca, rec.cg, rec.it_a
+    a = vd.conductor_temperature_factor(tp, ca, cg, 0.0, it)
+    b = vd.conductor_temperature_factor(tp, ca, cg, 1.0, it) - a
+    return _Ct(a, b)
 
 
-def _current_at_limit(f: Facts, per_a: float, ct_of, limit_v: float) -> float:
+class _Ct:
+    __slots__ = ("a", "b")
+
+    def __init__(self, a: float, b: float):
+        self.a, self.b = a, b
+
+    def __call__(self, current_a: float) -> float:
+        return min(1.0, self.a + self.b * current_a * current_a)
+
+
+def _current_at_limit(f: Facts, per_a: float, ct: _Ct, limit_v: float) -> float:
     """The Ib at which the corrected drop reaches the limit: upstream drop (rising by the
-    sub-mains' volts per ampere) + per_a × I × Ct(I) = limit, by bisection (the drop rises with I)."""
-    ib = f.ib_a
-
-    def total(i: float) -> float:
-        return f.ctx.vd_v + f.ctx.v_per_a * (i - ib) + per_a * i * ct_of(i)
-
-    span = 10.0 * (f.in_a + ib) + 100.0
-    lo, hi = -span, span
-    for _ in range(80):
-        mid = (lo + hi) / 2.0
-        if total(mid) > limit_v:
-            hi = mid
-        else:
-            lo = mid
-    return lo
+    sub-mains' volts per ampere) + per_a × I × Ct(I) = limit."""
+    base = f.ctx.vd_v - f.ctx.v_per_a * f.ib_a
+    up = f.ctx.v_per_a
+    strict = (limit_v - base) / (per_a + up)      # with Ct = 1: the corrected drop is never larger
+    if ct(strict) >= 1.0:
+        return strict
+    # Below the cap the drop is a cubic in I, rising: base + up I + per_a (a I + b I³) = limit.
+    # Newton's method from the no-load straight line, which lies beyond the root.
+    i = (limit_v - base) / (per_a * ct.a + up)
+    for _ in range(50):
+        g = base + up * i + per_a * i * (ct.a + ct.b * i * i) - limit_v
+        step = g / (up + per_a * (ct.a + 3.0 * ct.b * i * i))
+        i -= step
+        if abs(step) < 1e-9:
+            break
+    return i
