@@ -49,20 +49,32 @@ def test_resistance_multipliers():
     # (234.5 + 70)/(234.5 + 20) = 1.196 for copper (β = 234.5 °C, IEC 60228), i.e. α20 = 1/254.5.
     assert impedance.resistance_multiplier(70) == pytest.approx(1.20)
     assert impedance.resistance_multiplier(90) == pytest.approx(1.28)
-    assert impedance.resistance_multiplier(70, alpha_per_c=1 / 254.5) == pytest.approx(304.5 / 254.5)
-    assert 304.5 / 254.5 == pytest.approx(1.196, abs=0.001)
+    assert impedance.resistance_multiplier(70, alpha_per_c=1 / 254.5) == pytest.approx(1.196, abs=0.001)
 
 
 def test_r1_plus_r2_of_twin_and_earth():
-    """R1 + R2 at 20 °C in mΩ/m from IEC 60228 conductors; 2.5/1.5 = 19.51 (seen); the others as
-    derived in the reference notes."""
-    expected = {(1, 1): 36.20, (1.5, 1): 30.20, (2.5, 1.5): 19.51, (4, 1.5): 16.71, (6, 2.5): 10.49,
-                (10, 4): 6.44, (16, 6): 4.23}
+    """R1 + R2 at 20 °C of 2.5/1.5 mm² flat twin and cpc: 19.51 mΩ/m, the published figure (seen in
+    guidance on testing; see REFERENCE-NOTES), from the catalogue's IEC 60228 conductors."""
     kind = catalogue.cable_kind("twin-earth-70")
-    for (csa, cpc), value in expected.items():
+    assert kind.default_cpc_mm2(2.5) == 1.5     # the standard construction's cpc (common practice)
+    total = catalogue.conductor_resistance(2.5).value + catalogue.conductor_resistance(1.5).value
+    assert total == pytest.approx(19.51, abs=0.005)
+
+
+def test_conductor_resistances_are_those_of_iec_60228():
+    """IEC 60228 maximum DC resistance of class 1/2 plain copper at 20 °C, Ω/km = mΩ/m (seen)."""
+    iec_60228 = {1: 18.1, 1.5: 12.1, 2.5: 7.41, 4: 4.61, 6: 3.08, 10: 1.83, 16: 1.15, 25: 0.727, 35: 0.524,
+                 50: 0.387, 70: 0.268, 95: 0.193, 120: 0.153, 150: 0.124, 185: 0.0991, 240: 0.0754, 300: 0.0601}
+    for csa, ohm_per_km in iec_60228.items():
+        held = catalogue.conductor_resistance(csa)
+        assert held.value == ohm_per_km and held.status == "seen", csa
+
+
+def test_flat_twin_and_cpc_constructions():
+    # The cpc of each flat twin-and-cpc size (BS 6004 construction; common practice).
+    kind = catalogue.cable_kind("twin-earth-70")
+    for csa, cpc in {1: 1, 1.5: 1, 2.5: 1.5, 4: 1.5, 6: 2.5, 10: 4, 16: 6}.items():
         assert kind.default_cpc_mm2(csa) == cpc
-        total = catalogue.conductor_resistance(csa).value + catalogue.conductor_resistance(cpc).value
-        assert total == pytest.approx(value, abs=0.005)
 
 
 def test_loop_resistance_radial_and_ring():
