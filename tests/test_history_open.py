@@ -10,8 +10,14 @@ import stat
 
 import pytest
 
+from tests.reliability.conftest import FIGURES
 from tracker.history import History, HistoryError
 from tracker.history.store import plain_error
+
+
+def _left_as_it_is(what: str) -> None:
+    key = "histories opened that were foreign, newer, read-only or on a full disk: said plainly, none called damaged"
+    FIGURES[key] = ", ".join(sorted({*str(FIGURES.get(key, "")).split(", "), what} - {""}))
 
 
 def _journal_mode(path) -> str:
@@ -30,6 +36,7 @@ def test_a_foreign_database_is_left_as_it_is(tmp_path):
     with pytest.raises(HistoryError, match="not an izwatch history") as caught:
         History.open(other)
     assert caught.value.kind == "foreign"
+    _left_as_it_is("foreign database")
     assert other.read_bytes() == before and _journal_mode(other) == "rollback"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["invoices.sqlite"]
 
@@ -45,6 +52,7 @@ def test_a_newer_history_is_left_as_it_is(tmp_path):
     with pytest.raises(HistoryError, match="newer izwatch") as caught:
         History.open(path)
     assert caught.value.kind == "newer"
+    _left_as_it_is("newer history")
     assert path.read_bytes() == before and _journal_mode(path) == "rollback"
 
 
@@ -79,6 +87,7 @@ def test_a_full_disk_is_said_plainly(tmp_path, monkeypatch):
         conn.executemany("INSERT INTO a VALUES (?)", [("x" * 2000,)] * 10)
     conn.close()
     assert plain_error(tmp_path / "small.sqlite", sqlite_full.value).kind == "full"
+    _left_as_it_is("full disk")
 
 
 def test_a_read_only_place_is_not_called_damage(demo_copy, monkeypatch, capsys):
@@ -107,3 +116,4 @@ def test_a_read_only_place_is_not_called_damage(demo_copy, monkeypatch, capsys):
     assert "history intact: 2 revisions" in capsys.readouterr().out
     monkeypatch.undo()
     assert db.read_bytes() == before
+    _left_as_it_is("read-only place")

@@ -10,6 +10,7 @@ import sqlite3
 
 import pytest
 
+from tests.reliability.conftest import record
 from tests.test_history_store import rev
 from tracker.cli import main
 from tracker.history import History, HistoryError, NewRevision
@@ -108,6 +109,8 @@ def test_erase_keeps_the_chain_and_shows_erased(tmp_path, demo_copy, capsys):
     for f in tmp_path.glob("h.sqlite*"):
         data = f.read_bytes()
         assert NAME.encode() not in data and b"job 2231" not in data, f.name
+    record("a person erased from a SQLite history", "verify green with the same chain head; 0 bytes of the name "
+           "or their notes left in the database files")
     # a later revision by the same name is credited to them again, under a new id
     h = History.open(path)
     h.record(rev(b"a: 3\n", author=NAME, note="back on site"))
