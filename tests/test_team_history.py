@@ -125,3 +125,25 @@ def test_two_watchers_on_two_copies_share_one_chain(demo_copy, pg_schema, tmp_pa
     record("two watchers on two copies, one PostgreSQL history, one killed with SIGKILL mid-edits",
            f"{report.revisions} revisions, 2 replacements and 2 acknowledgements once each, "
            "verify green, 0 recorded twice, every file's final state recorded")
+
+
+def test_the_terminal_ui_on_the_server(demo_copy, pg_schema):
+    """The UI opens on a server history (its watcher records the first record there) and an
+    acknowledgement made in it is written to the server's chain."""
+    from tests.tui_helpers import loaded, make_app, run
+
+    async def go():
+        app = make_app(demo_copy, db=pg_schema)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await loaded(pilot)
+            row = next(r for r in app.snapshot.rows if r.status == "fail")
+            app.write_ack(row, "M. Oduya", "remedial work booked")
+            await pilot.pause(0.2)
+            return row.ref
+    ref = run(go())
+    assert not (demo_copy / ".izwatch").exists()
+    h = History.open(pg_schema)
+    acks = [r for r in h.db.execute("SELECT a.ref, r.author FROM acks a JOIN named_revisions r "
+                                    "ON r.id = a.revision_id")]
+    assert acks == [(ref, "M. Oduya")] and verify(h).ok
+    h.close()
