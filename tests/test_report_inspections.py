@@ -66,3 +66,10 @@ def test_html_section_says_it_is_no_certificate(demo_copy, capsys, tmp_path):
     assert 'id="inspections"' in html and "7. Inspections, measurements and deadlines" in html
     assert "Not a certificate." in html and "not an electrical installation certificate" in html
     assert "model 0.456 Ω" in html          # the shower's calculated Zs beside its reading
+
+
+def test_csv_open_checks_leave_out_what_was_not_measured(capsys):
+    code, out, _ = run(capsys, "report", DEMO, "--site", "larkspur-yard-4", "--format", "csv", "-o", "-")
+    rows = {r.split(",")[1]: r for r in out.splitlines()[1:]}
+    assert "measured-zs" in rows["larkspur-yard-4/DB1/3"]                 # its reading fails
+    assert "insulation-resistance" not in rows["larkspur-yard-4/DB1/1"]   # nothing measured there

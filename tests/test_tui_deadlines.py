@@ -41,3 +41,20 @@ def test_d_opens_the_deadlines_and_escape_closes_them(demo_copy):
             await pilot.pause()
             assert not isinstance(app.screen, DeadlinesScreen)
     run(go())
+
+
+def test_details_show_readings_beside_the_model_and_the_suggested_code():
+    from tests.conftest import DEMO
+    from tracker.checks.site import evaluate_site
+    from tracker.loading import load_estate
+    from tui.snapshot import Row
+    from tui.working import circuit_working
+
+    sr = evaluate_site(load_estate(DEMO).sites["larkspur-yard-4"])
+    row = Row("larkspur-yard-4/DB1/3", "circuit", "larkspur-yard-4", "", "DB1", "3", "Dust extractor", "fail",
+              "new", (), ())
+    measured = next(s for s in circuit_working(row, sr).sections if s.title == "As measured")
+    lines = {ln.label: ln for ln in measured.lines}
+    # demo: Zs 1.29 Ω read on 2026-06-30; the model's 1.488 Ω at 70 °C (Ze 0.2 + 19.51 mΩ/m × 55 m × 1.2)
+    assert lines["Zs"].text.startswith("1.290 Ω measured — calculated 1.488 Ω") and lines["Zs"].status == "fail"
+    assert lines["suggested code"].text.startswith("C2 for measured-zs")

@@ -21,6 +21,7 @@ from tracker.checks.fault_loop import FaultLoopWorking
 from tracker.checks.line_adiabatic import LineAdiabaticWorking
 from tracker.checks.measured_zs import MeasuredZsWorking
 from tracker.checks.readings import unmeasured
+from tracker.inspection.suggest import LABEL, suggestions
 from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
 from tracker.checks.site import explain_circuit, SiteResult, headroom_kw
@@ -232,6 +233,9 @@ def _as_measured(r: CircuitResult, chk: dict) -> tuple[Line, ...]:
                           chk["insulation-resistance"].status))
     if m.rcd_ms is not None:
         lines.append(Line("RCD time", figures(chk["rcd-operation"]), chk["rcd-operation"].status))
+    for sug in suggestions(r.checks):
+        lines.append(Line("suggested code", f"{sug['code']} for {sug['check']}: {sug['why']} ({LABEL}; "
+                                            "common practice)"))
     return tuple(lines)
 
 

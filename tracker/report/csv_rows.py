@@ -11,6 +11,7 @@ import csv
 import io
 
 from tracker.checks import registry
+from tracker.checks.readings import unmeasured
 
 
 def _check(c: dict, check_id: str) -> dict:
@@ -56,7 +57,7 @@ COLUMNS = [
     ("headroom_kw", lambda d, c: c["headroom_kw"]),
     *[(f"check_{cid.replace('-', '_')}", (lambda cid: lambda d, c: _check(c, cid).get("status"))(cid))
       for cid in registry.circuit_ids()],
-    ("open_checks", lambda d, c: "; ".join(k["id"] for k in c["checks"] if k["status"] != "pass")),
+    ("open_checks", lambda d, c: "; ".join(k["id"] for k in c["checks"] if k["status"] != "pass" and not unmeasured(k))),
     ("acknowledged", lambda d, c: _acknowledged(d, c["ref"])),
     ("remedy", lambda d, c: (c["remedy"] or {}).get("text")),
     ("file", lambda d, c: c["file"]),
