@@ -52,6 +52,7 @@ class Supply:
     private: bool = False
     phases: int = 1
     u_line_v: float | None = None   # None: √3 · U0 on a three-phase supply
+    pfc_line_neutral_ka: float | None = None   # three-phase: the line-neutral prospective fault current
     src: Src | None = field(default=None, compare=False)
 
     @property
@@ -74,6 +75,7 @@ class Board:
     conditional_rating_ka: float | None = None
     rcd_ma: float | None = None
     phases: int = 1
+    phase: str | None = None   # a single-phase board fed straight from a three-phase supply: its line
     src: Src | None = field(default=None, compare=False)
 
     @property

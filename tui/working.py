@@ -27,6 +27,7 @@ from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
 from tracker.checks.site import explain_circuit, SiteResult, headroom_kw
 from tracker.checks.voltage_drop import VoltageDropWorking
 from tracker.output.terminal_text import clean
+from tracker.model import PHASES
 from tui.snapshot import BOARD, CIRCUIT, Row, Snapshot
 from tui.wording import STATUS_WORD, number, plain
 
@@ -148,9 +149,12 @@ def _where(sr: SiteResult, board_id: str) -> list[Line]:
     site = sr.site
     sup = site.supply
     lines = [Line("site", f"{site.id} — {clean(site.name)}" if site.name else site.id)]
-    supply = [sup.system, f"U0 {sup.u0_v:g} V", f"Ze {plain(sup.ze_ohm)} Ω" if sup.ze_ohm is not None else "Ze not given"]
+    supply = [sup.system] + ([f"three-phase, U_L {sup.line_v:.0f} V"] if sup.three_phase else []) + [
+        f"U0 {sup.u0_v:g} V", f"Ze {plain(sup.ze_ohm)} Ω" if sup.ze_ohm is not None else "Ze not given"]
     if sup.pfc_ka is not None:
-        supply.append(f"PFC {sup.pfc_ka:g} kA")
+        supply.append(f"PFC {sup.pfc_ka:g} kA" + (" three-phase" if sup.three_phase else ""))
+    if sup.pfc_line_neutral_ka is not None:
+        supply.append(f"line-neutral PFC {sup.pfc_line_neutral_ka:g} kA")
     if sup.service_fuse_a is not None:
         supply.append(f"supplier's fuse {sup.service_fuse_a:g} A")
     if sup.system == "TT" and sup.electrode_ohm is not None:
@@ -167,7 +171,9 @@ def _where(sr: SiteResult, board_id: str) -> list[Line]:
         fed = "the supply" if b.at_origin else f"sub-main {b.fed_by}"
         extra = f", main switch {b.main_switch_a:g} A" if b.main_switch_a is not None else ""
         rcd = f", RCD {b.rcd_ma:g} mA on the board" if b.rcd_ma is not None else ""
-        lines.append(Line(f"board {b.id}", f"{clean(b.name) or b.id} — fed by {fed}{extra}{rcd}"))
+        ctx = sr.boards[f"{site.id}/{b.id}"].ctx if f"{site.id}/{b.id}" in sr.boards else None
+        phases = ", three-phase" if b.three_phase else (f", on {ctx.line}" if ctx is not None and ctx.line else "")
+        lines.append(Line(f"board {b.id}", f"{clean(b.name) or b.id} — fed by {fed}{phases}{extra}{rcd}"))
     return lines
 
 
@@ -241,8 +247,13 @@ def _as_measured(r: CircuitResult, chk: dict) -> tuple[Line, ...]:
 
 def _equipment(r: CircuitResult) -> tuple[Line, ...]:
     c, dev = r.circuit, r.circuit.device
-    kit = [Line("device", device_label(dev) + (f", breaking capacity {dev.breaking_ka:g} kA" if dev.breaking_ka else "")
-                + (f", maker's max Zs {dev.max_zs_ohm:g} Ω" if dev.max_zs_ohm is not None else ""))]
+    kit = []
+    if c.three_phase:
+        kit.append(Line("phases", "three-phase (L1, L2, L3)"))
+    elif c.phase or r.ctx.line:
+        kit.append(Line("phases", f"single-phase on {c.phase or r.ctx.line}"))
+    kit.append(Line("device", device_label(dev) + (f", breaking capacity {dev.breaking_ka:g} kA" if dev.breaking_ka else "")
+                    + (f", maker's max Zs {dev.max_zs_ohm:g} Ω" if dev.max_zs_ohm is not None else "")))
     rcd_rec = r.working.of(RcdWorking)
     rcd = rcd_rec.rcd_ma if rcd_rec is not None else c.rcd_ma
     kit.append(Line("RCD", f"{rcd:g} mA" if rcd is not None else "none"))
@@ -257,7 +268,9 @@ def _equipment(r: CircuitResult) -> tuple[Line, ...]:
     kit.append(Line("installed", amb + group + ins))
     for ld in c.loads:
         size = f"{ld.power_kw:g} kW" if ld.power_kw is not None else (
-            f"{ld.current_a:g} A" if ld.current_a is not None else "no size")
+            f"{ld.current_a:g} A" if ld.current_a is not None else (
+                "/".join(f"{i:g}" for i in ld.phase_currents_a) + " A (L1/L2/L3)" if ld.phase_currents_a
+                else "no size"))
         pf = f", pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
         where = f", {ld.location}" if ld.location else ""
         kit.append(Line(f"load {ld.id}", f"{ld.kind} {size}{pf}{where}"))
@@ -272,7 +285,10 @@ def _currents(r: CircuitResult, chk: dict) -> tuple[Line, ...]:
     source = dc_rec.ib_source if dc_rec is not None else None
     ib = (f"{number(r.ib_a, 'A')} — {source}" if r.ib_a is not None and source
           else number(r.ib_a, "A") if r.ib_a is not None else _unknown(dc))
-    return (Line("Ib", ib, dc.status if dc else None),
+    lines = (Line("Ib", ib, dc.status if dc else None),)
+    if r.ib_phases_a is not None:
+        lines += (Line("per line", ", ".join(f"{ph} {i:.2f} A" for ph, i in zip(PHASES, r.ib_phases_a))),)
+    return lines + (
             Line("In", f"{r.in_a:g} A ({device_label(r.circuit.device)})"),
             Line("Iz", number(r.iz_a, "A") if r.iz_a is not None else _unknown(cap), cap.status if cap else None),
             Line("Iz must reach", f"{number(cap.limit, 'A') if cap and cap.limit is not None else '—'}: "
@@ -288,6 +304,10 @@ def _rating_factors(r: CircuitResult, cap: CheckResult | None) -> tuple[Line, ..
            Line("Cg", f"{rec.cg:.2f} (grouping)" if rec.cg is not None else "—")]
     if rec.ci is not None:
         fac.append(Line("Ci", f"{rec.ci:.2f} (thermal insulation)"))
+    if rec.ch is not None:
+        fac.append(Line("Ch", f"{rec.ch:.2f} (triple harmonics, Table 4Aa)"))
+    if rec.neutral_a is not None:
+        fac.append(Line("neutral", f"{number(rec.neutral_a, 'A')} (3 × third harmonic × Ib)"))
     fac.append(Line("Iz", number(rec.iz_a, "A"), cap.status if cap else None))
     return tuple(fac)
 
@@ -359,7 +379,12 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
                  b.demand.parts]
         if b.demand.unknown:
             parts.append(Line("not counted", "no load data: circuit " + ", ".join(b.demand.unknown), NOT_ASSESSED))
-        parts.append(Line("demand", number(b.demand.demand_a, "A"), check.status))
+        d = b.demand
+        if d.phases_a is not None:
+            parts.insert(0, Line("per line", ", ".join(f"{ph} {i:.1f} A" for ph, i in zip(PHASES, d.phases_a))))
+            parts.insert(1, Line("neutral", f"{number(d.neutral_a, 'A')}, imbalance {d.imbalance_pct:.0f} %"))
+        parts.append(Line("demand", number(b.demand.demand_a, "A") + (" (the largest line)" if d.phases_a else ""),
+                          check.status))
         sections.append(Section("Maximum demand", tuple(parts)))
         if b.margin_a is None:
             margin = "not assessed: a demand or a sub-main check upstream has no figure"
@@ -375,6 +400,8 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
         origin_boards = [b.id for b in site.boards if b.at_origin]
         sections.append(Section("Demand at the origin", (
             Line("boards", ", ".join(origin_boards)),
+            *((Line("per line", ", ".join(f"{ph} {i:.1f} A" for ph, i in zip(PHASES, sr.supply_phases_a))),)
+              if sr.supply_phases_a is not None else ()),
             Line("demand", number(check.value, "A"), check.status),
             Line("supplier's fuse", number(check.limit, "A") if check.limit is not None else "not given"))))
         margin = "—"

@@ -19,7 +19,15 @@ class BreakingCapacityWorking:
 
 
 def _beyond_any_device(result) -> bool:
-    return result.ctx.pfc_ka > BREAKING_STEPS_KA[-1]
+    return fault_ka(result.ctx, result.circuit) > BREAKING_STEPS_KA[-1]
+
+
+def fault_ka(ctx, circuit) -> float:
+    """The fault current the circuit's device must break: the symmetrical three-phase value for a
+    three-phase circuit, the line-neutral value (or its bound) for a single-phase one."""
+    if circuit.three_phase and ctx.pfc3_ka is not None:
+        return ctx.pfc3_ka
+    return ctx.pfc_ka
 
 
 CHECK = CheckSpec(
@@ -29,18 +37,32 @@ CHECK = CheckSpec(
 
 
 def run(f: Facts, done) -> Outcome:
-    return Outcome(_verdict(f), BreakingCapacityWorking(pfc_ka=f.ctx.pfc_ka))
+    return Outcome(_verdict(f), BreakingCapacityWorking(pfc_ka=fault_ka(f.ctx, f.circuit)))
+
+
+def _where(f: Facts, pfc: float) -> tuple[str, bool]:
+    """(where the fault current comes from, in words; whether it is only an upper bound)."""
+    ctx, sup = f.ctx, f.ctx.supply
+    if not sup.three_phase:
+        if ctx.fed_via:
+            return f"{pfc:.2f} kA at {ctx.board_id} (reduced through {ctx.fed_via.split('/', 1)[1]})", False
+        if sup.pfc_declared:
+            return f"{pfc:g} kA at the origin (pfc_ka)", False
+        return f"{pfc:g} kA assumed at the origin (no pfc_ka: the usual maximum declared for a public supply)", False
+    assumed = sup.pfc_ka is None and not sup.pfc_declared
+    through = f" at {ctx.board_id}, reduced through {ctx.fed_via.split('/', 1)[1]}" if ctx.fed_via else ""
+    if f.circuit.three_phase and ctx.pfc3_ka is not None:
+        return f"{pfc:.2f} kA three-phase{through} (origin: {sup.pfc3_how})", assumed
+    if ctx.pfc_ln_bound:
+        return (f"{pfc:.2f} kA{through}, the three-phase value taken as an upper bound of the line-neutral fault "
+                f"current (origin: {sup.pfc3_how}; no pfc_line_neutral_ka)"), True
+    return f"{pfc:.2f} kA line-neutral{through} (origin: pfc_line_neutral_ka)", False
 
 
 def _verdict(f: Facts) -> CheckResult:
     ctx, dev = f.ctx, f.circuit.device
-    pfc = ctx.pfc_ka
-    if ctx.fed_via:
-        where = f"{pfc:.2f} kA at {ctx.board_id} (reduced through {ctx.fed_via.split('/', 1)[1]})"
-    elif ctx.supply.pfc_declared:
-        where = f"{pfc:g} kA at the origin (pfc_ka)"
-    else:
-        where = f"{pfc:g} kA assumed at the origin (no pfc_ka: the usual maximum declared for a public supply)"
+    pfc = fault_ka(ctx, f.circuit)
+    where, bound = _where(f, pfc)
     device_ka, device_how = dev.breaking_ka, "(breaking_ka)"
     if device_ka is None:
         default = (f.device_info or {}).get("breaking_ka")
@@ -55,5 +77,11 @@ def _verdict(f: Facts) -> CheckResult:
     else:
         limit, limit_how = device_ka, f"{device_ka:g} kA breaking capacity of the {f.label} {device_how}"
     ok = pfc <= limit
+    if not ok and bound:
+        # an upper bound that fails settles nothing (a false fail costs as much as a false pass)
+        settle = ("measure the line-neutral fault current at the origin (supply.pfc_line_neutral_ka)"
+                  if not f.circuit.three_phase else "give the three-phase fault current at the origin (supply.pfc_ka)")
+        return not_assessed(ID, "kA", "<=", f"PFC {where} > {limit_how}, but that figure is only an upper bound: "
+                                            f"{settle}", value=pfc, limit=limit)
     detail = f"PFC {where} {'≤' if ok else '>'} {limit_how} — 434.5.1" if f.explain else ""
     return CheckResult(ID, verdict(ok), pfc, limit, "kA", "<=", detail)

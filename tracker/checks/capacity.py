@@ -16,6 +16,7 @@ from tracker.checks.registry import RATING, SIZE, CheckSpec, Outcome
 from tracker.checks.result import FAIL, NOT_ASSESSED, CheckResult, fmt, not_assessed, verdict
 from tracker.checks.working import IF_KNOWN, figure, record
 from tracker.engine import factors as F
+from tracker.engine import three_phase
 
 ID = "capacity"
 DEVICE, RING, DESIGN = "device-rating", "ring", "design-current"   # the basis (SPEC §5)
@@ -27,6 +28,9 @@ class CapacityWorking:
     ca: float | None = figure("", "ambient temperature factor Ca (Table 4B1, or 4B2 in the ground)", IF_KNOWN)
     cg: float | None = figure("", "grouping factor Cg (Table 4C1)", IF_KNOWN)
     ci: float | None = figure("", "thermal insulation factor Ci (Table 52.2, or 0.5 by 523.9)", IF_KNOWN)
+    ch: float | None = figure("", "three-phase: triple-harmonic rating factor (Appendix 4 Table 4Aa)", IF_KNOWN)
+    neutral_a: float | None = figure("A", "three-phase, third harmonic over 33 %: neutral current 3 × h × Ib "
+                                          "(Appendix 4 section 5.5)", IF_KNOWN)
     iz_a: float | None = figure("A", "current-carrying capacity as installed, Iz; null where not assessed")
     basis: str | None = figure("", "what Iz is held against: device-rating, ring or design-current", kind=str)
 
@@ -67,9 +71,12 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
     """(Iz, how, factors) for the circuit's cable where it is installed."""
     c, env = f.circuit, f.circuit.environment
     kind = f.kind
-    it = kind.rating(c.cable.csa_mm2, c.cable.method)
+    phases = f.phases
+    it = kind.rating(c.cable.csa_mm2, c.cable.method, phases)
+    columns = " (three-phase, three loaded conductors)" if phases == 3 else ""
     if it is None:
-        return None, (f"no rating held for {c.cable.csa_mm2:g} mm² {kind.kind} by method {c.cable.method}"), {}
+        return None, (f"no rating held for {c.cable.csa_mm2:g} mm² {kind.kind} by method {c.cable.method}"
+                      f"{columns}"), {}
     ambient, grouping, open_ended, insulation, insulation_max_csa = _tables()
     method_d = c.cable.method == "D"
     if method_d:
@@ -92,10 +99,11 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
                       f"(up to {max(rows)})"), {}
     factors = {"it_a": it.value, "ca": round(ca, 3), "cg": cg}
     iz = it.value * ca * cg
-    how = f"It {fmt(it.value)} A{_status_note(it)} (Table for {kind.kind}, method {c.cable.method}) × {ca_how}"
+    how = (f"It {fmt(it.value)} A{_status_note(it)} (Table for {kind.kind}, method {c.cable.method}{columns}) "
+           f"× {ca_how}")
     how += f" × Cg {cg:.2f} ({env.grouped_with} {env.arrangement})" if env.grouped_with > 1 else ""
     if env.insulation_mm > 0:
-        it_c = kind.rating(c.cable.csa_mm2, "C")
+        it_c = kind.rating(c.cable.csa_mm2, "C", phases)
         if it_c is None:
             return None, f"no method C rating held for {c.cable.csa_mm2:g} mm² {kind.kind} (needed for insulation)", {}
         if c.cable.csa_mm2 > insulation_max_csa:
@@ -117,8 +125,14 @@ def run(f: Facts, done) -> Outcome:
     if f.kind is None:
         return Outcome(not_assessed(ID, "A", ">=", f"cable kind {c.cable.kind} not in the catalogue"))
     iz, how, fac = rated_capacity(f)
+    harmonics = _harmonics(f) if iz is not None else None
+    if harmonics is not None:
+        ch, neutral_a, note = harmonics
+        iz, how = iz * ch, f"{how} × Ch {ch:g} ({note})"
+        fac = {**fac, "ch": ch, **({"neutral_a": neutral_a} if neutral_a is not None else {})}
     line = done.get("line-adiabatic")
-    result, basis = _verdict(f, iz, how, (done["cpc-adiabatic"].result, line.result if line else None))
+    result, basis = _verdict(f, iz, how, (done["cpc-adiabatic"].result, line.result if line else None),
+                             harmonics[1] if harmonics else None)
     return Outcome(result, CapacityWorking(**fac, iz_a=iz, basis=basis))
 
 
@@ -130,8 +144,27 @@ def device_requirement_a(f: Facts) -> float:
     return f.in_a
 
 
-def _verdict(f: Facts, iz: float | None, how: str, adiabatic) -> tuple[CheckResult, str]:
-    """(result, basis)."""
+def _harmonics(f: Facts) -> tuple[float, float | None, str] | None:
+    """(Ch, neutral current or None, note) of BS 7671 Appendix 4 Table 4Aa for a three-phase
+    circuit whose third-harmonic content is given; None otherwise. Above 33 % the cable is sized
+    on the neutral current 3 × h × Ib (In where Ib is unknown)."""
+    c = f.circuit
+    if not c.three_phase or c.triplen_harmonics_pct is None:
+        return None
+    rows = catalogue.triplen_harmonic_rows()
+    h = c.triplen_harmonics_pct
+    ch, on = three_phase.harmonic_rating(h, tuple((up, v.value, side) for up, v, side in rows))
+    if on == "line":
+        return ch, None, f"{h:g} % third harmonic, sized on the line current, Table 4Aa"
+    line_a = f.ib_a if f.ib_a is not None else f.in_a
+    neutral = three_phase.triplen_neutral_current_a(line_a, h)
+    return ch, neutral, (f"{h:g} % third harmonic, sized on the neutral current 3 × {h:g} % × {line_a:.2f} A = "
+                         f"{neutral:.2f} A, Table 4Aa")
+
+
+def _verdict(f: Facts, iz: float | None, how: str, adiabatic, neutral_a: float | None = None
+             ) -> tuple[CheckResult, str]:
+    """(result, basis). `neutral_a`: a neutral current the cable must carry as well (harmonics)."""
     c = f.circuit
     basis, required, why = DEVICE, f.in_a, f"In {f.in_a:g} A ({f.label}) — 433.1.1(ii)"
     if c.device.kind == "fuse-semi-enclosed":
@@ -172,6 +205,9 @@ def _verdict(f: Facts, iz: float | None, how: str, adiabatic) -> tuple[CheckResu
             basis, required = DESIGN, f.ib_a
             why = (f"Ib {f.ib_a:.2f} A — cable sized on the design current, not on In {f.in_a:g} A "
                    "(433.3.1(ii): load cannot overload; fault protection shown by both adiabatic checks)")
+    if neutral_a is not None and neutral_a > required:
+        required = neutral_a
+        why = f"the neutral current {neutral_a:.2f} A (Appendix 4 section 5.5: it exceeds {why})"
     if iz is None:
         return not_assessed(ID, "A", ">=", how, limit=required), basis
     ok = iz >= required

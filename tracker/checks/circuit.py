@@ -30,6 +30,11 @@ class CircuitResult(NamedTuple):
     v_per_a: float | None       # this circuit's own volts per ampere
     vd_slack_v: float | None = None   # volts left before the voltage-drop limit (for headroom upstream)
     readings: object = None           # the latest measurements the reading checks judged (Readings)
+    # Three-phase circuits: the fed board's demand per line (sub-mains), the current in each line,
+    # and the volts to neutral per line at the far end.
+    fed_phases_a: tuple | None = None
+    ib_phases_a: tuple | None = None
+    vd_phase_end_v: tuple | None = None
 
     @property
     def site_id(self) -> str:
@@ -60,11 +65,12 @@ class CircuitResult(NamedTuple):
 
 
 def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
-             explain: bool = True, readings=None) -> tuple[CircuitResult, Facts]:
+             explain: bool = True, readings=None,
+             fed_phases_a: tuple | None = None) -> tuple[CircuitResult, Facts]:
     """Every check of the circuit that applies, in the registry's order; with explain=False the
     details and the working records are left out (faster, for searches and for a state that only
     needs the verdicts and figures)."""
-    f = build_facts(circuit, ctx, fed_demand_a, explain, readings)
+    f = build_facts(circuit, ctx, fed_demand_a, explain, readings, fed_phases_a)
     plan = registry.plan(circuit)
     done: dict[str, Outcome] = {}
     for spec in plan.run:
@@ -84,6 +90,8 @@ def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = N
         else NO_WORKING,
         vd_end_v=vd_rec.end_v if vd_rec else None, v_per_a=vd_rec.per_a_v if vd_rec else None,
         vd_slack_v=vd_rec.vd_slack_v if vd_rec else None, readings=readings,
+        fed_phases_a=fed_phases_a, ib_phases_a=f.ib_phases_a,
+        vd_phase_end_v=vd_rec.end_phase_v if vd_rec else None,
     )
     return result, f
 

@@ -6,9 +6,9 @@ from functools import lru_cache
 
 from tracker import catalogue
 from tracker.checks import rules
-from tracker.checks.design_current import circuit_ib
-from tracker.engine import disconnection, fault_level, impedance
-from tracker.model import Circuit, Site, Supply, rebuilt_by_constructor
+from tracker.checks.design_current import circuit_ib, circuit_ib_three_phase
+from tracker.engine import disconnection, fault_level, impedance, three_phase
+from tracker.model import PHASES, Circuit, Site, Supply, rebuilt_by_constructor
 
 
 @rebuilt_by_constructor
@@ -24,10 +24,21 @@ class SupplyContext:
     z_ln_source_ohm: float | None   # line-neutral source impedance, for minimum short-circuit current
     z_ln_source_how: str
     domestic: bool = True
+    phases: int = 1
+    u_line_v: float | None = None   # three-phase: line-to-line voltage
+    pfc3_ka: float | None = None    # three-phase: symmetrical three-phase fault current at the origin
+    pfc3_how: str = ""              # how pfc3_ka was found (declared, × 2 rule, assumed)
+    pfc_ln_bound: bool = False      # three-phase: pfc_ka is only an upper bound of the line-neutral value
+
+    @property
+    def three_phase(self) -> bool:
+        return self.phases == 3
 
 
 def supply_context(supply: Supply, domestic: bool = True) -> SupplyContext:
     u0 = supply.u0_v
+    if supply.three_phase:
+        return _three_phase_supply_context(supply, domestic)
     pfc = supply.pfc_ka if supply.pfc_ka is not None else fault_level.ASSUMED_PUBLIC_PFC_KA
     candidates = []
     if supply.system != "TT" and supply.ze_ohm is not None:
@@ -42,6 +53,49 @@ def supply_context(supply: Supply, domestic: bool = True) -> SupplyContext:
         system=supply.system, u0_v=u0, ze_ohm=supply.ze_ohm, pfc_ka=pfc,
         pfc_declared=supply.pfc_ka is not None, private=supply.private,
         electrode_ohm=supply.electrode_ohm, z_ln_source_ohm=z_ln, z_ln_source_how=how, domestic=domestic,
+    )
+
+
+def _three_phase_supply_context(supply: Supply, domestic: bool) -> SupplyContext:
+    """A three-phase origin. `pfc_ka` is the three-phase fault current; without it, twice the
+    line-neutral value `pfc_line_neutral_ka` (the ×2 rule of guidance, tracker.engine.three_phase),
+    and without either, twice the single-phase figure assumed for a public supply.
+
+    Single-phase circuits are checked against the line-neutral value: where only the three-phase
+    figure is known, that figure bounds it from above (a line-neutral fault drives U0 through the
+    line and the neutral, a three-phase one through the line alone) and a verdict that fails on
+    the bound is not given. The minimum short-circuit current takes the line-neutral source as
+    U0 / (PFC3 / 2) — the ×2 rule read backwards — or Ze if larger.
+    """
+    u0 = supply.u0_v
+    ln_given = supply.pfc_line_neutral_ka
+    if supply.pfc_ka is not None:
+        pfc3, how3 = supply.pfc_ka, f"{supply.pfc_ka:g} kA three-phase at the origin (pfc_ka)"
+    elif ln_given is not None:
+        pfc3 = three_phase.three_phase_pfc_from_single_ka(ln_given)
+        how3 = (f"{pfc3:g} kA three-phase = 2 × line-neutral {ln_given:g} kA (the ×2 rule of guidance for a "
+                "three-phase supply)")
+    else:
+        pfc3 = three_phase.three_phase_pfc_from_single_ka(fault_level.ASSUMED_PUBLIC_PFC_KA)
+        how3 = (f"{pfc3:g} kA three-phase assumed = 2 × {fault_level.ASSUMED_PUBLIC_PFC_KA:g} kA (no pfc_ka: the "
+                "usual maximum declared for a public supply, by the ×2 rule)")
+    pfc_ln = ln_given if ln_given is not None else pfc3
+    candidates = []
+    if supply.system != "TT" and supply.ze_ohm is not None:
+        candidates.append((supply.ze_ohm, f"Ze {supply.ze_ohm:g} Ω (line-neutral loop taken as the earth loop "
+                                          "on TN, common practice)"))
+    if ln_given is not None:
+        z = u0 / (ln_given * 1000.0)
+        candidates.append((z, f"U0 / line-neutral PFC = {u0:g} / {ln_given:g} kA = {z:.3f} Ω"))
+    elif supply.pfc_ka is not None:
+        z = u0 / (supply.pfc_ka / three_phase.THREE_PHASE_FROM_SINGLE_PHASE_FACTOR * 1000.0)
+        candidates.append((z, f"U0 / (PFC3 / 2) = {u0:g} / ({supply.pfc_ka:g} / 2) kA = {z:.3f} Ω (×2 rule)"))
+    z_ln, how = max(candidates, default=(None, "TT supply without pfc_ka: line-neutral source impedance unknown"))
+    return SupplyContext(
+        system=supply.system, u0_v=u0, ze_ohm=supply.ze_ohm, pfc_ka=pfc_ln,
+        pfc_declared=supply.pfc_ka is not None or ln_given is not None, private=supply.private,
+        electrode_ohm=supply.electrode_ohm, z_ln_source_ohm=z_ln, z_ln_source_how=how, domestic=domestic,
+        phases=3, u_line_v=supply.line_v, pfc3_ka=pfc3, pfc3_how=how3, pfc_ln_bound=ln_given is None,
     )
 
 
@@ -63,15 +117,37 @@ class BoardContext:
     fed_via: str | None = None  # ref of the sub-main feeding the board
     unknown_vd: str = ""        # why vd_v is unknown
     unknown_z: str = ""         # why z_ext_ohm is unknown
+    # Three-phase systems. A three-phase board holds the drop to it per line (volts to neutral,
+    # L1, L2, L3; vd_v is then the largest) and the three-phase fault current; a single-phase board
+    # fed from one line of a three-phase board names that line. pfc_ka is the line-neutral value.
+    phases: int = 1
+    vd_phase_v: tuple | None = None
+    line: str | None = None
+    pfc3_ka: float | None = None
+    pfc_ln_bound: bool = False  # pfc_ka is only an upper bound (the three-phase value)
+
+    @property
+    def three_phase(self) -> bool:
+        return self.phases == 3
+
+    def line_vd_v(self, line: str | None) -> float | None:
+        """Volts to neutral dropped from the origin to this board on `line` (a three-phase board),
+        or the board's own drop (a single-phase board)."""
+        if self.vd_phase_v is None or line is None:
+            return self.vd_v
+        return self.vd_phase_v[PHASES.index(line)]
 
 
 def origin_context(site: Site, board_id: str, supply: SupplyContext) -> BoardContext:
     board = site.board(board_id)
+    three = board.three_phase
     return BoardContext(
         site_id=site.id, board_id=board_id, supply=supply,
         z_ext_ohm=supply.ze_ohm, z_ln_ohm=supply.z_ln_source_ohm, vd_v=0.0, v_per_a=0.0,
         pfc_ka=supply.pfc_ka, rcd_ma=board.rcd_ma, conditional_rating_ka=board.conditional_rating_ka,
         unknown_z="" if supply.ze_ohm is not None else "Ze is not given (supply.ze_ohm)",
+        phases=3 if three else 1, vd_phase_v=(0.0, 0.0, 0.0) if three else None, line=board.phase,
+        pfc3_ka=supply.pfc3_ka if three else None, pfc_ln_bound=supply.pfc_ln_bound,
     )
 
 
@@ -129,6 +205,11 @@ class Facts:
     cpc_route: str = "core"      # core | bunched | separate | armour: where the cpc runs (sets its k)
     explain: bool = True         # False: statuses and figures only, no working text (remedy trials)
     readings: object = None      # tracker.checks.readings.Readings: the latest measurements, if any
+    ib_phases_a: tuple | None = None   # three-phase circuits: current in L1, L2, L3 (Ib is the largest)
+
+    @property
+    def phases(self) -> int:
+        return 3 if self.circuit.three_phase else 1
 
 
 # Where the cpc runs (BS 7671 Tables 54.2–54.4): a core of the cable; an insulated conductor bunched
@@ -151,22 +232,29 @@ def cpc_route(circuit: Circuit) -> str:
     return CORE
 
 
-def _armour_cpc(cable) -> tuple[float | None, float | None, str]:
+def _armour_cpc(cable, three_phase_circuit: bool = False) -> tuple[float | None, float | None, str]:
     """(armour cross-section, armour resistance at 20 °C, why unknown) where the armour is the cpc.
     No published armour resistances are held: the maker's figures come from the site file."""
     missing = [key for key, v in (("cable.armour_mohm_per_m", cable.armour_mohm_per_m),
                                   ("cable.armour_mm2", cable.armour_mm2)) if v is None]
-    why = ("the armour is the cpc (a two-core SWA has no copper cpc core; with a spare core as the cpc give "
+    no_core = ("a four-core SWA on three lines and neutral has no spare core" if three_phase_circuit
+               else "a two-core SWA has no copper cpc core")
+    why = (f"the armour is the cpc ({no_core}; with a spare core as the cpc give "
            "cable.cpc_mm2): give " + " and ".join(missing) + " from the maker's data") if missing else ""
     return cable.armour_mm2, cable.armour_mohm_per_m, why
 
 
 def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
-                explain: bool = True, readings=None) -> Facts:
+                explain: bool = True, readings=None, fed_phases_a: tuple | None = None) -> Facts:
     sup = ctx.supply
     kind = catalogue.cable_kind(circuit.cable.kind)
     info = catalogue.device_info(circuit.device.kind)
-    ib, how = circuit_ib(circuit, sup.u0_v, fed_demand_a)
+    ib_phases = None
+    if circuit.three_phase:
+        ib, how, ib_phases = circuit_ib_three_phase(circuit, sup.u0_v, sup.u_line_v or sup.u0_v * three_phase.SQRT3,
+                                                    fed_phases_a)
+    else:
+        ib, how = circuit_ib(circuit, sup.u0_v, fed_demand_a)
     in_a = circuit.device.rating_a
     sockets = rules.has_kind(circuit, "socket-outlets")
     cable = circuit.cable
@@ -174,7 +262,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
     r_line_v = catalogue.conductor_resistance(cable.csa_mm2)
     r_line = r_line_v.value if r_line_v else None
     if route == ARMOUR:
-        cpc, r_cpc, cpc_how = _armour_cpc(cable)
+        cpc, r_cpc, cpc_how = _armour_cpc(cable, circuit.three_phase)
     else:
         if cable.cpc_mm2 is not None:
             cpc, cpc_how = cable.cpc_mm2, ""
@@ -210,18 +298,31 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how, cpc_route=route,
         r_line_mohm_per_m=r_line, r_cpc_mohm_per_m=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
         zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain, readings=readings,
+        ib_phases_a=ib_phases,
     )
 
 
-def child_context(f: Facts, fed_board, vd_end_v: float | None, mv_v_per_a: float | None) -> BoardContext:
-    """The context at the board a sub-main feeds, from the sub-main's own facts."""
+def child_context(f: Facts, fed_board, vd_end_v: float | None, mv_v_per_a: float | None,
+                  vd_phase_end_v: tuple | None = None) -> BoardContext:
+    """The context at the board a sub-main feeds, from the sub-main's own facts.
+
+    A three-phase sub-main carries the per-line drop (`vd_phase_end_v`) and the three-phase fault
+    current down; a single-phase sub-main from a three-phase board puts the board it feeds on its
+    line (and the drop of that line above it is already in `vd_end_v`)."""
     ctx, sup = f.ctx, f.ctx.supply
     cable = f.circuit.cable
+    pfc3 = None
     if f.r_line_mohm_per_m is not None:
         cold = impedance.loop_resistance_ohm(f.r_line_mohm_per_m, f.r_line_mohm_per_m, cable.length_m, 1.0)
         pfc = fault_level.downstream_pfc_ka(sup.u0_v, ctx.pfc_ka, cold)
+        if f.circuit.three_phase and ctx.pfc3_ka is not None:
+            pfc3 = three_phase.downstream_three_phase_pfc_ka(sup.u0_v, ctx.pfc3_ka, cold / 2.0)
+            if ctx.pfc_ln_bound:
+                pfc = pfc3   # still only bounded by the three-phase value
     else:
-        pfc = ctx.pfc_ka
+        pfc, pfc3 = ctx.pfc_ka, ctx.pfc3_ka if f.circuit.three_phase else None
+    three = f.circuit.three_phase and fed_board.three_phase
+    line = None if three else (f.circuit.phase or ctx.line)
     return BoardContext(
         site_id=ctx.site_id, board_id=fed_board.id, supply=sup,
         z_ext_ohm=f.zs_ohm, z_ln_ohm=f.zln_far_ohm,
@@ -232,4 +333,6 @@ def child_context(f: Facts, fed_board, vd_end_v: float | None, mv_v_per_a: float
         unknown_vd="" if vd_end_v is not None else f"voltage drop of sub-main {f.circuit.board}/{f.circuit.id} unknown",
         unknown_z="" if f.zs_ohm is not None else f"loop impedance of sub-main {f.circuit.board}/{f.circuit.id} "
                                                   f"unknown ({f.zs_why})",
+        phases=3 if three else 1, vd_phase_v=vd_phase_end_v if three else None, line=line,
+        pfc3_ka=pfc3 if three else None, pfc_ln_bound=ctx.pfc_ln_bound,
     )

@@ -9,8 +9,9 @@ from tracker.checks import rules
 from tracker.checks.registry import BOARD, CheckSpec
 from tracker.checks.result import CheckResult, WARN, not_assessed, verdict
 from tracker.engine import diversity as dv
+from tracker.engine import three_phase
 from tracker.engine.current import design_current_a
-from tracker.model import Board, Circuit
+from tracker.model import PHASES, Board, Circuit
 
 ID = "demand"
 CHECK = CheckSpec(id=ID, rank=10, scope=BOARD, name="maximum demand", unit="A", compare="<=", gauge="demand/limit")
@@ -21,6 +22,15 @@ class Demand:
     demand_a: float
     parts: tuple[tuple[str, float, float], ...]   # (category, connected A, allowed A)
     unknown: tuple[str, ...]                      # circuits without load data (not counted)
+    # Three-phase boards: demand_a is the largest line's; each line's demand after diversity
+    # (L1, L2, L3) and its parts, the neutral current of that set and its imbalance; and the
+    # single-phase circuits as (circuit id, line, {category: amperes}) for the remedy of moving one.
+    phases_a: tuple | None = None
+    phase_parts: tuple | None = None
+    neutral_a: float | None = None
+    imbalance_pct: float | None = None
+    singles: tuple = ()
+    line_inputs: tuple | None = None   # per line: ((category, (amperes, ...)), ...) before diversity
 
 
 def contributions(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> list[tuple[str, float]] | None:
@@ -44,7 +54,6 @@ def contributions(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> 
 
 
 def board_demand(circuits: list[Circuit], u0_v: float, fed: dict[str, float | None]) -> Demand:
-    cats = catalogue.diversity()["categories"]
     by_cat: dict[str, list[float]] = {}
     unknown = []
     for c in circuits:
@@ -54,6 +63,76 @@ def board_demand(circuits: list[Circuit], u0_v: float, fed: dict[str, float | No
             continue
         for cat, amps in parts:
             by_cat.setdefault(cat, []).append(amps)
+    total, out = _diversify(by_cat)
+    return Demand(total, tuple(out), tuple(unknown))
+
+
+def three_phase_contributions(circuit: Circuit, u_line_v: float,
+                              fed_phases_a: tuple | None) -> list[tuple[str, tuple]] | None:
+    """(category, (I_L1, I_L2, I_L3)) a three-phase circuit adds to its board's lines; None where
+    it has no load data. A balanced load's power gives P / (√3 × U_L × pf) in each line."""
+    table = catalogue.diversity()["load_kinds"]
+    if circuit.is_submain:
+        return None if fed_phases_a is None else [("sub-main", tuple(fed_phases_a))]
+    if circuit.design_current_a is not None:
+        category = table[circuit.loads[0].kind] if circuit.loads else "heating-power"
+        return [(category, (circuit.design_current_a,) * 3)]
+    if rules.has_kind(circuit, "socket-outlets"):
+        return [("socket-circuits", (circuit.device.rating_a,) * 3)]
+    if not circuit.loads:
+        return None
+    out = []
+    for ld in circuit.loads:
+        if ld.phase_currents_a is not None:
+            out.append((table[ld.kind], tuple(ld.phase_currents_a)))
+            continue
+        amps = (ld.current_a if ld.current_a is not None
+                else three_phase.balanced_line_current_a(ld.power_kw, u_line_v, ld.power_factor))
+        out.append((table[ld.kind], (amps,) * 3))
+    return out
+
+
+def three_phase_board_demand(circuits: list[Circuit], u0_v: float, u_line_v: float,
+                             fed: dict[str, float | None], fed_phases: dict[str, tuple | None]) -> Demand:
+    """Demand of a three-phase board, line by line: each single-phase circuit (and single-phase
+    sub-main) counts on its line, each three-phase circuit on all three; the household allowances
+    are applied to each line's circuits. The neutral current is that of the three line demands
+    (`tracker.engine.three_phase.neutral_current_a`: same power factor taken for all)."""
+    by_line: list[dict[str, list[float]]] = [{}, {}, {}]
+    unknown, singles = [], []
+    for c in circuits:
+        if c.three_phase:
+            parts3 = three_phase_contributions(c, u_line_v, fed_phases.get(c.feeds) if c.feeds else None)
+            if parts3 is None:
+                unknown.append(c.id)
+                continue
+            for cat, currents in parts3:
+                for k in range(3):
+                    if currents[k] > 0:
+                        by_line[k].setdefault(cat, []).append(currents[k])
+            continue
+        parts = contributions(c, u0_v, fed.get(c.feeds) if c.feeds else None)
+        if parts is None:
+            unknown.append(c.id)
+            continue
+        k = PHASES.index(c.phase)
+        for cat, amps in parts:
+            by_line[k].setdefault(cat, []).append(amps)
+        singles.append((c.id, c.phase, tuple(parts)))
+    totals, line_parts = [], []
+    for k in range(3):
+        total, out = _diversify(by_line[k])
+        totals.append(total)
+        line_parts.append(tuple(out))
+    worst = max(range(3), key=lambda k: totals[k])
+    return Demand(totals[worst], line_parts[worst], tuple(unknown), phases_a=tuple(totals),
+                  phase_parts=tuple(line_parts), neutral_a=three_phase.neutral_current_a(*totals),
+                  imbalance_pct=three_phase.imbalance_pct(totals), singles=tuple(singles),
+                  line_inputs=tuple(tuple((cat, tuple(v)) for cat, v in line.items()) for line in by_line))
+
+
+def _diversify(by_cat: dict[str, list[float]]) -> tuple[float, list[tuple[str, float, float]]]:
+    cats = catalogue.diversity()["categories"]
     total, out = 0.0, []
     for cat in cats:  # the data file's order
         currents = by_cat.get(cat)
@@ -69,7 +148,7 @@ def board_demand(circuits: list[Circuit], u0_v: float, fed: dict[str, float | No
             allowed = dv.allowance_pct(connected, rule["pct"])
         total += allowed
         out.append((cat, connected, allowed))
-    return Demand(total, tuple(out), tuple(unknown))
+    return total, out
 
 
 def _limit(board: Board, service_fuse_a: float | None) -> tuple[float | None, str]:
@@ -87,7 +166,46 @@ def describe(d: Demand) -> str:
     return "; ".join(f"{cat} {conn:.1f} A → {allowed:.1f} A" for cat, conn, allowed in d.parts) or "no load"
 
 
+def lines_text(phases_a: tuple, neutral_a: float | None, imbalance_pct: float | None) -> str:
+    lines = ", ".join(f"{ph} {i:.1f} A" for ph, i in zip(PHASES, phases_a))
+    extra = ""
+    if neutral_a is not None:
+        extra += f"; neutral {neutral_a:.1f} A"
+    if imbalance_pct is not None:
+        extra += f"; imbalance {imbalance_pct:.0f} %"
+    return lines + extra
+
+
+def move_remedy(d: Demand, limit: float) -> tuple[str, str, str, tuple] | None:
+    """The single-phase circuit whose move from the most loaded line to the least loaded one
+    brings every line within `limit` with the lowest largest line: (circuit, from, to, new line
+    demands); None where no single move does. The allowances are applied again to both lines."""
+    if d.phases_a is None or d.line_inputs is None:
+        return None
+    worst = max(range(3), key=lambda k: d.phases_a[k])
+    least = min(range(3), key=lambda k: d.phases_a[k])
+    if d.phases_a[worst] == d.phases_a[least]:
+        return None
+    best = None
+    for cid, line, parts in d.singles:
+        if PHASES.index(line) != worst:
+            continue
+        from_line = {cat: list(currents) for cat, currents in d.line_inputs[worst]}
+        to_line = {cat: list(currents) for cat, currents in d.line_inputs[least]}
+        for cat, amps in parts:
+            from_line[cat].remove(amps)
+            to_line.setdefault(cat, []).append(amps)
+        new = list(d.phases_a)
+        new[worst] = _diversify(from_line)[0]
+        new[least] = _diversify(to_line)[0]
+        if max(new) <= limit and (best is None or max(new) < max(best[3])):
+            best = (cid, PHASES[worst], PHASES[least], tuple(new))
+    return best
+
+
 def run(board: Board, d: Demand, service_fuse_a: float | None) -> CheckResult:
+    if d.phases_a is not None:
+        return _run_three_phase(board, d, service_fuse_a)
     limit, limit_how = _limit(board, service_fuse_a)
     parts = describe(d)
     missing = (f"; not counted, no load data: circuit{'s' if len(d.unknown) > 1 else ''} "
@@ -102,6 +220,47 @@ def run(board: Board, d: Demand, service_fuse_a: float | None) -> CheckResult:
     if ok and d.unknown:
         status = WARN
     return CheckResult(ID, status, d.demand_a, limit, "A", "<=", detail, ib_limit_a=limit)
+
+
+def _run_three_phase(board: Board, d: Demand, service_fuse_a: float | None) -> CheckResult:
+    """A three-phase board: each line's demand against the main switch (and at the origin the
+    supplier's fuse) of that line; value is the largest line's."""
+    limit, limit_how = _limit(board, service_fuse_a)
+    lines = lines_text(d.phases_a, d.neutral_a, d.imbalance_pct)
+    missing = (f"; not counted, no load data: circuit{'s' if len(d.unknown) > 1 else ''} "
+               f"{', '.join(d.unknown)}") if d.unknown else ""
+    worst = PHASES[d.phases_a.index(d.demand_a)]
+    if limit is None:
+        return not_assessed(ID, "A", "<=", f"demand per line {lines}; board {board.id} has no main_switch_a",
+                            value=d.demand_a)
+    ok = d.demand_a <= limit
+    detail = (f"maximum demand after diversity per line {lines}; largest {worst} {d.demand_a:.1f} A "
+              f"{'≤' if ok else '>'} {limit_how} per line ({worst}: {describe(d)}){missing}"
+              " — allowances of common practice")
+    if not ok:
+        move = move_remedy(d, limit)
+        if move is not None:
+            cid, src, dst, new = move
+            detail += (f"; moving circuit {cid} from {src} to {dst} gives "
+                       + ", ".join(f"{ph} {i:.1f} A" for ph, i in zip(PHASES, new)) + f", within {limit:g} A")
+    status = verdict(ok)
+    if ok and d.unknown:
+        status = WARN
+    return CheckResult(ID, status, d.demand_a, limit, "A", "<=", detail, ib_limit_a=limit)
+
+
+def supply_lines_check(site_id: str, phases_a: tuple, service_fuse_a: float | None, boards: list[str]) -> CheckResult:
+    """A three-phase origin: each line's demand (every board fed from the supply) against the
+    supplier's fuse in that line."""
+    worst = max(phases_a)
+    lines = lines_text(phases_a, three_phase.neutral_current_a(*phases_a), three_phase.imbalance_pct(phases_a))
+    if service_fuse_a is None:
+        return not_assessed(ID, "A", "<=", f"demand at the origin per line {lines}; no service_fuse_a given",
+                            value=worst)
+    ok = worst <= service_fuse_a
+    detail = (f"demand at the origin per line {lines} (boards {', '.join(boards)}); largest {worst:.1f} A "
+              f"{'≤' if ok else '>'} supplier's fuse {service_fuse_a:g} A per line")
+    return CheckResult(ID, verdict(ok), worst, service_fuse_a, "A", "<=", detail, ib_limit_a=service_fuse_a)
 
 
 def supply_check(site_id: str, total_a: float, service_fuse_a: float | None, boards: list[str]) -> CheckResult:

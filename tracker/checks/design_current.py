@@ -8,9 +8,10 @@ from tracker.checks import rules
 from tracker.checks.registry import RATING_UP, CheckSpec, Outcome, always_on_load
 from tracker.checks.result import CheckResult, not_assessed, verdict
 from tracker.checks.working import figure, record
+from tracker.engine import three_phase
 from tracker.engine.current import design_current_a
 from tracker.engine.diversity import allowance_full_then_rest
-from tracker.model import Circuit
+from tracker.model import PHASES, Circuit
 
 if TYPE_CHECKING:
     from tracker.checks.context import Facts
@@ -59,6 +60,48 @@ def circuit_ib(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> tup
             parts.append(f"{ld.id} {ld.power_kw:g} kW / ({u0_v:g} V{pf}) = {i:.2f} A")
     how = "Ib = " + " + ".join(parts) + (f" = {total:.2f} A" if len(parts) > 1 else "")
     return total, how
+
+
+def circuit_ib_three_phase(circuit: Circuit, u0_v: float, u_line_v: float,
+                           fed_phases_a: tuple | None) -> tuple[float | None, str, tuple | None]:
+    """(Ib, how, (I_L1, I_L2, I_L3)) of a three-phase circuit: Ib is the largest line current.
+
+    design_current_a is a balanced line current; a three-phase sub-main carries the demand of
+    each line of the board it feeds; a load's power_kw is balanced, I = P / (√3 × U_L × pf); its
+    current_a is a balanced line current; phase_currents_a gives each line's current."""
+    if circuit.design_current_a is not None:
+        i = circuit.design_current_a
+        return i, f"Ib {i:g} A in each line (design_current_a in the site file)", (i, i, i)
+    if circuit.is_submain:
+        if fed_phases_a is None:
+            return None, f"demand of {circuit.feeds} unknown", None
+        ib = max(fed_phases_a)
+        lines = ", ".join(f"{ph} {i:.2f} A" for ph, i in zip(PHASES, fed_phases_a))
+        return ib, f"Ib = largest line demand of {circuit.feeds} after diversity ({lines}) = {ib:.2f} A", fed_phases_a
+    if not circuit.loads:
+        return None, "no load listed", None
+    totals = [0.0, 0.0, 0.0]
+    parts = []
+    for ld in circuit.loads:
+        if ld.phase_currents_a is not None:
+            for k, i in enumerate(ld.phase_currents_a):
+                totals[k] += i
+            parts.append(f"{ld.id} " + "/".join(f"{i:g}" for i in ld.phase_currents_a) + " A (L1/L2/L3)")
+            continue
+        if ld.current_a is not None:
+            i, text = ld.current_a, f"{ld.id} {ld.current_a:g} A per line"
+        else:
+            i = three_phase.balanced_line_current_a(ld.power_kw, u_line_v, ld.power_factor)
+            pf = f" × pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
+            text = f"{ld.id} {ld.power_kw:g} kW / (√3 × {u_line_v:g} V{pf}) = {i:.2f} A per line"
+        for k in range(3):
+            totals[k] += i
+        parts.append(text)
+    ib = max(totals)
+    lines = "" if len(set(round(t, 6) for t in totals)) == 1 else (
+        " (" + ", ".join(f"{ph} {t:.2f} A" for ph, t in zip(PHASES, totals)) + "; Ib the largest)")
+    how = "Ib = " + " + ".join(parts) + (f" = {ib:.2f} A" if len(parts) > 1 or lines else "") + lines
+    return ib, how, tuple(totals)
 
 
 def _cooker_ib(circuit: Circuit, u0_v: float) -> tuple[float, str]:

@@ -13,7 +13,7 @@ from dataclasses import replace
 from tracker import catalogue
 from tracker.checks import circuit as circuit_checks
 from tracker.checks import registry
-from tracker.checks.breaking_capacity import BREAKING_STEPS_KA
+from tracker.checks.breaking_capacity import BREAKING_STEPS_KA, fault_ka
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.context import device_label
 from tracker.checks.readings import READING_CHECKS
@@ -52,7 +52,7 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
     ratings = catalogue.standard_ratings(c.device.kind)
     curves = [c.device.curve] + [k for k in ("B", "C", "D") if k != c.device.curve] \
         if c.device.kind in ("mcb", "rcbo") else [c.device.curve]
-    sizes = kind.sizes(c.cable.method) if kind else [c.cable.csa_mm2]
+    sizes = kind.sizes(c.cable.method, 3 if c.three_phase else 1) if kind else [c.cable.csa_mm2]
     try:
         i_rating = ratings.index(c.device.rating_a)
     except ValueError:
@@ -72,7 +72,7 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
     breaking = c.device.breaking_ka
     if BREAKING in dims:
         # a device of higher breaking capacity, applied to every candidate
-        pfc = result.ctx.pfc_ka
+        pfc = fault_ka(result.ctx, c)
         breaking = next((b for b in BREAKING_STEPS_KA if b >= pfc), None)
     if RATING in dims:
         rating_steps = RATING_STEPS
@@ -164,7 +164,8 @@ def find(result: CircuitResult) -> dict | None:
     tries = 0
     local = _fixable_here(result, failing)
     for cand in (_candidate_circuits(result, failing) if local else ()):
-        trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a, explain=False)
+        trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a, explain=False,
+                                          fed_phases_a=result.fed_phases_a)
         # A remedy must not pass by leaving a check unassessed that was assessed before.
         if _failing(trial) or not _with(trial, NOT_ASSESSED) <= unknown:
             continue

@@ -10,7 +10,8 @@ from tracker.checks.circuit import CircuitResult
 from tracker.checks.readings import latest_readings
 from tracker.checks.context import BoardContext, child_context, build_facts, origin_context, supply_context
 from tracker.checks.result import CheckResult, worst
-from tracker.model import Circuit, Site
+from tracker.engine import three_phase
+from tracker.model import PHASES, Circuit, Site
 
 
 @dataclass(slots=True)
@@ -33,6 +34,7 @@ class SiteResult:
     circuits: dict[str, CircuitResult] = field(default_factory=dict)
     boards: dict[str, BoardResult] = field(default_factory=dict)
     supply_check: CheckResult | None = None
+    supply_phases_a: tuple | None = None   # a three-phase origin: demand per line L1, L2, L3
 
     @property
     def status(self) -> str:
@@ -54,21 +56,28 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
     """
     sup = supply_context(site.supply, site.premises == "domestic")
     u0 = sup.u0_v
+    u_line = sup.u_line_v or three_phase.line_voltage_v(u0)
     on_board: dict[str, list[Circuit]] = {b.id: [] for b in site.boards}
     for c in site.circuits:
         on_board[c.board].append(c)
+    boards = {b.id: b for b in site.boards}
     demands: dict[str, demand_checks.Demand] = {}
 
     def demand_of(board_id: str) -> demand_checks.Demand:
         if board_id not in demands:
             fed = {c.feeds: demand_of(c.feeds).demand_a for c in on_board[board_id] if c.feeds}
-            demands[board_id] = demand_checks.board_demand(on_board[board_id], u0, fed)
+            if boards[board_id].three_phase:
+                fed_phases = {c.feeds: demand_of(c.feeds).phases_a for c in on_board[board_id]
+                              if c.feeds and c.three_phase}
+                demands[board_id] = demand_checks.three_phase_board_demand(on_board[board_id], u0, u_line, fed,
+                                                                           fed_phases)
+            else:
+                demands[board_id] = demand_checks.board_demand(on_board[board_id], u0, fed)
         return demands[board_id]
 
     out = SiteResult(site)
     readings = latest_readings(site)
     old = previous.circuits if previous is not None else {}
-    boards = {b.id: b for b in site.boards}
 
     def visit(board_id: str, ctx: BoardContext) -> None:
         board = boards[board_id]
@@ -77,22 +86,40 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
         out.boards[ref] = BoardResult(ref, board_id, d, demand_checks.run(board, d, site.supply.service_fuse_a), ctx)
         for c in on_board[board_id]:
             fed = demand_of(c.feeds).demand_a if c.feeds else None
+            fed_phases = demand_of(c.feeds).phases_a if c.feeds and c.three_phase else None
             cref = f"{site.id}/{c.board}/{c.id}"
             prior = old.get(cref)
             if prior is not None and recheck is not None and cref not in recheck:
                 result, facts = prior, None
             else:
-                result, facts = circuit_checks.evaluate(c, ctx, fed, explain, readings.get(f"{c.board}/{c.id}"))
+                result, facts = circuit_checks.evaluate(c, ctx, fed, explain, readings.get(f"{c.board}/{c.id}"),
+                                                         fed_phases)
             out.circuits[cref] = result
             if c.feeds:
-                facts = facts or build_facts(c, ctx, fed)
-                visit(c.feeds, child_context(facts, boards[c.feeds], result.vd_end_v, result.v_per_a))
+                facts = facts or build_facts(c, ctx, fed, fed_phases_a=fed_phases)
+                per_a = result.v_per_a
+                if c.three_phase and per_a is not None:
+                    # a single-phase ampere drawn below flows in one line and back in the neutral
+                    per_a = 2.0 * per_a
+                visit(c.feeds, child_context(facts, boards[c.feeds], result.vd_end_v, per_a, result.vd_phase_end_v))
 
     origin_boards = [b.id for b in site.boards if b.at_origin]
     for board_id in origin_boards:
         visit(board_id, origin_context(site, board_id, sup))
-    total = sum(demand_of(b).demand_a for b in origin_boards)
-    out.supply_check = demand_checks.supply_check(site.id, total, site.supply.service_fuse_a, origin_boards)
+    if sup.three_phase:
+        lines = [0.0, 0.0, 0.0]
+        for b in origin_boards:
+            d = demand_of(b)
+            if d.phases_a is not None:
+                lines = [x + y for x, y in zip(lines, d.phases_a)]
+            elif boards[b].phase is not None:
+                lines[PHASES.index(boards[b].phase)] += d.demand_a
+        out.supply_phases_a = tuple(lines)
+        out.supply_check = demand_checks.supply_lines_check(site.id, out.supply_phases_a,
+                                                            site.supply.service_fuse_a, origin_boards)
+    else:
+        total = sum(demand_of(b).demand_a for b in origin_boards)
+        out.supply_check = demand_checks.supply_check(site.id, total, site.supply.service_fuse_a, origin_boards)
     # Report circuits in the order of the site files.
     out.circuits = {f"{site.id}/{c.board}/{c.id}": out.circuits[f"{site.id}/{c.board}/{c.id}"] for c in site.circuits}
     _margins(out, on_board, origin_boards)
@@ -145,7 +172,8 @@ def explain_circuit(result: CircuitResult) -> CircuitResult:
     the inputs the result holds: the circuit, the conditions at its board, the demand it feeds)."""
     if all(c.detail for c in result.checks):
         return result
-    explained, _ = circuit_checks.evaluate(result.circuit, result.ctx, result.fed_demand_a, True, result.readings)
+    explained, _ = circuit_checks.evaluate(result.circuit, result.ctx, result.fed_demand_a, True, result.readings,
+                                            result.fed_phases_a)
     return explained
 
 
@@ -160,4 +188,8 @@ def headroom_kw(site_result: SiteResult, result: CircuitResult) -> float | None:
     target = result.circuit.feeds or result.board_id
     board = site_result.boards.get(f"{result.site_id}/{target}")
     margin = own if board is None or board.margin_a is None else min(own, board.margin_a)
-    return margin * result.ctx.supply.u0_v / 1000.0
+    sup = result.ctx.supply
+    if result.circuit.three_phase:
+        # a balanced three-phase load: P = √3 × U_L × I
+        return margin * three_phase.SQRT3 * (sup.u_line_v or three_phase.line_voltage_v(sup.u0_v)) / 1000.0
+    return margin * sup.u0_v / 1000.0

@@ -14,7 +14,9 @@ from tracker.checks.context import Facts
 from tracker.checks.registry import SIZE, CheckSpec, Outcome, always_on_load
 from tracker.checks.result import CheckResult, fmt, not_assessed, verdict
 from tracker.checks.working import IF_KNOWN, INTERNAL, figure, record
+from tracker.engine import three_phase as tp
 from tracker.engine import voltage_drop as vd
+from tracker.model import PHASES
 
 ID = "voltage-drop"
 
@@ -33,12 +35,15 @@ class VoltageDropWorking:
     vd_slack_v: float | None = figure("V", "volts left before the limit (negative: over)", IF_KNOWN)
     end_v: float | None = figure("V", "volts dropped from the origin to the far end", INTERNAL)
     per_a_v: float | None = figure("V", "this circuit's own volts per extra ampere", INTERNAL)
+    # Three-phase circuits: volts to neutral from the origin to the far end, per line L1, L2, L3.
+    end_phase_v: tuple | None = figure("V", "volts to neutral at the far end per line", INTERNAL)
 
 
 def _cause_upstream(result) -> bool:
-    # Nothing on this circuit can help once the board itself is at the limit.
+    # Nothing on this circuit can help once the board itself is at the limit (on its line).
     ctx, check = result.ctx, result.check(ID)
-    return ctx.vd_v is not None and check.limit is not None and ctx.vd_v >= check.limit / 100.0 * ctx.supply.u0_v
+    upstream = ctx.line_vd_v(result.circuit.phase)
+    return upstream is not None and check.limit is not None and upstream >= check.limit / 100.0 * ctx.supply.u0_v
 
 
 def _needs(circuit) -> tuple[str, ...]:
@@ -58,9 +63,16 @@ def circuit_drop(f: Facts) -> tuple[float | None, float | None, str]:
     c = f.circuit
     if f.kind is None:
         return None, None, f"cable kind {c.cable.kind} not in the catalogue"
-    mv = f.kind.voltage_drop(c.cable.csa_mm2)
+    mv = f.kind.voltage_drop(c.cable.csa_mm2, f.phases)
     if mv is None:
-        return None, None, f"no mV/A/m held for {c.cable.csa_mm2:g} mm² {f.kind.kind}"
+        three = " (three-phase)" if f.phases == 3 else ""
+        return None, None, f"no mV/A/m{three} held for {c.cable.csa_mm2:g} mm² {f.kind.kind}"
+    if f.phases == 3:
+        # line-to-line volts at Ib, and volts to neutral per extra (balanced) ampere
+        volts = tp.voltage_drop_three_phase_v(mv.value, f.ib_vd_a, c.cable.length_m)
+        per_a = tp.phase_drop_v(mv.value, 1.0, 0.0, c.cable.length_m)
+        status = "" if mv.confirmed else f" [{mv.status}]"
+        return volts, per_a, f"{fmt(mv.value)} mV/A/m three-phase{status}"
     volts = vd.voltage_drop_v(mv.value, f.ib_vd_a, c.cable.length_m, c.is_ring)
     per_a = vd.voltage_drop_v(mv.value, 1.0, c.cable.length_m, c.is_ring)
     status = "" if mv.confirmed else f" [{mv.status}]"
@@ -68,6 +80,8 @@ def circuit_drop(f: Facts) -> tuple[float | None, float | None, str]:
 
 
 def run(f: Facts, done) -> Outcome:
+    if f.phases == 3:
+        return _run_three_phase(f)
     c, sup = f.circuit, f.ctx.supply
     lighting = f.lighting and not f.distribution
     limit_pct = vd.voltage_drop_limit_pct(lighting, sup.private)
@@ -76,7 +90,8 @@ def run(f: Facts, done) -> Outcome:
     volts, per_a, mv_note = circuit_drop(f)
     if volts is None:
         return Outcome(not_assessed(ID, "%", "<=", mv_note, limit=limit_pct))
-    if f.ctx.vd_v is None:
+    upstream_v = f.ctx.line_vd_v(c.phase)
+    if upstream_v is None:
         return Outcome(not_assessed(ID, "%", "<=", f.ctx.unknown_vd, limit=limit_pct), VoltageDropWorking(per_a_v=per_a))
     strict_v = volts
     ct_of = _ct_function(f, done.get("capacity"))
@@ -85,16 +100,17 @@ def run(f: Facts, done) -> Outcome:
         ct = None                     # at or above its maximum temperature: the tabulated figure
     if ct is not None:
         volts = strict_v * ct
-    total_v = f.ctx.vd_v + volts
+    total_v = upstream_v + volts
     pct = total_v / sup.u0_v * 100.0
     limit_v = limit_pct / 100.0 * sup.u0_v
     length = f"{c.cable.length_m:g} m" + (" / 4 (ring, load at the midpoint)" if c.is_ring else "")
     ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
-    upstream = f" + {f.ctx.vd_v:.2f} V upstream = {total_v:.2f} V" if f.ctx.vd_v else ""
+    on_line = f" on {c.phase}" if f.ctx.vd_phase_v is not None and c.phase else ""
+    upstream = f" + {upstream_v:.2f} V upstream{on_line} = {total_v:.2f} V" if upstream_v else ""
     ok = pct <= limit_pct
     corrected = ""
     if ct is not None:
-        strict_pct = (f.ctx.vd_v + strict_v) / sup.u0_v * 100.0
+        strict_pct = (upstream_v + strict_v) / sup.u0_v * 100.0
         corrected = (f" × Ct {ct:.3f} (conductor below its maximum temperature, Appendix 4 section 6.1) = "
                      f"{volts:.2f} V")
     detail = (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {length} = {strict_v:.2f} V{corrected}{upstream} = "
@@ -111,7 +127,7 @@ def run(f: Facts, done) -> Outcome:
         else:
             ib_limit = _current_at_limit(f, per_a, ct_of, limit_v)
     rec = VoltageDropWorking(vd_circuit_v=volts, vd_strict_v=strict_v if ct is not None else None, ct=ct,
-                             vd_upstream_v=f.ctx.vd_v, vd_total_pct=pct, mv_per_a_m=mv_note,
+                             vd_upstream_v=upstream_v, vd_total_pct=pct, mv_per_a_m=mv_note,
                              vd_slack_v=limit_v - total_v, end_v=total_v, per_a_v=per_a)
     return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), rec)
 
@@ -147,7 +163,7 @@ class _Ct:
 def _current_at_limit(f: Facts, per_a: float, ct: _Ct, limit_v: float) -> float:
     """The Ib at which the corrected drop reaches the limit: upstream drop (rising by the
     sub-mains' volts per ampere) + per_a × I × Ct(I) = limit."""
-    base = f.ctx.vd_v - f.ctx.v_per_a * f.ib_a
+    base = f.ctx.line_vd_v(f.circuit.phase) - f.ctx.v_per_a * f.ib_a
     up = f.ctx.v_per_a
     strict = (limit_v - base) / (per_a + up)      # with Ct = 1: the corrected drop is never larger
     if ct(strict) >= 1.0:
@@ -162,3 +178,50 @@ def _current_at_limit(f: Facts, per_a: float, ct: _Ct, limit_v: float) -> float:
         if abs(step) < 1e-9:
             break
     return i
+
+
+def _run_three_phase(f: Facts) -> Outcome:
+    """A three-phase circuit: the three-phase mV/A/m (Appendix 4 section 6) gives the line-to-line
+    drop at Ib; each line's drop to neutral is added to that line's drop above the board
+    (`tracker.engine.three_phase.phase_drop_v`, with the neutral current of unbalanced lines), and
+    the worst line, in % of U0, is held against the limit — for a balanced circuit the same figure
+    as the line-to-line drop in % of U_L."""
+    c, sup, ctx = f.circuit, f.ctx.supply, f.ctx
+    lighting = f.lighting and not f.distribution
+    limit_pct = vd.voltage_drop_limit_pct(lighting, sup.private)
+    use = "lighting" if lighting else "other uses"
+    src = "private supply" if sup.private else "public supply"
+    volts, per_a, mv_note = circuit_drop(f)
+    if volts is None:
+        return Outcome(not_assessed(ID, "%", "<=", mv_note, limit=limit_pct))
+    if ctx.vd_phase_v is None:
+        why = ctx.unknown_vd or "the drop to the board on each line is unknown"
+        return Outcome(not_assessed(ID, "%", "<=", why, limit=limit_pct), VoltageDropWorking(per_a_v=per_a))
+    mv = f.kind.voltage_drop(c.cable.csa_mm2, 3).value
+    currents = f.ib_phases_a if f.ib_phases_a is not None else (f.ib_vd_a,) * 3
+    neutral = tp.neutral_current_a(*currents)
+    ends = tuple(up + tp.phase_drop_v(mv, i, neutral, c.cable.length_m) for up, i in zip(ctx.vd_phase_v, currents))
+    worst_k = max(range(3), key=lambda k: ends[k])
+    total_v = ends[worst_k]
+    u_line = sup.u_line_v or tp.line_voltage_v(sup.u0_v)
+    pct = total_v / sup.u0_v * 100.0
+    limit_v = limit_pct / 100.0 * sup.u0_v
+    ok = pct <= limit_pct
+    detail = ""
+    if f.explain:
+        ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
+        upstream = ctx.vd_phase_v[worst_k]
+        n_note = f", neutral {neutral:.2f} A" if neutral > 0.005 else ""
+        detail = (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {c.cable.length_m:g} m = {volts:.2f} V line to line; "
+                  f"worst line {PHASES[worst_k]}: {upstream:.2f} V upstream + its share {total_v - upstream:.2f} V"
+                  f"{n_note} = {total_v:.2f} V to neutral = {pct:.2f} % of {sup.u0_v:g} V (as % of U_L "
+                  f"{u_line:g} V for balanced lines) {'≤' if ok else '>'} {limit_pct:g} % ({use}, {src}; "
+                  "Appendix 4 Table 4Ab)")
+    slope = per_a + ctx.v_per_a
+    ib_limit = None
+    if f.ib_a is not None and slope > 0:
+        ib_limit = f.ib_a + (limit_v - total_v) / slope
+    rec = VoltageDropWorking(vd_circuit_v=volts, vd_upstream_v=ctx.vd_phase_v[worst_k], vd_total_pct=pct,
+                             mv_per_a_m=mv_note, vd_slack_v=limit_v - total_v, end_v=total_v, per_a_v=per_a,
+                             end_phase_v=ends)
+    return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), rec)

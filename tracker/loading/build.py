@@ -79,6 +79,7 @@ def build_supply(d: dict, p: Problems) -> Supply:
         private=bool(d.get("private", False)),
         phases=int(d.get("phases", 1)),
         u_line_v=_num(d, "u_line_v", path, p),
+        pfc_line_neutral_ka=_num(d, "pfc_line_neutral_ka", path, p),
         src=Src(p.file, path),
     )
 
@@ -94,6 +95,7 @@ def build_board(d: dict, index: int, p: Problems) -> Board:
         conditional_rating_ka=_num(d, "conditional_rating_ka", path, p),
         rcd_ma=_num(d, "rcd_ma", path, p),
         phases=int(d.get("phases", 1)),
+        phase=d.get("phase"),
         src=Src(p.file, path),
     )
 

@@ -27,7 +27,15 @@ def check_phases(supply: Supply | None, boards: list[Board], circuits: list[Circ
     by_ref = {f"{c.board}/{c.id}": c for c in circuits}
     for b in boards:
         if not b.three_phase:
+            if b.phase is not None and not (b.at_origin and three_phase_supply):
+                yield _err(b, ("phase",), "a board names its line only where it is single-phase and fed straight "
+                                          "from a three-phase supply (a sub-main names the line of the board it feeds)")
+            elif b.phase is None and b.at_origin and three_phase_supply:
+                yield _err(b, (), f"single-phase board {b.id} fed straight from the three-phase supply names the "
+                                  "line it takes: give phase: L1, L2 or L3 (or phases: 3 for a three-phase board)")
             continue
+        if b.phase is not None:
+            yield _err(b, ("phase",), f"board {b.id} is three-phase: remove 'phase'")
         if supply is not None and not three_phase_supply and b.at_origin:
             yield _err(b, ("phases",), f"board {b.id} is three-phase but the supply is single-phase "
                                        "(give supply.phases: 3, or make the board single-phase)")
@@ -76,8 +84,9 @@ def check_phases(supply: Supply | None, boards: list[Board], circuits: list[Circ
 
 def _check_supply(supply: Supply):
     if not supply.three_phase:
-        if supply.u_line_v is not None:
-            yield _err(supply, ("u_line_v",), "u_line_v is for a three-phase supply: give phases: 3 or remove it")
+        for key in ("u_line_v", "pfc_line_neutral_ka"):
+            if getattr(supply, key) is not None:
+                yield _err(supply, (key,), f"{key} is for a three-phase supply: give phases: 3 or remove it")
         return
     if supply.u_line_v is not None:
         expected = THREE_PHASE_SQRT3 * supply.u0_v

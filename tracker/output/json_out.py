@@ -7,6 +7,8 @@ from tracker.inspection.suggest import suggestions
 from tracker.checks.result import FAIL
 from tracker.checks.site import SiteResult, headroom_kw
 from tracker.output.figures import rounded
+from tracker.engine import three_phase
+from tracker.model import PHASES
 
 SCHEMA = "izwatch.check/1"
 CAUTION = ("izwatch supports, and does not replace, a competent person: verify every result against "
@@ -32,6 +34,8 @@ def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
         "file": c.src.file if c.src else None,
         "working": r.working.as_json(),
     }
+    if r.ctx.supply.three_phase:
+        entry.update(phase_fields(r))
     if with_remedy and r.status == FAIL:
         entry["remedy"] = remedies.find(r)
         found = suggestions(r.checks)
@@ -40,14 +44,44 @@ def circuit_entry(sr: SiteResult, r, with_remedy: bool = True) -> dict:
     return entry
 
 
+def _lines(values) -> dict:
+    return {ph: rounded(v, "A") for ph, v in zip(PHASES, values)}
+
+
+def phase_fields(r) -> dict:
+    """Extension, circuits of a three-phase supply: `phases`, the line of a single-phase circuit
+    (its own, or its board's), and a three-phase circuit's current in each line."""
+    c = r.circuit
+    out = {"phases": 3 if c.three_phase else 1}
+    line = c.phase or r.ctx.line
+    if line is not None:
+        out["phase"] = line
+    if r.ib_phases_a is not None:
+        out["ib_phases_a"] = _lines(r.ib_phases_a)
+    return out
+
+
 def board_entry(b) -> dict:
-    return {"ref": b.ref, "demand_a": rounded(b.demand.demand_a, "A"), "status": b.status,
-            "checks": [b.check.as_json()]}
+    entry = {"ref": b.ref, "demand_a": rounded(b.demand.demand_a, "A"), "status": b.status,
+             "checks": [b.check.as_json()]}
+    d = b.demand
+    if d.phases_a is not None:
+        entry.update({"phases": 3, "demand_phases_a": _lines(d.phases_a), "neutral_a": rounded(d.neutral_a, "A"),
+                      "imbalance_pct": rounded(d.imbalance_pct, "%", 1)})
+    elif b.ctx.line is not None:
+        entry.update({"phases": 1, "phase": b.ctx.line})
+    return entry
 
 
 def supply_entry(sr: SiteResult) -> dict:
     chk = sr.supply_check
-    return {"ref": sr.site.id, "demand_a": rounded(chk.value, "A"), "status": chk.status, "checks": [chk.as_json()]}
+    entry = {"ref": sr.site.id, "demand_a": rounded(chk.value, "A"), "status": chk.status, "checks": [chk.as_json()]}
+    if sr.supply_phases_a is not None:
+        lines = sr.supply_phases_a
+        entry.update({"phases": 3, "demand_phases_a": _lines(lines),
+                      "neutral_a": rounded(three_phase.neutral_current_a(*lines), "A"),
+                      "imbalance_pct": rounded(three_phase.imbalance_pct(lines), "%", 1)})
+    return entry
 
 
 def check_document(results, errors=(), warnings=()) -> dict:

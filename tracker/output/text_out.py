@@ -21,8 +21,9 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
     site = sr.site
     sup = site.supply
     lines = [f"== {site.id}  {clean(site.name)}".rstrip(),
-             f"   supply {sup.system}, U0 {sup.u0_v:g} V, Ze {figures.as_written(sup.ze_ohm) if sup.ze_ohm is not None else figures.NONE} Ω"
-             + (f", PFC {sup.pfc_ka:g} kA" if sup.pfc_ka else "")
+             f"   supply {sup.system}" + (f", three-phase {sup.line_v:.0f} V" if sup.three_phase else "")
+             + f", U0 {sup.u0_v:g} V, Ze {figures.as_written(sup.ze_ohm) if sup.ze_ohm is not None else figures.NONE} Ω"
+             + (f", PFC {sup.pfc_ka:g} kA" + (" three-phase" if sup.three_phase else "") if sup.pfc_ka else "")
              + (f", supplier's fuse {sup.service_fuse_a:g} A" if sup.service_fuse_a else "")]
     by_board: dict[str, list] = {}
     for r in sr.circuits.values():
@@ -32,15 +33,23 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
             continue
         board = site.board(b.board_id)
         fed = "supply" if board.at_origin else board.fed_by
-        lines.append(f"-- {bref}  {clean(board.name)}  (fed by {fed}; demand {b.demand.demand_a:.1f} A) "
-                     f"[{MARK[b.status].strip()}]")
+        if b.demand.phases_a is not None:
+            demand = "three-phase; demand " + "/".join(f"{i:.1f}" for i in b.demand.phases_a) + " A (L1/L2/L3)"
+        else:
+            demand = (f"on {b.ctx.line}; " if b.ctx.line else "") + f"demand {b.demand.demand_a:.1f} A"
+        lines.append(f"-- {bref}  {clean(board.name)}  (fed by {fed}; {demand}) [{MARK[b.status].strip()}]")
         if b.status != PASS:
             lines.append(f"     {SYMBOL[b.status]} demand: {clean(b.check.detail)}")
         for r in by_board.get(b.board_id, []):
             if only_problems and r.status in (PASS,):
                 continue
             hk = headroom_kw(sr, r)
-            lines.append(f"   {MARK[r.status]} {r.circuit.id:<5} {clean(r.circuit.name)[:34]:<34} "
+            name = clean(r.circuit.name)
+            if r.circuit.three_phase:
+                name = f"[3φ] {name}"
+            elif r.circuit.phase and b.demand.phases_a is not None:
+                name = f"[{r.circuit.phase}] {name}"
+            lines.append(f"   {MARK[r.status]} {r.circuit.id:<5} {name[:34]:<34} "
                          f"Ib {figures.quantity(r.ib_a, places=1):>6}  In {r.in_a:>5g}  Iz {figures.quantity(r.iz_a, places=1):>6}  "
                          f"headroom {figures.quantity(hk, 'kW', sign=True, show_unit=False)} kW")
             for chk in r.checks:

@@ -8,6 +8,7 @@ as a mark (shape and glyph, as well as colour) and, for a circuit, the state in 
 from __future__ import annotations
 
 from tracker.output import figures
+from tracker.model import PHASES
 from tracker.report.markup import Safe, cat, el, svg_el
 from tracker.report.symbols import WORD, mark_at
 
@@ -35,15 +36,31 @@ def _labels(doc: dict) -> dict[str, tuple[str, str, str]]:
              else f"PFC not given ({_num(s['pfc_used_ka'], 2, 'kA')} assumed)"]
     if s["service_fuse_a"] is not None:
         parts.append(f"supplier's fuse {_num(s['service_fuse_a'], 0, 'A')}")
-    line2 = " · ".join(parts + [f"demand {_num(o['demand_a'], 2, 'A')}", WORD[o["status"]]])
-    out[o["ref"]] = (f"Origin — {s['system']} supply", line2, o["check"]["detail"])
+    if o.get("demand_phases_a"):
+        lines = o["demand_phases_a"]
+        demand = "demand " + " / ".join(f"{ph} {_num(lines[ph], 1, 'A')}" for ph in PHASES)
+    else:
+        demand = f"demand {_num(o['demand_a'], 2, 'A')}"
+    line2 = " · ".join(parts + [demand, WORD[o["status"]]])
+    kind = f"three-phase {s['system']} supply, {_num(s['u_line_v'], 0, 'V')}" if s.get("phases") == 3 \
+        else f"{s['system']} supply"
+    out[o["ref"]] = (f"Origin — {kind}", line2, o["check"]["detail"])
     for b in doc["boards"]:
         bits = []
+        if b.get("phases") == 3:
+            bits.append("three-phase")
+        elif b.get("phase"):
+            bits.append(f"on {b['phase']}")
         if b["main_switch_a"] is not None:
             bits.append(f"main switch {_num(b['main_switch_a'], 0, 'A')}")
         if b["rcd_ma"] is not None:
             bits.append(f"RCD {_num(b['rcd_ma'], 0, 'mA')}")
-        bits += [f"demand {_num(b['demand_a'], 2, 'A')}", WORD[b["status"]]]
+        if b.get("demand_phases_a"):
+            lines = b["demand_phases_a"]
+            bits.append("demand " + " / ".join(f"{ph} {_num(lines[ph], 1, 'A')}" for ph in PHASES))
+        else:
+            bits.append(f"demand {_num(b['demand_a'], 2, 'A')}")
+        bits.append(WORD[b["status"]])
         out[b["ref"]] = (f"{b['id']}  {b['name']}".strip(), " · ".join(bits), b["check"]["detail"])
     for c in doc["circuits"]:
         cab = c["cable"]
@@ -52,6 +69,10 @@ def _labels(doc: dict) -> dict[str, tuple[str, str, str]]:
         failing = [k["id"] for k in c["checks"] if k["status"] == c["status"]] if c["status"] != "pass" else []
         verdict = WORD[c["status"]] + (f": {', '.join(failing)}" if failing else "")
         role = f" → {c['feeds']}" if c["feeds"] else ""
+        if c.get("phases") == 3:
+            role = f" [three-phase]{role}"
+        elif c.get("phase"):
+            role = f" [{c['phase']}]{role}"
         line2 = f"{device} · {cable} · Ib {_num(c['ib_a'], 2, 'A')}, Iz {_num(c['iz_a'], 2, 'A')} · {verdict}"
         out[c["ref"]] = (f"{c['id']}  {c['name']}{role}".strip(), line2, f"{c['ref']}: {verdict}")
     return out

@@ -21,7 +21,7 @@ from tracker.graph import BOARD, CIRCUIT, LOAD, build_graph, kind_of
 from tracker.history import History, HistoryError, history_location, location_exists, shown_location
 from tracker.history import query
 from tracker.history.verify import verify
-from tracker.model import Site
+from tracker.model import PHASES, Site
 from tracker.output.figures import rounded
 from tracker.output.json_out import CAUTION, circuit_entry
 from tracker.report import inspections as inspection_record
@@ -42,14 +42,22 @@ def _iso(moment: datetime) -> str:
 def _supply(site: Site, sr: SiteResult) -> dict:
     s = site.supply
     used = next(iter(sr.boards.values())).ctx.supply.pfc_ka if sr.boards else s.pfc_ka
-    return {"system": s.system, "u0_v": s.u0_v, "ze_ohm": s.ze_ohm, "pfc_ka": s.pfc_ka,
-            "pfc_used_ka": rounded(used, "kA"), "service_fuse_a": s.service_fuse_a,
-            "electrode_ohm": s.electrode_ohm, "private": s.private}
+    out = {"system": s.system, "u0_v": s.u0_v, "ze_ohm": s.ze_ohm, "pfc_ka": s.pfc_ka,
+           "pfc_used_ka": rounded(used, "kA"), "service_fuse_a": s.service_fuse_a,
+           "electrode_ohm": s.electrode_ohm, "private": s.private}
+    if s.three_phase:
+        sup = next(iter(sr.boards.values())).ctx.supply if sr.boards else None
+        out.update({"phases": 3, "u_line_v": rounded(s.line_v, "V", 1), "pfc_line_neutral_ka": s.pfc_line_neutral_ka,
+                    "pfc3_used_ka": rounded(sup.pfc3_ka, "kA") if sup else None})
+    return out
 
 
 def _origin(sr: SiteResult) -> dict:
     chk = sr.supply_check
-    return {"ref": sr.site.id, "status": chk.status, "demand_a": rounded(chk.value, "A"), "check": chk.as_json()}
+    out = {"ref": sr.site.id, "status": chk.status, "demand_a": rounded(chk.value, "A"), "check": chk.as_json()}
+    if sr.supply_phases_a is not None:
+        out["demand_phases_a"] = {ph: rounded(v, "A") for ph, v in zip(PHASES, sr.supply_phases_a)}
+    return out
 
 
 def _board(sr: SiteResult, b) -> dict:
@@ -66,13 +74,26 @@ def _board(sr: SiteResult, b) -> dict:
         "not_counted": list(b.demand.unknown),
         "pfc_ka": rounded(ctx.pfc_ka, "kA"), "loop_at_board_ohm": rounded(ctx.z_ext_ohm, "ohm"),
         "check": b.check.as_json(),
+        **_board_phases(b),
     }
+
+
+def _board_phases(b) -> dict:
+    """Extension, a board of a three-phase supply: its phases, its line or each line's demand."""
+    ctx, d = b.ctx, b.demand
+    if not ctx.supply.three_phase:
+        return {}
+    if d.phases_a is None:
+        return {"phases": 1, "phase": ctx.line}
+    return {"phases": 3, "phase": None, "demand_phases_a": {ph: rounded(v, "A") for ph, v in zip(PHASES, d.phases_a)},
+            "neutral_a": rounded(d.neutral_a, "A"), "imbalance_pct": rounded(d.imbalance_pct, "%", 1),
+            "pfc3_ka": rounded(ctx.pfc3_ka, "kA")}
 
 
 def _circuit(sr: SiteResult, r) -> dict:
     c = r.circuit
     entry = circuit_entry(sr, r)          # the check --json entry: the same figures, the same rounding
-    facts = build_facts(c, r.ctx, r.fed_demand_a)
+    facts = build_facts(c, r.ctx, r.fed_demand_a, fed_phases_a=r.fed_phases_a)
     vd = r.check("voltage-drop")
     rcd, loop = r.working.of(RcdWorking), r.working.of(FaultLoopWorking)
     entry.update({

@@ -99,13 +99,19 @@ class EstateTree(Tree[Branch]):
             sr = snap.sites[b.site_id]
             br = sr.boards[b.ref]
             limit = f" of {br.check.limit:g} A" if br.check.limit is not None else ""
-            return self._labelled(row.state, br.board_id, f"demand {br.demand.demand_a:.1f} A{limit}", row.name)
+            d = br.demand
+            if d.phases_a is not None:
+                demand = "3-phase, demand " + "/".join(f"{i:.1f}" for i in d.phases_a) + f" A{limit} (L1/L2/L3)"
+            else:
+                demand = (f"on {br.ctx.line}, " if br.ctx.line else "") + f"demand {d.demand_a:.1f} A{limit}"
+            return self._labelled(row.state, br.board_id, demand, row.name)
         tail = ", ".join(row.failing or row.open_checks)
         sr = snap.sites[b.site_id]
-        feeds = sr.circuits[b.ref].circuit.feeds
-        if feeds:
-            tail = (tail + " · " if tail else "") + f"feeds {feeds}"
-        return self._labelled(row.state, f"{row.circuit_id} {row.name}".rstrip(), tail)
+        circuit = sr.circuits[b.ref].circuit
+        if circuit.feeds:
+            tail = (tail + " · " if tail else "") + f"feeds {circuit.feeds}"
+        phase = "3-phase " if circuit.three_phase else (f"{circuit.phase} " if circuit.phase else "")
+        return self._labelled(row.state, f"{row.circuit_id} {phase}{row.name}".rstrip(), tail)
 
 
     # -- building -----------------------------------------------------------------------
