@@ -68,7 +68,7 @@ def test_the_summary_counts_board_demand_and_problems_lists_only_problems(capsys
     assert main(["check", str(DEMO), "--problems"]) == 1
     out = capsys.readouterr().out
     # demo: orchard-end's origin, house board and workshop board fail their maximum demand
-    assert out.strip().splitlines()[-2].endswith("pass; demand: 3 of 11 boards and origins fail")
+    assert out.strip().splitlines()[-2].endswith("pass; demand: 5 of 18 boards and origins fail")
     assert "quill-court-2" not in out            # a site with nothing to list is left out
     assert "orchard-end/WS1" in out and "== larkspur-yard-4" in out
 

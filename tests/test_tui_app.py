@@ -54,7 +54,7 @@ def test_opens_on_the_problems_newly_broken_first(demo_copy):
             assert len(listed) == snap.counts[NEW] + snap.counts[ACKED]
             assert [r.state for r in listed] == sorted((r.state for r in listed), key=lambda s: s != NEW)
             tally = plain(app.screen.query_one(Tally))
-            assert f"▲ {snap.counts[NEW]} new" in tally and "✓ 24 ok" in tally
+            assert f"▲ {snap.counts[NEW]} new" in tally and "✓ 47 ok" in tally
             assert app.screen.query_one(ProblemList).has_focus
     run(go())
 

@@ -43,7 +43,7 @@ def recorded(tmp_path_factory):
             h.close()
         h = History.open(root / ".izwatch" / "history.sqlite")
         try:
-            assert h.count() == 7      # six first records and the edit: the same revisions every run
+            assert h.count() == 10     # nine first records (one per file) and the edit: the same revisions every run
         finally:
             h.close()
     return root

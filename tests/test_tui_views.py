@@ -39,16 +39,18 @@ def test_first_record_lists_every_problem_as_newly_broken(live):
     snap = S.build(w.state, h, first_record=True)
     circuits = [r for r in snap.rows if r.kind == S.CIRCUIT]
     engine = [r for sr in w.state.site_results() for r in sr.circuits.values()]
-    assert len(circuits) == len(engine) == snap.circuits == 31
-    # the demo's check report: 12 fail, 2 warn, 1 not fully assessed, 16 pass
-    assert sum(r.status == FAIL for r in circuits) == 12
+    assert len(circuits) == len(engine) == snap.circuits == 52
+    # the demo's check report: 14 fail, 2 warn, 2 not fully assessed, 34 pass
+    assert sum(r.status == FAIL for r in circuits) == 14
     assert sum(r.status == WARN for r in circuits) == 2
-    assert sum(r.status == NOT_ASSESSED for r in circuits) == 1
-    assert sum(r.status == PASS for r in circuits) == 16
+    assert sum(r.status == NOT_ASSESSED for r in circuits) == 2
+    assert sum(r.status == PASS for r in circuits) == 34
     failing = [r for r in snap.rows if r.status == FAIL]
     assert failing and all(r.state == NEW and r.cause.kind == "first-record" for r in failing)
-    # boards and origins are rows too: orchard-end's CU1 and WS1 exceed their main switches
-    assert {r.ref for r in failing if r.kind != S.CIRCUIT} == {"orchard-end", "orchard-end/CU1", "orchard-end/WS1"}
+    # boards and origins are rows too: orchard-end's CU1 and WS1 exceed their main switches, and
+    # heron-row's line L1 its landlord's board's main switch and the supplier's fuse
+    assert {r.ref for r in failing if r.kind != S.CIRCUIT} == {"orchard-end", "orchard-end/CU1", "orchard-end/WS1",
+                                                              "heron-row", "heron-row/LB"}
     assert snap.counts[NEW] == len(failing) and snap.counts[ACKED] == 0
     # problems first: the list starts with every failing row
     assert [r.status for r in snap.rows[:len(failing)]] == [FAIL] * len(failing)

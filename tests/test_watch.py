@@ -210,7 +210,7 @@ def test_cli_watch_ready_events_and_clean_stop(demo_copy):
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
         ready = json.loads(proc.stdout.readline())
-        assert ready["event"] == "ready" and ready["sites"] == 5 and ready["first_record"] is True
+        assert ready["event"] == "ready" and ready["sites"] == 7 and ready["first_record"] is True
         edit(demo_copy / SHOWER, "power_kw: 7.5", "power_kw: 8.5")
         line = json.loads(proc.stdout.readline())
         assert (line["ref"], line["check"], line["transition"]) == ("quill-court-2/CU1/3", "capacity", "newly-failing")

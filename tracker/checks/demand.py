@@ -176,17 +176,18 @@ def lines_text(phases_a: tuple, neutral_a: float | None, imbalance_pct: float | 
     return lines + extra
 
 
-def move_remedy(d: Demand, limit: float) -> tuple[str, str, str, tuple] | None:
-    """The single-phase circuit whose move from the most loaded line to the least loaded one
-    brings every line within `limit` with the lowest largest line: (circuit, from, to, new line
-    demands); None where no single move does. The allowances are applied again to both lines."""
+def move_remedies(d: Demand, limit: float) -> list[tuple[str, str, str, tuple]]:
+    """The moves of one single-phase circuit from the most loaded line to the least loaded one
+    that bring every line within `limit`, those with the lowest largest line first (ties in the
+    board's order): (circuit, from, to, new line demands). The allowances are applied again to
+    both lines. Empty where no single move does it."""
     if d.phases_a is None or d.line_inputs is None:
-        return None
+        return []
     worst = max(range(3), key=lambda k: d.phases_a[k])
     least = min(range(3), key=lambda k: d.phases_a[k])
     if d.phases_a[worst] == d.phases_a[least]:
-        return None
-    best = None
+        return []
+    found = []
     for cid, line, parts in d.singles:
         if PHASES.index(line) != worst:
             continue
@@ -198,9 +199,9 @@ def move_remedy(d: Demand, limit: float) -> tuple[str, str, str, tuple] | None:
         new = list(d.phases_a)
         new[worst] = _diversify(from_line)[0]
         new[least] = _diversify(to_line)[0]
-        if max(new) <= limit and (best is None or max(new) < max(best[3])):
-            best = (cid, PHASES[worst], PHASES[least], tuple(new))
-    return best
+        if max(new) <= limit:
+            found.append((cid, PHASES[worst], PHASES[least], tuple(new)))
+    return sorted(found, key=lambda m: round(max(m[3]), 1))   # stable: the board's order on a tie
 
 
 def run(board: Board, d: Demand, service_fuse_a: float | None) -> CheckResult:
@@ -238,11 +239,14 @@ def _run_three_phase(board: Board, d: Demand, service_fuse_a: float | None) -> C
               f"{'≤' if ok else '>'} {limit_how} per line ({worst}: {describe(d)}){missing}"
               " — allowances of common practice")
     if not ok:
-        move = move_remedy(d, limit)
-        if move is not None:
-            cid, src, dst, new = move
+        moves = move_remedies(d, limit)
+        if moves:
+            cid, src, dst, new = moves[0]
+            best = round(max(new), 1)
+            also = [m[0] for m in moves[1:] if round(max(m[3]), 1) == best]
             detail += (f"; moving circuit {cid} from {src} to {dst} gives "
-                       + ", ".join(f"{ph} {i:.1f} A" for ph, i in zip(PHASES, new)) + f", within {limit:g} A")
+                       + ", ".join(f"{ph} {i:.1f} A" for ph, i in zip(PHASES, new)) + f", within {limit:g} A"
+                       + (f" (moving circuit {' or '.join(also)} instead does as well)" if also else ""))
     status = verdict(ok)
     if ok and d.unknown:
         status = WARN
