@@ -175,7 +175,8 @@ def _verdict(f: Facts, iz: float | None, how: str, adiabatic, neutral_a: float |
     exempt_note = ""
     if ring_ok:
         basis, required = RING, rules.RING_MIN_IZ_A
-        why = "20 A (ring final circuit on a 30/32 A device, 433.1.204)"
+        why = (f"{rules.RING_MIN_IZ_A:g} A (ring final circuit on a {rules.ring_ratings_text()} A device, "
+               "433.1.204)")
     elif c.is_ring:
         exempt_note = f"; not a qualifying ring ({ring_why}), so Iz must reach the device rating"
     if c.overload_exempt and not ring_ok:

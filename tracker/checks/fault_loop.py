@@ -58,7 +58,7 @@ def _verdict(f: Facts, how: str, limit: float | None, limit_how: str) -> CheckRe
         device = (f"the {f.label} alone would need Zs ≤ {limit:.2f} Ω" if limit is not None
                   else f"no max Zs held for the {f.label}")
         detail = (f"{how}; {device}, so fault protection relies on the {f.rcd_ma:g} mA RCD: "
-                  f"Zs ≤ 50 V / IΔn = {rcd_limit:.0f} Ω (Table 41.5)")
+                  f"Zs ≤ {disconnection.TOUCH_VOLTAGE_V:g} V / IΔn = {rcd_limit:.0f} Ω (Table 41.5)")
         return CheckResult(ID, WARN if ok else FAIL, f.zs_ohm, rcd_limit, "ohm", "<=", detail)
     if limit is None:
         return not_assessed(ID, "ohm", "<=", f"{how}; {limit_how}", value=f.zs_ohm)
@@ -75,7 +75,7 @@ def _tt(f: Facts, how: str, limit, limit_how: str, t_txt: str) -> CheckResult:
             ra, ra_how = f.zs_ohm, f"RA ≤ Zs {f.zs_ohm:.2f} Ω (no electrode_ohm given: Zs used as an upper bound)"
         volts = disconnection.touch_voltage_v(ra, f.rcd_ma)
         ok = volts <= disconnection.TOUCH_VOLTAGE_V
-        detail = (f"TT: {ra_how} × IΔn {f.rcd_ma:g} mA = {volts:.2f} V {'≤' if ok else '>'} 50 V — 411.5.3")
+        detail = (f"TT: {ra_how} × IΔn {f.rcd_ma:g} mA = {volts:.2f} V {'≤' if ok else '>'} {disconnection.TOUCH_VOLTAGE_V:g} V — 411.5.3")
         status = verdict(ok)
         if ok and ra > rules.TT_STABLE_RA_OHM:
             status = WARN

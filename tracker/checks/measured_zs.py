@@ -100,7 +100,7 @@ def _over(f: Facts, rd: Readings, zs: float, limit: float, detail: str, w: dict)
         rcd_limit = disconnection.max_zs_rcd_ohm(f.rcd_ma)
         if zs <= rcd_limit:
             return CheckResult(ID, WARN, zs, rcd_limit, "ohm", "<=",
-                               f"{detail}; fault protection relies on the {f.rcd_ma:g} mA RCD: Zs ≤ 50 V / IΔn "
+                               f"{detail}; fault protection relies on the {f.rcd_ma:g} mA RCD: Zs ≤ {disconnection.TOUCH_VOLTAGE_V:g} V / IΔn "
                                f"= {rcd_limit:.0f} Ω (Table 41.5)"), w
     return CheckResult(ID, FAIL, zs, limit, "ohm", "<=", detail), w
 
@@ -112,7 +112,7 @@ def _by_rcd(f: Facts, rd: Readings, zs: float, w: dict, tt: bool, device_note: s
     rcd_limit = disconnection.max_zs_rcd_ohm(f.rcd_ma)
     ok = zs <= rcd_limit
     what = ("TT: Zs, an upper bound of RA, × IΔn" if tt else f"{device_note}; fault protection by the RCD")
-    detail = (f"Zs {fmt(zs, 3)} Ω {_when(rd)} {'≤' if ok else '>'} 50 V / {f.rcd_ma:g} mA = {rcd_limit:.0f} Ω "
+    detail = (f"Zs {fmt(zs, 3)} Ω {_when(rd)} {'≤' if ok else '>'} {disconnection.TOUCH_VOLTAGE_V:g} V / {f.rcd_ma:g} mA = {rcd_limit:.0f} Ω "
               f"({what}; Table 41.5, 411.5.3)")
     status = (PASS if tt else WARN) if ok else FAIL
     return CheckResult(ID, status, zs, rcd_limit, "ohm", "<=", detail), w

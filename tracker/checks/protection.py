@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from functools import lru_cache
+from functools import cache, lru_cache
 from typing import NamedTuple
 
 from tracker import catalogue
@@ -79,7 +79,7 @@ def max_zs_ohm(f: Facts, t_s: float | None = None) -> tuple[float | None, str, s
         ia = multiple * dev.rating_a
         value = disconnection.max_zs_from_ia_ohm(u0, ia)
         within = f"within {t_s:g} s" if t_s >= 5.0 else "instantaneous"
-        return value, (f"max Zs = Cmin·U0/Ia = 0.95 × {u0:g} / {ia:g} = {value:.2f} Ω "
+        return value, (f"max Zs = Cmin·U0/Ia = {disconnection.CMIN:g} × {u0:g} / {ia:g} = {value:.2f} Ω "
                        f"(Ia = {multiple:g} In, type {dev.curve} {within}; BS 7671 Table 41.3){_note(status)}"), status
     row = _fuse_row(f, t_s)
     if row is None:
@@ -167,11 +167,20 @@ def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
     if f.rcd_ma is None:
         return None, "", False
     idn = f.rcd_ma / 1000.0
-    if current_a >= 5 * idn:
-        return 0.04, f"t ≤ 0.04 s ({f.rcd_ma:g} mA RCD at ≥ 5 IΔn; BS EN 61008/61009) [recalled]", True
-    if current_a >= idn:
-        return 0.3, f"t ≤ 0.3 s ({f.rcd_ma:g} mA RCD at ≥ IΔn; BS EN 61008/61009) [recalled]", True
+    for multiple, t, status in _rcd_break_times():
+        if current_a >= multiple * idn:
+            at = "IΔn" if multiple == 1 else f"{multiple:g} IΔn"
+            note = "" if status == "seen" else f" [{status}]"
+            return t, f"t ≤ {t:g} s ({f.rcd_ma:g} mA RCD at ≥ {at}; BS EN 61008/61009){note}", True
     return None, "", False
+
+
+@cache
+def _rcd_break_times() -> tuple[tuple[float, float, str], ...]:
+    """(multiple of IΔn, maximum break time s, status), largest multiple first: the `rcd` entry
+    of tracker/data/devices.yaml."""
+    rows = catalogue.device_info("rcd")["break_time_s"]
+    return tuple(sorted(((float(m), float(v[0]), v[1]) for m, v in rows.items()), reverse=True))
 
 
 class FaultEnergy(NamedTuple):

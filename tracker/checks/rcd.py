@@ -39,12 +39,12 @@ def _verdict(f: Facts) -> CheckResult:
         if covered:
             return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what} gives the additional protection "
                                                                   f"required: {why}")
-        return CheckResult(ID, FAIL, have, limit, "mA", "<=", f"{what}, but a 30 mA RCD is required: {why}")
+        return CheckResult(ID, FAIL, have, limit, "mA", "<=", f"{what}, but a {limit:g} mA RCD is required: {why}")
     if advised and not covered:
-        return CheckResult(ID, WARN, have, limit, "mA", "<=", f"{what}; a 30 mA RCD is advised: "
+        return CheckResult(ID, WARN, have, limit, "mA", "<=", f"{what}; a {limit:g} mA RCD is advised: "
                                                               + "; ".join(advised))
     if f.distribution:
         return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what}; a distribution circuit needs no "
                                                               "additional protection (411.3.3 is for final circuits)")
-    return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what}; no requirement for 30 mA additional "
+    return CheckResult(ID, PASS, have, limit, "mA", "<=", f"{what}; no requirement for {limit:g} mA additional "
                                                           "protection applies to this circuit's loads")

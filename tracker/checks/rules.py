@@ -42,14 +42,20 @@ def has_kind(circuit: Circuit, kind: str) -> bool:
     return False
 
 
+def ring_ratings_text(joiner: str = "/") -> str:
+    """The device ratings of a qualifying ring, as words: '30/32' (or '30 or 32')."""
+    return joiner.join(f"{r:g}" for r in RING_DEVICE_RATINGS_A)
+
+
 def qualifies_as_ring(circuit: Circuit) -> tuple[bool, str]:
     """433.1.204 conditions for a ring final circuit; (qualifies, why not)."""
     if not circuit.is_ring:
         return False, "not a ring"
     if circuit.device.rating_a not in RING_DEVICE_RATINGS_A:
-        return False, f"device rated {circuit.device.rating_a:g} A (433.1.204 needs 30 or 32 A)"
+        return False, f"device rated {circuit.device.rating_a:g} A (433.1.204 needs {ring_ratings_text(' or ')} A)"
     if circuit.cable.csa_mm2 < RING_MIN_CSA_MM2:
-        return False, f"{circuit.cable.csa_mm2:g} mm² conductors (433.1.204 needs at least 2.5 mm²)"
+        return False, (f"{circuit.cable.csa_mm2:g} mm² conductors (433.1.204 needs at least "
+                       f"{RING_MIN_CSA_MM2:g} mm²)")
     return True, ""
 
 
@@ -74,12 +80,12 @@ def rcd_requirements(circuit: Circuit, domestic: bool = True) -> tuple[list[str]
     kinds = {ld.kind for ld in circuit.loads}
     places = {ld.location for ld in circuit.loads}
     if "socket-outlets" in kinds and rating <= SOCKET_RCD_MAX_RATING_A:
-        required.append("411.3.3(a) socket-outlets rated up to 32 A")
+        required.append(f"411.3.3(a) socket-outlets rated up to {SOCKET_RCD_MAX_RATING_A:g} A")
     if "bathroom" in places or "shower" in kinds:
         required.append("701.411.3.3 circuits of a location containing a bath or shower")
     if rating <= OUTDOOR_RCD_MAX_RATING_A and any(ld.location == "outdoor" and (ld.mobile or ld.kind == "socket-outlets")
                                                   for ld in circuit.loads):
-        required.append("411.3.3(b) mobile equipment for use outdoors up to 32 A")
+        required.append(f"411.3.3(b) mobile equipment for use outdoors up to {OUTDOOR_RCD_MAX_RATING_A:g} A")
     concealed = concealed_cable_rule(circuit)
     if concealed is not None:
         (required if circuit.concealed_in_wall else advised).append(concealed)

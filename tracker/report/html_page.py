@@ -6,6 +6,8 @@ from __future__ import annotations
 from tracker.checks import registry
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.checks.readings import unmeasured
+from tracker.checks.rules import RING_MIN_IZ_A
+from tracker.engine.disconnection import TOUCH_VOLTAGE_V
 from tracker.report import diagram, inspections_html
 from tracker.report.markup import Safe, cat, el
 from tracker.report.style import stylesheet
@@ -252,11 +254,11 @@ def _circuits(doc: dict) -> Safe:
     return cat(el("h2", "3. Circuits", id="circuits"),
                el("table", cols, head, el("tbody", body), class_="data circuits"),
                el("p", "Ib: design current. In: rated current of the protective device. Iz: current-carrying "
-                       "capacity of the cable as installed, with what it must carry under it (In; 20 A for a "
+                       f"capacity of the cable as installed, with what it must carry under it (In; {RING_MIN_IZ_A:g} A for a "
                        "qualifying ring; Ib where the cable is sized on the design current; In/0.725 behind a "
                        "rewirable fuse). VD: voltage drop from the "
                        "origin to the far end, in % of U0, with its limit. Zs: earth fault loop impedance at the far "
-                       "end, with the device's maximum (or, where an RCD gives fault protection, RA·IΔn ≤ 50 V). "
+                       f"end, with the device's maximum (or, where an RCD gives fault protection, RA·IΔn ≤ {TOUCH_VOLTAGE_V:g} V). "
                        "Headroom: the extra load the circuit could take before a check of it, or of a board or "
                        "sub-main above it, fails (negative: how far over). A mark beside a figure gives that "
                        "check's state when it does not pass; every check's working is in the appendix.",
