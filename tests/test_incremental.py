@@ -152,3 +152,54 @@ def test_a_load_change_rechecks_only_what_it_can_affect(tmp_path):
     assert out.rechecked == 1 + 5 + 2
     assert {e["ref"] for e in out.events} <= set(state.sites["orchard-end"].result.circuits) | {
         "orchard-end/CU1", "orchard-end/WS1", "orchard-end/GB1", "orchard-end"}
+
+
+# -- three-phase: a line moved, a load changed below a three-phase sub-main ---------------------
+
+SHOP = {
+    "boards": [{"id": "DB2", "name": "Shop board", "fed_by": "LB/9", "phases": 3, "main_switch_a": 63}],
+    "circuits": [
+        {"id": "9", "board": "LB", "name": "Sub-main to the shop", "phases": 3, "feeds": "DB2",
+         "device": {"kind": "mcb", "curve": "C", "rating_a": 63, "breaking_ka": 10},
+         "cable": {"kind": "swa-90", "csa_mm2": 16, "cpc_mm2": 16, "length_m": 30, "method": "C"}},
+    ] + [
+        {"id": str(k), "board": "DB2", "name": f"Heater {k}", "phase": ph,
+         "device": {"kind": "mcb", "curve": "B", "rating_a": 20, "breaking_ka": 10},
+         "cable": {"kind": "swa-90", "csa_mm2": 2.5, "cpc_mm2": 2.5, "length_m": 10 + 5 * k, "method": "C"},
+         "loads": [{"id": "h", "kind": "fixed", "power_kw": 1.0 + k}]}
+        for k, ph in ((1, "L1"), (2, "L2"), (3, "L3"), (4, "L1"))
+    ],
+}
+THREE_PHASE_FILES = ("site.yaml", "flats.yaml", "shop.yaml")
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.lists(st.tuples(st.sampled_from(["line", "load", "length", "lift"]), st.integers(0, 50),
+                          st.integers(0, 1000)), min_size=1, max_size=10))
+def test_incremental_equals_full_on_three_phase(tmp_path_factory, edits):
+    root = tmp_path_factory.mktemp("inc3") / "estate"
+    shutil.copytree(DEMO / "heron-row", root / "heron-row")
+    (root / "heron-row" / "shop.yaml").write_text(yaml.safe_dump(SHOP, sort_keys=False))
+    docs = {n: yaml.safe_load((root / "heron-row" / n).read_text()) for n in THREE_PHASE_FILES}
+    state = EstateState(root)
+    state.seed({f"heron-row/{n}": (root / "heron-row" / n).read_bytes() for n in THREE_PHASE_FILES})
+    for kind, i, j in edits:
+        if kind == "line":       # a single-phase circuit or a flat's feed moved to another line
+            name = ("site.yaml", "shop.yaml")[i % 2]
+            movable = [c for c in docs[name]["circuits"] if "phase" in c]
+            movable[i % len(movable)]["phase"] = ("L1", "L2", "L3")[j % 3]
+        elif kind == "load":
+            name = ("flats.yaml", "shop.yaml")[i % 2]
+            loaded = [c for c in docs[name]["circuits"] if c.get("loads") and "power_kw" in c["loads"][0]]
+            loaded[i % len(loaded)]["loads"][0]["power_kw"] = round(0.5 + j / 100, 2)
+        elif kind == "length":
+            name = THREE_PHASE_FILES[i % 3]
+            c = docs[name]["circuits"][j % len(docs[name]["circuits"])]
+            c["cable"]["length_m"] = 1 + j % 60
+        else:
+            docs["site.yaml"]["circuits"][0]["loads"][0]["power_kw"] = round(2 + j / 50, 2)
+        name = {"line": ("site.yaml", "shop.yaml")[i % 2], "load": ("flats.yaml", "shop.yaml")[i % 2],
+                "length": THREE_PHASE_FILES[i % 3], "lift": "site.yaml"}[kind]
+        state.apply_bytes(f"heron-row/{name}", yaml.safe_dump(docs[name], sort_keys=False).encode())
+        ss = state.sites["heron-row"]
+        assert snapshot(ss.result) == snapshot(evaluate_site(ss.site, explain=False)), (kind, i, j)
