@@ -1,10 +1,14 @@
 """Watching an estate: every saved change is re-checked and recorded.
 
 Editors save in many ways (write in place, temp file + rename, delete and re-create, several
-writes in a row), so events are only a hint: each touched path waits until it has been quiet for
-the debounce interval, then its content is re-read and hashed, and only a real change of content
-goes on. A created or moved directory is scanned (a new site folder); a removed one re-checks
-every file known under it.
+writes in a row), so events are only a hint, and a file's content is re-read and hashed: only a
+real change of content goes on. A file closed after writing, or moved into place, is looked at at
+once (the save is complete: the writer has let go of it). Any other touch (a write not yet closed,
+a deletion, a file moved away) waits until the path has been quiet for the settle interval, as a
+writer that keeps the file open gives no close. Content that does not load is read once more after
+the settle interval before it is recorded as an input error, so a file caught half-written (a
+second writer, or a write still going on at a close) is not called one. A created or moved
+directory is scanned (a new site folder); a removed one re-checks every file known under it.
 
 Only the events that can mean a change are asked of the kernel: not opens and closes without a
 write, or the watcher's own reading of every file at start would flood the kernel's queue.
@@ -64,8 +68,11 @@ class _Handler(FileSystemEventHandler):
             dest = getattr(event, "dest_path", "")
             if dest:
                 paths.append(dest)
-            for p in paths:
-                self.watcher.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory)
+            # a file closed after writing, or moved into place, is complete: look at it now
+            now = event.event_type == "closed"
+            for i, p in enumerate(paths):
+                self.watcher.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory,
+                                   now or (i == 1 and event.event_type == "moved"))
         except Exception:   # noqa: BLE001 - never let the observer thread die: rescan instead
             self.watcher.request_rescan()
 
@@ -93,7 +100,7 @@ class Watcher:
         self.authors = authors or Authors(self.root)
         self.debounce_s = debounce_s
         self.state: EstateState | None = None
-        self._pending: dict[str, float] = {}
+        self._pending: dict[str, float] = {}  # path -> when it is due (monotonic seconds)
         self._dirs: set[str] = set()          # folders created, moved or removed: expanded by the main thread
         self._rescan = False
         self._scanner: threading.Thread | None = None
@@ -141,7 +148,7 @@ class Watcher:
             changed = [rel for rel in set(now) | set(previous) if now.get(rel) != previous.get(rel)]
             previous = now
             if changed:
-                t = time.monotonic()
+                t = time.monotonic() + self.debounce_s
                 with self._cond:
                     for rel in changed:
                         self._pending.setdefault(rel, t)
@@ -171,17 +178,19 @@ class Watcher:
             return None
         return rel
 
-    def touch(self, path: Path, is_directory: bool) -> None:
-        """Called from the observer thread: note the path, nothing more."""
+    def touch(self, path: Path, is_directory: bool, complete: bool = False) -> None:
+        """Called from the observer thread: note the path, nothing more. `complete`: the file was
+        closed after writing or moved into place, so it is due at once; otherwise it is due when
+        it has been quiet for the settle interval."""
         rel = self._rel(path)
         if rel is None or not (is_directory or rel.endswith(".yaml")):
             return
-        now = time.monotonic()
+        due = time.monotonic() + (0.0 if complete else self.debounce_s)
         with self._cond:
             if is_directory:
                 self._dirs.add(rel)
             else:
-                self._pending[rel] = now
+                self._pending[rel] = due
             self._cond.notify_all()
 
     def request_rescan(self) -> None:
@@ -206,19 +215,19 @@ class Watcher:
         if self._rescan:
             self._rescan = False
             for rel in set(self.state.disk_files()) | set(self.state.hashes):
-                self._pending.setdefault(rel, now - self.debounce_s)
+                self._pending.setdefault(rel, now)
         for rel in self._dirs:
             d = self.root / rel
             found = [p.relative_to(self.root).as_posix() for p in d.glob("*.yaml")] if d.is_dir() else []
             for r in found + [r for r in self.state.hashes if r.startswith(rel + "/")]:
-                self._pending[r] = now
+                self._pending[r] = now + self.debounce_s
         self._dirs.clear()
 
     def _due(self) -> tuple[list[str], float | None]:
         now = time.monotonic()
         due, wait = [], None
         for rel, t in self._pending.items():
-            left = t + self.debounce_s - now
+            left = t - now
             if left <= 0:
                 due.append(rel)
             else:
@@ -247,12 +256,16 @@ class Watcher:
     def process(self, rels: list[str]) -> list[Update]:
         updates = []
         for rel in rels:
-            outcome = self.state.apply_disk(rel)
+            outcome = self.state.apply_disk(rel, self._settle)
             if outcome is None:
                 continue
             rec = self.history.record(to_revision(outcome, "watch", self.authors(rel)))
             updates.append(Update(outcome, rec, rec.source if rec.duplicate else "watch"))
         return updates
+
+    def _settle(self) -> None:
+        """Wait the settle interval before a file that did not load is read once more."""
+        self._stop.wait(self.debounce_s)
 
     def run(self, on_update, stop: threading.Event | None = None) -> None:
         """Process changes until stopped, handing each Update to `on_update`."""

@@ -9,6 +9,7 @@ old ones to find the events.
 from __future__ import annotations
 
 import datetime
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
 
@@ -230,33 +231,56 @@ class EstateState:
 
     # -- applying changes -----------------------------------------------------------------
 
-    def apply_disk(self, rel: str) -> FileOutcome | None:
+    def apply_disk(self, rel: str, settle: Callable[[], None] | None = None) -> FileOutcome | None:
         """Re-read one file from disk (or notice it is gone) and apply the change. A link that
-        leads out of the estate is not followed: the file counts as absent."""
+        leads out of the estate is not followed: the file counts as absent.
+
+        `settle` (the watcher's): content that does not load may be a file caught half-written,
+        so `settle` is waited and the file read once more before its problems are recorded; only
+        content read the same twice is called an input error."""
         path = self.root / rel
         try:
-            followed = not path.is_symlink() or inside(self.root, path)
-            raw = path.read_bytes() if followed and path.is_file() else None
+            raw = self._read_disk(rel, path)
         except OSError as exc:
             if rel not in self.hashes:
                 return None
             err = InputError(rel, 1, 1, f"cannot be read ({exc.strerror})")
             return self._input_error(rel, self.folder_of(rel), None, None, [err])
-        return self.apply_bytes(rel, raw)
+        again = None
+        if settle is not None:
+            def again():
+                settle()
+                try:
+                    return self._read_disk(rel, path)
+                except OSError:
+                    return raw
+        return self.apply_bytes(rel, raw, again)
 
-    def apply_bytes(self, rel: str, raw: bytes | None) -> FileOutcome | None:
-        """Apply new content of one file (None: deleted). None when nothing changed."""
+    def _read_disk(self, rel: str, path: Path) -> bytes | None:
+        followed = not path.is_symlink() or inside(self.root, path)
+        return path.read_bytes() if followed and path.is_file() else None
+
+    def apply_bytes(self, rel: str, raw: bytes | None,
+                    read_again: Callable[[], bytes | None] | None = None) -> FileOutcome | None:
+        """Apply new content of one file (None: deleted). None when nothing changed.
+
+        `read_again`: where the content does not load, the file's content read once more; if it
+        differs (the first read caught a save half-done), the new content is applied instead."""
         folder = self.folder_of(rel)
         if folder is None:
             return None
         digest = sha256_hex(raw) if raw is not None else None
         if self.hashes.get(rel) == digest:
             return None
+        result = read_content(raw, rel, digest) if raw is not None else None
+        if result is not None and result.errors and read_again is not None:
+            later = read_again()
+            if later != raw:
+                return self.apply_bytes(rel, later)
         if digest is None:
             self.hashes.pop(rel, None)
         else:
             self.hashes[rel] = digest
-        result = read_content(raw, rel, digest) if raw is not None else None
         good = dict(self.good.get(folder, {}))
         if result is not None and result.errors:   # every problem at once, as `check` reports them
             errors = _problems_by_file(self.folder_name(folder), folder, {**good, rel: result}, {rel: result.errors})
