@@ -28,18 +28,29 @@ class Change:
         return f"{self.ref} {self.change}"
 
 
+_COMPARED: dict[type, tuple[str, ...]] = {}
+
+
+def _compared(cls: type) -> tuple[str, ...]:
+    """The names of a model class's compared fields, in declaration order (read once a class)."""
+    names = _COMPARED.get(cls)
+    if names is None:
+        names = _COMPARED[cls] = tuple(f.name for f in fields(cls) if f.compare)
+    return names
+
+
 def _flat(obj, prefix: str = "", skip=("loads",)) -> dict:
     out = {}
-    for f in fields(obj):
-        if not f.compare or f.name in skip:
+    for name in _compared(type(obj)):
+        if name in skip:
             continue
-        value = getattr(obj, f.name)
+        value = getattr(obj, name)
         if is_dataclass(value):
-            out.update(_flat(value, f"{prefix}{f.name}.", skip))
+            out.update(_flat(value, f"{prefix}{name}.", skip))
         elif isinstance(value, datetime.date):
-            out[prefix + f.name] = value.isoformat()   # (the history keeps values as JSON)
+            out[prefix + name] = value.isoformat()   # (the history keeps values as JSON)
         else:
-            out[prefix + f.name] = value
+            out[prefix + name] = value
     return out
 
 
@@ -62,11 +73,12 @@ def _inspection_elements(site: Site, file: str) -> dict[str, dict]:
     return out
 
 
-def elements(site: Site | None, file: str) -> dict[str, dict]:
-    """ref -> flattened fields of every element read from `file`."""
+def _items(site: Site | None, file: str) -> dict[str, object]:
+    """ref -> every element read from `file`: a board, circuit or load as its model object (its
+    fields flattened only where it differs), the site's own fields and inspections already flat."""
     if site is None:
         return {}
-    out: dict[str, dict] = {}
+    out: dict[str, object] = {}
     if site.files and site.files[0] == file:
         meta = {"site.name": site.name, "site.rules": site.rules, "site.premises": site.premises,
                 "site.jurisdiction": site.jurisdiction, "site.tenure": site.tenure}
@@ -74,27 +86,39 @@ def elements(site: Site | None, file: str) -> dict[str, dict]:
         out[site.id] = meta
     for b in site.boards:
         if b.src.file == file:
-            out[board_ref(site.id, b.id)] = _flat(b)
+            out[board_ref(site.id, b.id)] = b
     for c in site.circuits:
         if c.src.file == file:
-            out[circuit_ref(site.id, c)] = _flat(c)
+            out[circuit_ref(site.id, c)] = c
             for ld in c.loads:
-                out[load_ref(site.id, c, ld)] = _flat(ld)
+                out[load_ref(site.id, c, ld)] = ld
     out.update(_inspection_elements(site, file))
     return out
 
 
+def elements(site: Site | None, file: str) -> dict[str, dict]:
+    """ref -> flattened fields of every element read from `file`."""
+    return {ref: x if isinstance(x, dict) else _flat(x) for ref, x in _items(site, file).items()}
+
+
 def diff_file(old: Site | None, new: Site | None, file: str) -> list[Change]:
-    before, after = elements(old, file), elements(new, file)
+    """The changes from `old` to `new` of the elements read from `file`. The model's objects are
+    frozen and compare by their fields (a position in the file is not compared), so an element
+    equal to its former self is passed over without flattening its fields."""
+    before, after = _items(old, file), _items(new, file)
     changes: list[Change] = []
     for ref in before:
         if ref not in after:
             changes.append(Change(ref, REMOVED))
-    for ref, values in after.items():
+    for ref, now in after.items():
         if ref not in before:
             changes.append(Change(ref, ADDED))
             continue
-        prior = before[ref]
+        was = before[ref]
+        if was is now or was == now:
+            continue
+        prior = was if isinstance(was, dict) else _flat(was)
+        values = now if isinstance(now, dict) else _flat(now)
         for name, value in values.items():
             if prior.get(name) != value:
                 changes.append(Change(ref, MODIFIED, name, prior.get(name), value))
