@@ -48,6 +48,9 @@ def test_json_shape_of_the_spec(capsys):
         assert listed[:8] == ids     # SPEC §3, in its order
         # SPEC §7: the checks on readings on every circuit (not-assessed where nothing was measured)
         assert {"measured-zs", "insulation-resistance", "rcd-operation", "continuity"} <= set(listed[8:])
+        # and those of particular circuits (SPEC §7): EV charge points, circuits with sources
+        assert set(listed[8:]) - {"measured-zs", "insulation-resistance", "rcd-operation", "continuity"} <= \
+            {"ev-charging", "generation"}
         for x in c["checks"]:
             assert set(x) == {"id", "status", "value", "limit", "unit", "compare", "detail"}
             assert x["compare"] in ("<=", ">=") and x["unit"] in ("A", "V", "%", "ohm", "mm2", "kA", "kW", "mA",

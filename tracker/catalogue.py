@@ -234,3 +234,21 @@ def suggested_codes() -> dict:
     """Suggested classification codes for failing measured checks (tracker/data/suggested_codes.yaml:
     common practice, a suggestion for the inspector to confirm)."""
     return _load("suggested_codes.yaml")
+
+
+@lru_cache(maxsize=None)
+def ev_charging() -> dict:
+    """BS 7671 Section 722 rules and the earthing measures of 722.411.4.1."""
+    return _load("ev_charging.yaml")
+
+
+@lru_cache(maxsize=None)
+def generation() -> dict:
+    """Generating sets and PV (551.7, Section 712, 530.3.201)."""
+    return _load("generation.yaml")
+
+
+@lru_cache(maxsize=None)
+def connection() -> dict:
+    """The network operators' thresholds for notifying after or applying before connecting."""
+    return _load("connection.yaml")

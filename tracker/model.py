@@ -53,6 +53,7 @@ class Supply:
     phases: int = 1
     u_line_v: float | None = None   # None: √3 · U0 on a three-phase supply
     pfc_line_neutral_ka: float | None = None   # three-phase: the line-neutral prospective fault current
+    looped: bool = False               # the service is looped with another property's
     src: Src | None = field(default=None, compare=False)
 
     @property
@@ -67,6 +68,21 @@ class Supply:
 
 @rebuilt_by_constructor
 @dataclass(frozen=True, slots=True)
+class RcdData:
+    """What is known of an RCD beyond its IΔn (None: not recorded)."""
+
+    type: str | None = None            # AC | A | F | B (residual currents it responds to)
+    delay: str = "general"             # general | S (time-delayed)
+    dc_fault_detection: bool | None = None   # a 6 mA smooth-DC detecting device (RDC-DD) with it
+    all_poles: bool | None = None      # it breaks every live conductor (line and neutral)
+    bidirectional: bool | None = None  # not marked line/load (in/out): may be fed from either side
+
+
+NO_RCD_DATA = RcdData()
+
+
+@rebuilt_by_constructor
+@dataclass(frozen=True, slots=True)
 class Board:
     id: str
     fed_by: str
@@ -76,6 +92,7 @@ class Board:
     rcd_ma: float | None = None
     phases: int = 1
     phase: str | None = None   # a single-phase board fed straight from a three-phase supply: its line
+    rcd: RcdData = NO_RCD_DATA
     src: Src | None = field(default=None, compare=False)
 
     @property
@@ -97,6 +114,7 @@ class Device:
     max_zs_ohm: float | None = None
     let_through_a2s: float | None = None
     energy_class: int | None = None     # BS EN 60898-1 / 61009-1 energy-limiting class (1, 2, 3)
+    bidirectional: bool | None = None   # not marked line/load: may be fed from either side (530.3.201)
 
 
 @rebuilt_by_constructor
@@ -133,6 +151,26 @@ class Load:
     location: str | None = None
     mobile: bool = False                # equipment moved about in use (411.3.3(b) when outdoors)
     phase_currents_a: tuple[float, float, float] | None = None   # L1, L2, L3 of an unbalanced three-phase load
+    rated_current_a: float | None = None     # the maker's rated (maximum running) current
+    starting_current_a: float | None = None  # the maker's starting current
+    load_control_a: float | None = None      # a load control holds it to this current (722.311)
+    connected_on: str | None = None          # ISO date: when it was (or will be) connected
+    notified_on: str | None = None           # ISO date: when the network operator was told
+    src: Src | None = field(default=None, compare=False)
+
+
+@rebuilt_by_constructor
+@dataclass(frozen=True, slots=True)
+class Source:
+    """A generator or store feeding the installation through this circuit (an inverter)."""
+
+    id: str
+    kind: str                            # pv | battery
+    inverter_a: float                    # rated AC output current of the inverter
+    name: str = ""
+    isolation: bool | None = None        # a means of isolating it from the supply (551.7.6)
+    connected_on: str | None = None      # ISO date: commissioned
+    notified_on: str | None = None       # ISO date: network operator told
     src: Src | None = field(default=None, compare=False)
 
 
@@ -155,6 +193,10 @@ class Circuit:
     phase: str | None = None                 # L1 | L2 | L3: a single-phase circuit on a three-phase board
     triplen_harmonics_pct: float | None = None
     concealed_in_wall: bool | None = None   # concealed < 50 mm without earthed protection (522.6.202)
+    rcd: RcdData = NO_RCD_DATA
+    earthing_measure: str | None = None     # 722.411.4.1: how an outdoor charge point avoids the PME terminal
+    electrode_ohm: float | None = None      # the circuit's own earth electrode (earthing_measure tt-electrode)
+    sources: tuple[Source, ...] = ()
     src: Src | None = field(default=None, compare=False)
 
     @property
@@ -269,3 +311,7 @@ def load_ref(site_id: str, circuit: Circuit, load: Load) -> str:
 def inspection_ref(site_id: str, inspection: Inspection) -> str:
     """``SITE/inspection:2026-03-11`` (':' never appears in a board id, so it cannot be mistaken for one)."""
     return f"{site_id}/inspection:{inspection.key}"
+
+
+def source_ref(site_id: str, circuit: Circuit, source: Source) -> str:
+    return f"{site_id}/{circuit.board}/{circuit.id}/{source.id}"

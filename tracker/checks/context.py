@@ -3,12 +3,29 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import NamedTuple
 
 from tracker import catalogue
 from tracker.checks import rules
 from tracker.checks.design_current import circuit_ib, circuit_ib_three_phase
 from tracker.engine import disconnection, fault_level, impedance, three_phase
-from tracker.model import PHASES, Circuit, Site, Supply, rebuilt_by_constructor
+from tracker.model import PHASES, Circuit, RcdData, Site, Supply, rebuilt_by_constructor
+
+
+class RcdSeen(NamedTuple):
+    """An RCD a circuit's current passes through: its IΔn, what is recorded of it, and where it is."""
+
+    idn_ma: float
+    data: RcdData
+    at: str            # "this circuit", "board CU1", ...
+
+    @property
+    def delayed(self) -> bool:
+        return self.data.delay == "S"
+
+
+def _rcd_at(obj, where: str) -> tuple[RcdSeen, ...]:
+    return (RcdSeen(obj.rcd_ma, obj.rcd, where),) if obj.rcd_ma is not None else ()
 
 
 @rebuilt_by_constructor
@@ -136,6 +153,7 @@ class BoardContext:
         if self.vd_phase_v is None or line is None:
             return self.vd_v
         return self.vd_phase_v[PHASES.index(line)]
+    rcds: tuple = ()            # RcdSeen of every RCD upstream of the board's circuits, nearest first
 
 
 def origin_context(site: Site, board_id: str, supply: SupplyContext) -> BoardContext:
@@ -148,6 +166,7 @@ def origin_context(site: Site, board_id: str, supply: SupplyContext) -> BoardCon
         unknown_z="" if supply.ze_ohm is not None else "Ze is not given (supply.ze_ohm)",
         phases=3 if three else 1, vd_phase_v=(0.0, 0.0, 0.0) if three else None, line=board.phase,
         pfc3_ka=supply.pfc3_ka if three else None, pfc_ln_bound=supply.pfc_ln_bound,
+        rcds=_rcd_at(board, f"board {board.id}"),
     )
 
 
@@ -210,6 +229,9 @@ class Facts:
     @property
     def phases(self) -> int:
         return 3 if self.circuit.three_phase else 1
+    rcds: tuple = ()             # RcdSeen: the circuit's own RCD (if any), then those upstream
+    system: str = ""             # earthing system of the circuit (TT where it has its own electrode)
+    electrode_ohm: float | None = None   # RA of the electrode its fault protection rests on (TT)
 
 
 # Where the cpc runs (BS 7671 Tables 54.2–54.4): a core of the cable; an insulated conductor bunched
@@ -290,7 +312,9 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
     else:
         zln = ctx.z_ln_ohm + impedance.loop_resistance_ohm(r_line, r_line, cable.length_m, multiplier,
                                                            circuit.is_ring)
-    t_req = disconnection.required_disconnection_s(sup.system, circuit.is_submain, in_a, sockets)
+    own_electrode = circuit.earthing_measure == "tt-electrode" and circuit.electrode_ohm is not None
+    system = "TT" if own_electrode else sup.system
+    t_req = disconnection.required_disconnection_s(system, circuit.is_submain, in_a, sockets)
     return Facts(
         circuit=circuit, ctx=ctx, kind=kind, device_info=info, label=device_label(circuit.device),
         in_a=in_a, ib_a=ib, ib_how=how, ib_vd_a=ib if ib is not None else in_a,
@@ -299,6 +323,8 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         r_line_mohm_per_m=r_line, r_cpc_mohm_per_m=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
         zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain, readings=readings,
         ib_phases_a=ib_phases,
+        rcds=_rcd_at(circuit, "this circuit") + ctx.rcds, system=system,
+        electrode_ohm=circuit.electrode_ohm if own_electrode else sup.electrode_ohm,
     )
 
 
@@ -335,4 +361,6 @@ def child_context(f: Facts, fed_board, vd_end_v: float | None, mv_v_per_a: float
                                                   f"unknown ({f.zs_why})",
         phases=3 if three else 1, vd_phase_v=vd_phase_end_v if three else None, line=line,
         pfc3_ka=pfc3 if three else None, pfc_ln_bound=ctx.pfc_ln_bound,
+        rcds=(_rcd_at(fed_board, f"board {fed_board.id}")
+              + _rcd_at(f.circuit, f"sub-main {f.circuit.board}/{f.circuit.id}") + ctx.rcds),
     )

@@ -12,6 +12,7 @@ from tracker.engine import diversity as dv
 from tracker.engine import three_phase
 from tracker.engine.current import design_current_a
 from tracker.model import PHASES, Board, Circuit
+from tracker.checks.design_current import load_current_a
 
 ID = "demand"
 CHECK = CheckSpec(id=ID, rank=10, scope=BOARD, name="maximum demand", unit="A", compare="<=", gauge="demand/limit")
@@ -44,11 +45,19 @@ def contributions(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> 
     if circuit.design_current_a is not None:
         category = table[circuit.loads[0].kind] if circuit.loads else "heating-power"
         return [(category, circuit.design_current_a)]
+    if not circuit.loads and circuit.sources:
+        # PV adds no demand; a battery may charge from the supply at its inverter's rating
+        # (on an off-peak tariff, at the same time as everything else): counted in full.
+        return [("storage-charging", s.inverter_a) for s in circuit.sources if s.kind == "battery"]
     if not circuit.loads:
         return None
     out = []
     for ld in circuit.loads:
-        amps = ld.current_a if ld.current_a is not None else design_current_a(ld.power_kw, u0_v, ld.power_factor)
+        amps, _ = load_current_a(ld, u0_v)
+        if ld.load_control_a is not None:
+            # 722.311: diversity for charge points only where a load control is fitted; it holds
+            # the charge point to this current.
+            amps = min(amps, ld.load_control_a)
         out.append((table[ld.kind], amps))
     return out
 

@@ -6,7 +6,7 @@ from typing import TYPE_CHECKING
 from tracker import catalogue
 from tracker.checks import rules
 from tracker.checks.registry import RATING_UP, CheckSpec, Outcome, always_on_load
-from tracker.checks.result import CheckResult, not_assessed, verdict
+from tracker.checks.result import WARN, CheckResult, not_assessed, verdict
 from tracker.checks.working import figure, record
 from tracker.engine import three_phase
 from tracker.engine.current import design_current_a
@@ -44,20 +44,20 @@ def circuit_ib(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> tup
     if rules.has_kind(circuit, "socket-outlets"):
         return circuit.device.rating_a, (f"Ib taken as In = {circuit.device.rating_a:g} A "
                                          "(socket-outlet circuit, common practice)")
+    if not circuit.loads and circuit.sources:
+        # A circuit that only connects sources carries their inverters' rated output (551.7.2).
+        total = sum(s.inverter_a for s in circuit.sources)
+        parts = " + ".join(f"{s.id} {s.inverter_a:g} A" for s in circuit.sources)
+        return total, f"Ib = rated inverter output {parts}" + (f" = {total:.2f} A" if len(circuit.sources) > 1 else "")
     if not circuit.loads:
         return None, "no load listed"
     if all(ld.kind == "cooker" for ld in circuit.loads):
         return _cooker_ib(circuit, u0_v)
     parts, total = [], 0.0
     for ld in circuit.loads:
-        if ld.current_a is not None:
-            total += ld.current_a
-            parts.append(f"{ld.id} {ld.current_a:g} A")
-        else:
-            i = design_current_a(ld.power_kw, u0_v, ld.power_factor)
-            total += i
-            pf = f" × pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
-            parts.append(f"{ld.id} {ld.power_kw:g} kW / ({u0_v:g} V{pf}) = {i:.2f} A")
+        i, how = load_current_a(ld, u0_v)
+        total += i
+        parts.append(how)
     how = "Ib = " + " + ".join(parts) + (f" = {total:.2f} A" if len(parts) > 1 else "")
     return total, how
 
@@ -104,12 +104,23 @@ def circuit_ib_three_phase(circuit: Circuit, u0_v: float, u_line_v: float,
     return ib, how, tuple(totals)
 
 
+def load_current_a(ld, u0_v: float) -> tuple[float, str]:
+    """A load's full current and how it was found: the maker's rated current where given (an EV
+    charge point or heat pump at its rating, no diversity: 722.311), else current_a, else P/U0."""
+    if ld.rated_current_a is not None:
+        return ld.rated_current_a, f"{ld.id} {ld.rated_current_a:g} A (maker's rated current)"
+    if ld.current_a is not None:
+        return ld.current_a, f"{ld.id} {ld.current_a:g} A"
+    i = design_current_a(ld.power_kw, u0_v, ld.power_factor)
+    pf = f" × pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
+    return i, f"{ld.id} {ld.power_kw:g} kW / ({u0_v:g} V{pf}) = {i:.2f} A"
+
+
 def _cooker_ib(circuit: Circuit, u0_v: float) -> tuple[float, str]:
     """A household cooker circuit's Ib after diversity: 10 A + 30 % of the rest (common practice,
     the cooking-appliance allowance of tracker/data/diversity.yaml)."""
     rule = catalogue.diversity()["categories"]["cooker"]
-    connected = sum(ld.current_a if ld.current_a is not None else design_current_a(ld.power_kw, u0_v, ld.power_factor)
-                    for ld in circuit.loads)
+    connected = sum(load_current_a(ld, u0_v)[0] for ld in circuit.loads)
     ib = allowance_full_then_rest(connected, rule["full_a"], rule["rest_pct"])
     return ib, (f"Ib = cooker diversity {rule['full_a']:g} A + {rule['rest_pct']:g} % of "
                 f"({connected:.2f} − {rule['full_a']:g}) A = {ib:.2f} A (common practice)")
@@ -123,4 +134,24 @@ def run(f: Facts, done) -> Outcome:
     ok = f.ib_a <= f.in_a
     word = "≤" if ok else ">"
     detail = f"{f.ib_how}; Ib {f.ib_a:.2f} A {word} In {f.in_a:g} A ({f.label}) — 433.1.1(i)" if f.explain else ""
-    return Outcome(CheckResult(ID, verdict(ok), f.ib_a, f.in_a, "A", "<=", detail, ib_limit_a=f.in_a), rec)
+    status = verdict(ok)
+    start = _starting_trip(f)
+    if start:
+        detail = f"{detail}; {start}" if f.explain else ""
+        status = WARN if ok else status
+    return Outcome(CheckResult(ID, status, f.ib_a, f.in_a, "A", "<=", detail, ib_limit_a=f.in_a), rec)
+
+
+def _starting_trip(f: Facts) -> str:
+    """A maker's starting current reaching the MCB/RCBO's instantaneous band: it may trip on start."""
+    starts = [ld for ld in f.circuit.loads if ld.starting_current_a is not None]
+    lower = (f.device_info or {}).get("instantaneous_lower_multiple", {}).get(f.circuit.device.curve)
+    if not starts or lower is None:
+        return ""
+    band_a = lower[0] * f.in_a
+    total = sum(ld.starting_current_a for ld in starts)
+    if total < band_a:
+        return ""
+    return (f"starting current {total:g} A (maker's data) reaches the {f.label}'s instantaneous band from "
+            f"{lower[0]:g} In = {band_a:g} A (BS EN 60898-1): it may trip on starting; a soft-start unit or "
+            "the curve the maker asks for")

@@ -47,7 +47,7 @@ def run(f: Facts, done) -> Outcome:
 def _verdict(f: Facts, how: str, limit: float | None, limit_how: str) -> CheckResult:
     sup = f.ctx.supply
     t_txt = f"disconnection in {f.t_req_s:g} s ({'distribution circuit' if f.distribution else 'final circuit'})"
-    if sup.system == "TT":
+    if f.system == "TT":
         return _tt(f, how, limit, limit_how, t_txt)
     if limit is not None and f.zs_ohm <= limit:
         return CheckResult(ID, PASS, f.zs_ohm, limit, "ohm", "<=",
@@ -59,6 +59,9 @@ def _verdict(f: Facts, how: str, limit: float | None, limit_how: str) -> CheckRe
                   else f"no max Zs held for the {f.label}")
         detail = (f"{how}; {device}, so fault protection relies on the {f.rcd_ma:g} mA RCD: "
                   f"Zs ≤ {disconnection.TOUCH_VOLTAGE_V:g} V / IΔn = {rcd_limit:.0f} Ω (Table 41.5)")
+        late = _rcd_too_slow(f, f.zs_ohm)
+        if ok and late:
+            return CheckResult(ID, FAIL, f.zs_ohm, rcd_limit, "ohm", "<=", f"{detail}; {late}")
         return CheckResult(ID, WARN if ok else FAIL, f.zs_ohm, rcd_limit, "ohm", "<=", detail)
     if limit is None:
         return not_assessed(ID, "ohm", "<=", f"{how}; {limit_how}", value=f.zs_ohm)
@@ -69,15 +72,23 @@ def _verdict(f: Facts, how: str, limit: float | None, limit_how: str) -> CheckRe
 def _tt(f: Facts, how: str, limit, limit_how: str, t_txt: str) -> CheckResult:
     sup = f.ctx.supply
     if f.rcd_ma is not None:
-        if sup.electrode_ohm is not None:
-            ra, ra_how = sup.electrode_ohm, f"RA {sup.electrode_ohm:g} Ω (electrode_ohm)"
+        if f.electrode_ohm is not None:
+            own = " of the circuit's own electrode" if f.system != sup.system else ""
+            ra, ra_how = f.electrode_ohm, f"RA {f.electrode_ohm:g} Ω (electrode_ohm{own})"
+        elif f.system != sup.system:
+            return not_assessed(ID, "V", "<=", "earthed by its own electrode (tt-electrode) but its "
+                                               "resistance is not recorded (circuit electrode_ohm)")
         else:
             ra, ra_how = f.zs_ohm, f"RA ≤ Zs {f.zs_ohm:.2f} Ω (no electrode_ohm given: Zs used as an upper bound)"
         volts = disconnection.touch_voltage_v(ra, f.rcd_ma)
         ok = volts <= disconnection.TOUCH_VOLTAGE_V
         detail = (f"TT: {ra_how} × IΔn {f.rcd_ma:g} mA = {volts:.2f} V {'≤' if ok else '>'} {disconnection.TOUCH_VOLTAGE_V:g} V — 411.5.3")
         status = verdict(ok)
-        if ok and ra > rules.TT_STABLE_RA_OHM:
+        loop = ra + (f.loop_ohm or 0.0) if f.electrode_ohm is not None else ra   # else ra is Zs itself
+        late = _rcd_too_slow(f, loop) if ok else ""
+        if late:
+            status, detail = FAIL, f"{detail}; {late}"
+        elif ok and ra > rules.TT_STABLE_RA_OHM:
             status = WARN
             detail += f"; RA over {rules.TT_STABLE_RA_OHM:g} Ω may not be stable (Table 41.5 note 2)"
         return CheckResult(ID, status, volts, disconnection.TOUCH_VOLTAGE_V, "V", "<=", detail)
@@ -93,3 +104,17 @@ def _tt(f: Facts, how: str, limit, limit_how: str, t_txt: str) -> CheckResult:
                            f"the {f.label} cannot give {t_txt} — fit an RCD (411.5.3)")
     return not_assessed(ID, "ohm", "<=", f"TT system with no RCD: {how}; {limit_how}", value=f.zs_ohm)
 
+
+
+def _rcd_too_slow(f: Facts, loop_ohm: float) -> str:
+    """Why the RCD relied on cannot disconnect within the required time at the fault current
+    U0 / loop (a time-delayed RCD on a final circuit, or a current below 2 IΔn); '' where it can."""
+    from tracker.checks import protection
+
+    current = f.ctx.supply.u0_v / loop_ohm
+    t, how, _ = protection.rcd_time_s(f, current)
+    if t is None:
+        return f"the earth fault current {current:.3f} A is below the RCD's IΔn: it need not trip (411.3.2)"
+    if t > f.t_req_s:
+        return f"{how} > the {f.t_req_s:g} s required (Table 41.1)"
+    return ""

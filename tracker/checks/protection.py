@@ -162,25 +162,36 @@ def _time_bound(f: Facts, loop_ohm: float) -> tuple[float | None, str, Callable[
                               "device.let_through_a2s from the maker's data)")
 
 
+def rcd_break_time_s(idn_ma: float, delayed: bool, current_a: float) -> tuple[float | None, str, float | None]:
+    """(maximum break time, status, the multiple of IΔn it is tabulated at) of one RCD for a
+    residual current, from the product standard's points (tracker/data/devices.yaml `rcd`): the
+    time at the largest tabulated multiple the current reaches. None below IΔn (it need not trip)."""
+    data = catalogue.device_info("rcd")
+    table = data["delayed_break_time_s" if delayed else "break_time_s"]
+    multiple = current_a / (idn_ma / 1000.0)
+    reached = [m for m in table if multiple >= float(m)]
+    if not reached:
+        return None, "", None
+    key = max(reached, key=float)
+    t, status = table[key]
+    return float(t), str(status), float(key)
+
+
 def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
-    """(maximum break time, how, conclusive) of the RCD for an earth fault current (general type)."""
-    if f.rcd_ma is None:
+    """(maximum break time, how, conclusive) of the fastest RCD that sees an earth fault current
+    (a time-delayed, type S, RCD by its own longer times)."""
+    best = None
+    for rcd in f.rcds:
+        t, status, at = rcd_break_time_s(rcd.idn_ma, rcd.delayed, current_a)
+        if t is not None and (best is None or t < best[0]):
+            best = (t, status, at, rcd)
+    if best is None:
         return None, "", False
-    idn = f.rcd_ma / 1000.0
-    for multiple, t, status in _rcd_break_times():
-        if current_a >= multiple * idn:
-            at = "IΔn" if multiple == 1 else f"{multiple:g} IΔn"
-            note = "" if status == "seen" else f" [{status}]"
-            return t, f"t ≤ {t:g} s ({f.rcd_ma:g} mA RCD at ≥ {at}; BS EN 61008/61009){note}", True
-    return None, "", False
-
-
-@cache
-def _rcd_break_times() -> tuple[tuple[float, float, str], ...]:
-    """(multiple of IΔn, maximum break time s, status), largest multiple first: the `rcd` entry
-    of tracker/data/devices.yaml."""
-    rows = catalogue.device_info("rcd")["break_time_s"]
-    return tuple(sorted(((float(m), float(v[0]), v[1]) for m, v in rows.items()), reverse=True))
+    t, status, at, rcd = best
+    kind = "time-delayed (S) " if rcd.delayed else ""
+    mark = "" if status == "seen" else f" [{status}]"
+    return t, (f"t ≤ {t:g} s ({rcd.idn_ma:g} mA {kind}RCD, {rcd.at}, at ≥ {at:g} IΔn; "
+               f"BS EN 61008-1/61009-1){mark}"), True
 
 
 class FaultEnergy(NamedTuple):

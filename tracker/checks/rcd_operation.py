@@ -40,10 +40,10 @@ def run(f: Facts, done) -> Outcome:
 
 def _delay(f: Facts) -> tuple[str, str]:
     """The RCD's delay ('general' or 'S') and how it was found."""
-    given = getattr(f.circuit, "rcd_delay", None)
-    if given is None:
-        board = getattr(f.ctx, "rcd_delay", None)
-        given = board
+    # the nearest RCD (the circuit's own, else its board's or above): Facts.rcds, from rcd_delay
+    given = f.rcds[0].data.delay if f.rcds else None
+    if given == "general" and not any(r.data != type(r.data)() for r in f.rcds[:1]):
+        given = None     # nothing recorded of the RCD: general is the default, said so below
     if given in ("general", "S"):
         return given, f"type {given}" if given == "S" else "general (no delay)"
     return "general", "general (no delay) taken: give rcd_delay: S for a time-delayed RCD"

@@ -26,7 +26,25 @@ SIZE_STEPS = (0, 1, 2, 3, 4, 5)
 
 
 def _failing(result: CircuitResult) -> set[str]:
-    return _with(result, FAIL)
+    """Failing checks a change of the circuit's sizes can put right. A failing check no remedy
+    change helps (registry `helps` empty: a requirement such as ev-charging's RCD type or an
+    isolator) is left to its own failing lines, which say what to fit."""
+    return {r.id for r in result.checks if r.status == FAIL and _sized(r.id)}
+
+
+def _sized(check_id: str) -> bool:
+    spec = registry.spec(check_id)
+    return spec is None or bool(spec.helps)
+
+
+def _requirement_fixes(result: CircuitResult) -> list[str]:
+    """The failing lines of the failing checks no size change helps, as their details word them."""
+    out = []
+    for r in result.checks:
+        if r.status == FAIL and not _sized(r.id):
+            lines = [part[len("[fail] "):] for part in r.detail.split("; ") if part.startswith("[fail] ")]
+            out += lines or [f"{r.id}: {r.detail or 'see the check'}"]
+    return out
 
 
 def _with(result: CircuitResult, status: str) -> set[str]:
@@ -155,8 +173,9 @@ def _fixable_here(result: CircuitResult, failing: set[str]) -> bool:
 def find(result: CircuitResult) -> dict | None:
     """The remedy for a failing circuit: {'text', 'changes', 'load_limit_kw'}; None if it passes."""
     failing = _failing(result)
+    fixes = _requirement_fixes(result)
     if not failing:
-        return None
+        return {"changes": [], "load_limit_kw": None, "text": "; ".join(fixes)} if fixes else None
     c = result.circuit
     out: dict = {"changes": [], "load_limit_kw": None, "text": ""}
     unknown, cautions = _with(result, NOT_ASSESSED), _with(result, WARN)
@@ -210,5 +229,5 @@ def find(result: CircuitResult) -> dict | None:
             limit_kw = limit_a * kw / result.ib_a   # the same loads, scaled down to the limiting current
             out["load_limit_kw"] = round(limit_kw, 2)
             text.append(f"or keep the circuit as it is and limit its load to {limit_kw:.2f} kW")
-    out["text"] = "; ".join(text)
+    out["text"] = "; ".join(fixes + text)
     return out

@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 
 from tracker.checks import circuit as circuit_checks
 from tracker.checks import demand as demand_checks
+from tracker.checks import notification
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.readings import latest_readings
 from tracker.checks.context import BoardContext, child_context, build_facts, origin_context, supply_context
@@ -35,6 +36,7 @@ class SiteResult:
     boards: dict[str, BoardResult] = field(default_factory=dict)
     supply_check: CheckResult | None = None
     supply_phases_a: tuple | None = None   # a three-phase origin: demand per line L1, L2, L3
+    notification: object = None      # tracker.checks.notification.Outcome: the network operator's route
 
     @property
     def status(self) -> str:
@@ -120,6 +122,9 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
     else:
         total = sum(demand_of(b).demand_a for b in origin_boards)
         out.supply_check = demand_checks.supply_check(site.id, total, site.supply.service_fuse_a, origin_boards)
+    # the network operator's criteria are per phase: the most loaded line on a three-phase origin
+    out.notification = notification.origin_state(
+        site, max(out.supply_phases_a) if out.supply_phases_a is not None else total)
     # Report circuits in the order of the site files.
     out.circuits = {f"{site.id}/{c.board}/{c.id}": out.circuits[f"{site.id}/{c.board}/{c.id}"] for c in site.circuits}
     _margins(out, on_board, origin_boards)

@@ -11,6 +11,8 @@ import math
 
 from tracker.model import (PHASES, Board, Cable, Circuit, Device, Environment, Inspection, Load, Measurement,
                            Observation, RingReading, Src, Supply)
+from tracker.model import (NO_RCD_DATA, PHASES, Board, Cable, Circuit, Device, Environment, Load, RcdData, Source,
+                           Src, Supply)
 from tracker.schemas_access import schema_json
 
 
@@ -62,6 +64,33 @@ def _text(value) -> str:
     return value if isinstance(value, str) else str(value)
 
 
+def _date_text(d: dict, key: str, path: tuple, p: Problems) -> str | None:
+    """A date key of a circuit's load or source as ISO text (YAML reads 2026-11-20 as a date;
+    quoted, it is text). Circuits are not walked by yamlread.dates_as_text (large board files)."""
+    value = d.get(key)
+    if value is None:
+        return None
+    if isinstance(value, datetime.datetime):
+        return value.date().isoformat()
+    if isinstance(value, datetime.date):
+        return value.isoformat()
+    if isinstance(value, str):
+        try:
+            return datetime.date.fromisoformat(value.strip()).isoformat()
+        except ValueError:
+            pass
+    p.error(path + (key,), f"{value!r} is not a date (write YYYY-MM-DD, e.g. 2026-11-20)")
+    return None
+
+
+def _rcd(d: dict) -> RcdData:
+    if not any(k in d for k in ("rcd_type", "rcd_delay", "dc_fault_detection", "rcd_all_poles", "rcd_bidirectional")):
+        return NO_RCD_DATA
+    return RcdData(type=d.get("rcd_type"), delay=d.get("rcd_delay", "general"),
+                   dc_fault_detection=d.get("dc_fault_detection"), all_poles=d.get("rcd_all_poles"),
+                   bidirectional=d.get("rcd_bidirectional"))
+
+
 def build_top(doc: dict, p: Problems) -> None:
     _check_keys(doc, _TOP, (), p)
 
@@ -80,6 +109,7 @@ def build_supply(d: dict, p: Problems) -> Supply:
         phases=int(d.get("phases", 1)),
         u_line_v=_num(d, "u_line_v", path, p),
         pfc_line_neutral_ka=_num(d, "pfc_line_neutral_ka", path, p),
+        looped=bool(d.get("looped", False)),
         src=Src(p.file, path),
     )
 
@@ -96,6 +126,7 @@ def build_board(d: dict, index: int, p: Problems) -> Board:
         rcd_ma=_num(d, "rcd_ma", path, p),
         phases=int(d.get("phases", 1)),
         phase=d.get("phase"),
+        rcd=_rcd(d),
         src=Src(p.file, path),
     )
 
@@ -116,6 +147,7 @@ def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
         max_zs_ohm=_num(dev, "max_zs_ohm", path + ("device",), p),
         let_through_a2s=_num(dev, "let_through_a2s", path + ("device",), p),
         energy_class=None if dev.get("energy_class") is None else int(dev["energy_class"]),
+        bidirectional=dev.get("bidirectional"),
     )
     cable = Cable(
         kind=cab["kind"],
@@ -134,6 +166,7 @@ def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
         insulation_mm=_num(env, "insulation_mm", path + ("environment",), p, 0.0),
     )
     loads = tuple(build_load(ld, index, j, p) for j, ld in enumerate(d.get("loads") or ()))
+    sources = tuple(build_source(sd, index, j, p) for j, sd in enumerate(d.get("sources") or ()))
     feeds = d.get("feeds")
     return Circuit(
         id=_text(d["id"]),
@@ -152,6 +185,10 @@ def build_circuit(d: dict, index: int, p: Problems) -> Circuit:
         phase=d.get("phase"),
         triplen_harmonics_pct=_num(d, "triplen_harmonics_pct", path, p),
         concealed_in_wall=None if d.get("concealed_in_wall") is None else bool(d["concealed_in_wall"]),
+        rcd=_rcd(d),
+        earthing_measure=d.get("earthing_measure"),
+        electrode_ohm=_num(d, "electrode_ohm", path, p),
+        sources=sources,
         src=Src(p.file, path),
     )
 
@@ -169,6 +206,26 @@ def build_load(d: dict, circuit_index: int, index: int, p: Problems) -> Load:
         location=d.get("location"),
         mobile=bool(d.get("mobile", False)),
         phase_currents_a=_phase_currents(d, path, p),
+        rated_current_a=_num(d, "rated_current_a", path, p),
+        starting_current_a=_num(d, "starting_current_a", path, p),
+        load_control_a=_num(d, "load_control_a", path, p),
+        connected_on=_date_text(d, "connected_on", path, p),
+        notified_on=_date_text(d, "notified_on", path, p),
+        src=Src(p.file, path),
+    )
+
+
+def build_source(d: dict, circuit_index: int, index: int, p: Problems) -> Source:
+    path = ("circuits", circuit_index, "sources", index)
+    _check_keys(d, _KNOWN["source"], path, p)
+    return Source(
+        id=_text(d["id"]),
+        kind=d["kind"],
+        inverter_a=_num(d, "inverter_a", path, p),
+        name=d.get("name", ""),
+        isolation=d.get("isolation"),
+        connected_on=_date_text(d, "connected_on", path, p),
+        notified_on=_date_text(d, "notified_on", path, p),
         src=Src(p.file, path),
     )
 

@@ -37,6 +37,7 @@ def _err(obj, sub: tuple, message: str):
 def _check_boards(boards: list[Board]):
     seen: dict[str, Board] = {}
     for b in boards:
+        yield from _rcd_without_rating(b)
         if b.id == SUPPLY:
             yield _err(b, ("id",), "'supply' is reserved (it names the origin in fed_by); choose another board id")
         if b.id in seen:
@@ -81,6 +82,7 @@ def _check_circuits(circuits: list[Circuit], boards: dict[str, Board], broken):
         if c.is_submain and c.loads:
             yield _err(c, ("loads",), f"a sub-main feeding {c.feeds} carries that board's load; "
                                       "list loads on the circuits of that board instead")
+        yield from _check_upgrades(c)
         load_ids: set[str] = set()
         for ld in c.loads:
             if ld.id in load_ids:
@@ -89,8 +91,44 @@ def _check_circuits(circuits: list[Circuit], boards: dict[str, Board], broken):
             if ld.power_kw is not None and ld.current_a is not None:
                 yield _err(ld, ("current_a",), "give power_kw or current_a, not both")
             elif (ld.power_kw is None and ld.current_a is None and ld.phase_currents_a is None
-                  and ld.kind != "socket-outlets"):
-                yield _err(ld, (), f"a {ld.kind} load needs power_kw or current_a")
+                  and ld.rated_current_a is None and ld.kind != "socket-outlets"):
+                yield _err(ld, (), f"a {ld.kind} load needs power_kw, current_a or rated_current_a")
+            if ld.load_control_a is not None and ld.kind != "ev-charger":
+                yield _err(ld, ("load_control_a",), "load_control_a is for an ev-charger load (722.311)")
+
+
+_RCD_KEYS = (("rcd_type", "type"), ("rcd_delay", "delay"), ("rcd_all_poles", "all_poles"),
+             ("rcd_bidirectional", "bidirectional"))
+
+
+def _rcd_without_rating(obj):
+    """RCD details given where no RCD (rcd_ma) is: a slip worth stopping for."""
+    if obj.rcd_ma is not None:
+        return
+    for key, attr in _RCD_KEYS:
+        value = getattr(obj.rcd, attr)
+        if value is not None and not (attr == "delay" and value == "general"):
+            yield _err(obj, (key,), f"{key} is given but there is no RCD here: give rcd_ma (its IΔn) too")
+            return
+
+
+def _check_upgrades(c: Circuit):
+    """Sources, RCD details and the EV earthing measure of one circuit."""
+    yield from _rcd_without_rating(c)
+    if c.sources and c.is_submain:
+        yield _err(c, ("sources",), f"a sub-main feeding {c.feeds} cannot list sources; "
+                                    "list them on the circuit of that board they are connected to")
+    ids = {ld.id for ld in c.loads}
+    for s in c.sources:
+        if s.id in ids:
+            yield _err(s, ("id",), f"id '{s.id}' is already used by a load or source of this circuit")
+        ids.add(s.id)
+    if c.earthing_measure == "tt-electrode" and c.electrode_ohm is None:
+        yield _err(c, ("earthing_measure",), "tt-electrode: give electrode_ohm, the resistance RA of the "
+                                             "charging point's own electrode (fault protection rests on it, 411.5.3)")
+    if c.electrode_ohm is not None and c.earthing_measure != "tt-electrode":
+        yield _err(c, ("electrode_ohm",), "electrode_ohm on a circuit is for a circuit earthed by its own "
+                                          "electrode: set earthing_measure: tt-electrode")
 
 
 def _check_feeding(boards: list[Board], circuits: list[Circuit], by_id: dict[str, Board], broken):

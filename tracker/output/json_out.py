@@ -81,6 +81,8 @@ def supply_entry(sr: SiteResult) -> dict:
         entry.update({"phases": 3, "demand_phases_a": _lines(lines),
                       "neutral_a": rounded(three_phase.neutral_current_a(*lines), "A"),
                       "imbalance_pct": rounded(three_phase.imbalance_pct(lines), "%", 1)})
+    if sr.notification is not None:
+        entry["notification"] = sr.notification.as_json()
     return entry
 
 

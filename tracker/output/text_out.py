@@ -63,6 +63,9 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
                     lines.append(f"        → {LABEL}: {sug['code']} for {sug['check']} ({sug['why']})")
     if sr.supply_check is not None and sr.supply_check.status != PASS:
         lines.append(f"   {SYMBOL[sr.supply_check.status]} origin demand: {clean(sr.supply_check.detail)}")
+    note = sr.notification
+    if note is not None and note.route != "none" and (not only_problems or note.route == "apply-before"):
+        lines.append(f"   network operator: {clean(note.detail())}")
     if only_problems and len(lines) == 2:
         return []          # nothing of this site to list
     return lines

@@ -6,7 +6,7 @@ import datetime
 from dataclasses import dataclass, fields, is_dataclass
 
 from tracker.output import figures
-from tracker.model import Site, board_ref, circuit_ref, inspection_ref, load_ref
+from tracker.model import Site, board_ref, circuit_ref, inspection_ref, load_ref, source_ref
 
 ADDED, REMOVED, MODIFIED = "added", "removed", "modified"
 
@@ -39,7 +39,7 @@ def _compared(cls: type) -> tuple[str, ...]:
     return names
 
 
-def _flat(obj, prefix: str = "", skip=("loads",)) -> dict:
+def _flat(obj, prefix: str = "", skip=("loads", "sources")) -> dict:
     out = {}
     for name in _compared(type(obj)):
         if name in skip:
@@ -92,6 +92,8 @@ def _items(site: Site | None, file: str) -> dict[str, object]:
             out[circuit_ref(site.id, c)] = c
             for ld in c.loads:
                 out[load_ref(site.id, c, ld)] = ld
+            for s in c.sources:
+                out[source_ref(site.id, c, s)] = s
     out.update(_inspection_elements(site, file))
     return out
 

@@ -47,8 +47,8 @@ def affected_circuits(changes: list[Change], site_id: str, graph_before: nx.DiGr
             if change.change in (ADDED, REMOVED) and _feeds_a_board(change.ref, graph_before, graph_after):
                 return None
             seeds.add(change.ref)
-        elif kind == graph.LOAD:
-            seeds.add(change.ref.rsplit("/", 1)[0])
+        elif kind == graph.LOAD or _source_of_circuit(change.ref, graph_after, graph_before):
+            seeds.add(change.ref.rsplit("/", 1)[0])   # a load, or a source (not a graph node) on a circuit
         else:
             return None
     for ref in seeds:
@@ -70,3 +70,11 @@ def _feeds_a_board(ref: str, *graphs: nx.DiGraph) -> bool:
                                        for below in estate_graph.successors(ref)):
             return True
     return False
+
+
+def _source_of_circuit(ref: str, *graphs: nx.DiGraph) -> bool:
+    """A source's ref SITE/BOARD/CIRCUIT/SOURCE (sources are no graph nodes of their own)."""
+    if ref.count("/") != 3:
+        return False
+    circuit = ref.rsplit("/", 1)[0]
+    return any(circuit in g and graph.kind_of(g, circuit) == graph.CIRCUIT for g in graphs)
