@@ -85,6 +85,22 @@ def _command_replace(sub) -> None:
     p.set_defaults(func=_run("tracker.commands.replace"))
 
 
+def _command_propose(sub) -> None:
+    p = sub.add_parser("propose", help="check a proposed alteration before the work (writes nothing)",
+                       description="Apply a proposed alteration from a small YAML file (new circuits, replaced "
+                                   "loads, added sources; schema/change.schema.json) to a site in memory and "
+                                   "report every check it would break anywhere in the site, the maximum demand "
+                                   "before → after, whether the network operator is notified after or applied to "
+                                   "first, and the remedy (BS 7671 132.16). Nothing is written. Exit 0: nothing "
+                                   "newly fails; 1: something would fail; 2: bad input.")
+    _add_path(p)
+    p.add_argument("change", metavar="CHANGE_FILE", help="the proposed alteration (YAML)")
+    p.add_argument("--site", metavar="ID", help="the site (else the change file's `site:`, or the only site)")
+    p.add_argument("--on", metavar="DATE", help="today's date for the deadline (YYYY-MM-DD; default today)")
+    p.add_argument("--json", action="store_true", help="print the izwatch.proposal/1 JSON document")
+    p.set_defaults(func=_run("tracker.commands.propose"))
+
+
 def _command_history(sub) -> None:
     p = sub.add_parser("history", help="what changed, when, by whom, and what it did",
                        description="List the recorded revisions with their changes and events.")
@@ -165,7 +181,8 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"izwatch {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     sub.required = True
-    for add_command in (_command_check, _command_watch, _command_tui, _command_replace, _command_history, _command_ack,
+    for add_command in (_command_check, _command_watch, _command_tui, _command_replace, _command_propose,
+                        _command_history, _command_ack,
                         _command_verify, _command_due, _command_report):
         add_command(sub)   # the order of the help's list
     return parser
