@@ -11,7 +11,7 @@ import datetime
 from dataclasses import dataclass, field, replace
 from functools import lru_cache
 
-from tracker.checks import notification, remedy
+from tracker.checks import notification, readings, remedy
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, WARN
 from tracker.checks.site import SiteResult, evaluate_site
 from tracker.loading import build, semantic, yamlread
@@ -183,6 +183,8 @@ def assess(site: Site, altered: Site, connect_on: datetime.date | None = None) -
         prior = before.circuits.get(ref)
         old = {c.id: c.status for c in prior.checks} if prior else {}
         for c in r.checks:
+            if readings.unmeasured(c):
+                continue      # a reading check with nothing measured says nothing of the alteration
             if _worse(old.get(c.id), c.status):
                 a.broken.append(Broken(ref, c.id, old.get(c.id), c.status, c.detail))
         if r.status == FAIL:
