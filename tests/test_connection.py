@@ -94,3 +94,35 @@ def test_due_states(site_factory):
                                                                          "notified_on: 2026-10-20,"))
     [item] = notification.due_items(sr.site, sr.notification, date(2026, 12, 3))
     assert item["status"] == "done"
+
+
+def test_due_lists_the_network_operator_deadline(site_factory, capsys):
+    """`izwatch due` carries the notification deadline: connected 2026-11-20, notify within 28
+    days (the operators' connect-and-notify process) → 2026-12-18; on 2026-12-05, 13 days before, it is
+    due soon (within 14 days, common practice)."""
+    import json
+
+    from tracker.cli import main
+    text = house(charger().replace("current_a: 32,", "current_a: 32, load_control_a: 6, connected_on: 2026-11-20,"),
+                 fuse=100)
+    root = site_factory(text, folder="test-house")
+    main(["due", str(root), "--on", "2026-12-05", "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    [item] = [i for i in doc["items"] if i["ref"] == "test-house/CU1/3/car"]
+    assert (item["due"], item["status"]) == ("2026-12-18", "due-soon")
+    assert "network operator" in item["what"]
+
+
+def test_report_carries_the_network_operator_route(site_factory, capsys):
+    """The landlord's report states the origin's route: a 32 A charge point on a 60 A fuse with
+    52.04 A already (common UK practice allowances) needs the operator first."""
+    import json
+
+    from tracker.cli import main
+    root = site_factory(house(charger(), fuse=60), folder="test-house")
+    assert main(["report", str(root), "--site", "test-house", "--format", "json", "-o", "-"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    note = doc["origin"]["network_operator"]
+    assert note["route"] == "apply-before" and any("60 A" in r for r in note["reasons"])
+    assert main(["report", str(root), "--site", "test-house", "--format", "html", "-o", "-"]) == 0
+    assert "Network operator" in capsys.readouterr().out

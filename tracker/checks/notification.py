@@ -45,6 +45,7 @@ class Outcome:
     demand_route: str | None                    # route of the EV charge points and heat pumps
     devices: tuple[Device, ...] = field(default=())
     notify_days: int = 28
+    as_built: bool = False                      # the site as it stands (else a proposed change)
 
     def device_route(self, d: Device) -> str:
         return (self.generation_route if d.kind == GENERATION else self.demand_route) or rule.NOTHING
@@ -130,7 +131,7 @@ def origin_state(site: Site, demand_a: float | None) -> Outcome:
     dem = [d for d in held if d.kind == DEMAND]
     route, reasons, gen_a, gen_route, dem_route = _routes(site, demand_a, gen, dem, False)
     return Outcome(route, reasons, gen_a, gen_route, demand_a, None, site.supply.service_fuse_a, dem_route,
-                   tuple(held), int(catalogue.connection()["generation"]["small_notify_days"][0]))
+                   tuple(held), int(catalogue.connection()["generation"]["small_notify_days"][0]), as_built=True)
 
 
 def change_outcome(before: Site, after: Site, demand_before_a: float | None,
@@ -162,32 +163,61 @@ def describe(o: Outcome) -> str:
         parts.append(f"EV charge point / heat pump with {md}{cap}: connect, then notify within "
                      f"{data['demand']['notify_days'][0]:g} days ({data['demand']['source']})")
     if o.route == rule.APPLY_BEFORE:
-        parts.insert(0, "apply to the network operator before connecting: " + "; ".join(o.reasons))
+        lead = ("these needed an application to the network operator before connecting" if o.as_built
+                else "apply to the network operator before connecting")
+        parts.insert(0, f"{lead}: " + "; ".join(o.reasons))
+    if o.as_built:
+        told = [f"{d.what} told {d.notified_on}" for d in o.devices if d.notified_on]
+        untold = [d.what for d in o.devices if not d.notified_on]
+        if told:
+            parts.append("recorded: " + ", ".join(told))
+        if untold:
+            parts.append("not recorded as told (notified_on): " + ", ".join(untold))
     return "; ".join(parts)
 
 
 SOON_DAYS = 14   # a notification deadline within this many days is due soon (common practice)
 
 
-def due_items(site: Site, outcome: Outcome, on: date, soon_days: int = SOON_DAYS) -> list[dict]:
-    """One item per device whose connection date is recorded: {site, what, due, status, source, ref}
-    (the `due` command's item shape, SPEC §7)."""
+def deadlines(site: Site, outcome: Outcome) -> list[dict]:
+    """One entry per device whose connection date is recorded: {what, due, source, ref,
+    notified_on} — the `due` command's items before their status on a given day."""
     data = catalogue.connection()
-    items = []
+    out = []
     for d in outcome.devices:
         deadline = outcome.deadline(d)
         if deadline is None:
             continue
         route = outcome.device_route(d)
-        source = (data["generation"]["small_source"] if d.kind == GENERATION and route == rule.NOTIFY_AFTER
-                  else data["generation"]["large_source"] if d.kind == GENERATION
-                  else data["demand"]["source"])
+        if d.kind == GENERATION:
+            source = data["generation"]["small_source" if route == rule.NOTIFY_AFTER else "large_source"]
+        else:
+            source = data["demand"]["source"]
         if route == rule.APPLY_BEFORE:
             what = f"apply to the network operator for the {d.what} (needed before connecting)"
         else:
             what = f"notify the network operator of the {d.what}, connected {d.connected_on}"
-        due = date.fromisoformat(deadline)
-        if d.notified_on is not None:
+        out.append({"what": what, "due": deadline, "source": source, "ref": d.ref, "notified_on": d.notified_on})
+    return out
+
+
+def site_due(site: Site) -> list[dict]:
+    """`deadlines` of a site as it stands (its maximum demand computed only where a device has a
+    connection date)."""
+    if not any(d.connected_on for d in devices(site)):
+        return []
+    from tracker.checks.site import evaluate_site
+
+    return deadlines(site, evaluate_site(site, explain=False).notification)
+
+
+def due_items(site: Site, outcome: Outcome, on: date, soon_days: int = SOON_DAYS) -> list[dict]:
+    """`deadlines` with their status on the day `on` (ok | due-soon | overdue | done), in the
+    `due` command's item shape {site, what, due, status, source, ref} (SPEC §7)."""
+    items = []
+    for x in deadlines(site, outcome):
+        due = date.fromisoformat(x["due"])
+        if x["notified_on"] is not None and date.fromisoformat(x["notified_on"]) <= on:
             status = "done"
         elif due < on:
             status = "overdue"
@@ -195,6 +225,6 @@ def due_items(site: Site, outcome: Outcome, on: date, soon_days: int = SOON_DAYS
             status = "due-soon"
         else:
             status = "ok"
-        items.append({"site": site.id, "what": what, "due": deadline, "status": status, "source": source,
-                      "ref": d.ref})
+        items.append({"site": site.id, "what": x["what"], "due": x["due"], "status": status,
+                      "source": x["source"], "ref": x["ref"]})
     return items

@@ -68,8 +68,23 @@ def site_items(site: Site, on: datetime.date) -> list[DueItem]:
             continue
         for n, o in enumerate(x.observations, 1):
             items.extend(_observation_items(site, x, n, o, on, duties))
+    items.extend(_network_operator_items(site, on))
     items.sort(key=lambda i: (i.due, i.what))
     return items
+
+
+def _network_operator_items(site: Site, on: datetime.date) -> list[DueItem]:
+    """Telling the network operator of a source, charge point or heat pump whose connection date is
+    recorded (tracker/checks/notification.py: EREC G98/G99, the operators' connect-and-notify)."""
+    from tracker.checks import notification
+
+    out = []
+    for x in notification.site_due(site):
+        done = datetime.date.fromisoformat(x["notified_on"]) if x["notified_on"] else None
+        due = datetime.date.fromisoformat(x["due"])
+        out.append(DueItem(site.id, x["what"], due, status_on(due, on, notification.SOON_DAYS, done),
+                           x["source"], x["ref"], done))
+    return out
 
 
 def _next_inspection(site: Site, on: datetime.date, duties: dict) -> list[DueItem]:

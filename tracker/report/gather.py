@@ -57,6 +57,8 @@ def _origin(sr: SiteResult) -> dict:
     out = {"ref": sr.site.id, "status": chk.status, "demand_a": rounded(chk.value, "A"), "check": chk.as_json()}
     if sr.supply_phases_a is not None:
         out["demand_phases_a"] = {ph: rounded(v, "A") for ph, v in zip(PHASES, sr.supply_phases_a)}
+    if sr.notification is not None:
+        out["network_operator"] = sr.notification.as_json()
     return out
 
 

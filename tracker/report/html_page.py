@@ -144,6 +144,13 @@ def _supply(doc: dict) -> Safe:
                      else "not given: Ze is used"))
     rows.append(("Source", "private supply (voltage-drop limits 6 % / 8 %)" if s["private"] else "public supply"))
     rows.append(("Maximum demand at the origin", cat(badge(o["status"]), " ", against(o["check"]))))
+    note = o.get("network_operator")
+    if note and note["route"] != "none":
+        lines = [note["detail"]] + [
+            f"{d['what']}: connected {d['connected_on']}, " + (f"operator told {d['notified_on']}" if d["notified_on"]
+                                                              else f"operator to be told by {d['deadline']}")
+            for d in note["devices"] if d["connected_on"]]
+        rows.append(("Network operator", cat(*[el("div", line) for line in lines])))
     table = el("table", el("tbody", [el("tr", el("th", k), el("td", v)) for k, v in rows]), class_="data kv")
     boards = el("table",
                 el("thead", el("tr", el("th", "Board"), el("th", "Fed from"), el("th", "Main switch", class_="n"),
