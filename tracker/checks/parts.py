@@ -3,7 +3,7 @@ status and a line naming its clause; the check's status is the worst of them and
 lists the worst first."""
 from __future__ import annotations
 
-from tracker.checks.result import SEVERITY, worst
+from tracker.checks.result import NOT_ASSESSED, SEVERITY, worst
 
 
 class Parts:
@@ -19,4 +19,7 @@ class Parts:
 
     def detail(self) -> str:
         ordered = sorted(self.items, key=lambda item: -SEVERITY[item[0]])
-        return "; ".join(f"{text}" if status == "pass" else f"[{status}] {text}" for status, text in ordered)
+        text = "; ".join(f"{text}" if status == "pass" else f"[{status}] {text}" for status, text in ordered)
+        if self.status == NOT_ASSESSED:   # the form every not-assessed detail takes
+            text = "not assessed: what the site file does not record — " + text
+        return text
