@@ -160,10 +160,11 @@ def test_tt_without_an_rcd_relies_on_the_device_alone(site_factory):
 # -- cpc-adiabatic: the RCD's time at IΔn (BS EN 61008/61009) --------------------------------------
 
 def test_an_earth_fault_between_idn_and_5_idn_takes_the_rcds_300_ms(site_factory):
-    # TT, Ze 200 Ω: an earth fault current of about 230 / 200 = 1.15 A is below every breaker's
-    # instantaneous band, and between IΔn 0.3 A and 5 IΔn 1.5 A of a 300 mA RCD: the RCD's maximum
-    # break time at IΔn, 300 ms (BS EN 61008-1 / 61009-1, recalled) is the disconnection time.
-    supply = "  system: TT\n  ze_ohm: 200\n  electrode_ohm: 150\n  pfc_ka: 1\n"
+    # TT, Ze 400 Ω: an earth fault current of about 230 / 400 = 0.57 A is below every breaker's
+    # instantaneous band, and between IΔn 0.3 A and 2 IΔn 0.6 A of a 300 mA RCD: the RCD's maximum
+    # break time at IΔn, 300 ms (BS EN 61008-1 / 61009-1; from 2 IΔn it is 150 ms) is the
+    # disconnection time.
+    supply = "  system: TT\n  ze_ohm: 400\n  electrode_ohm: 150\n  pfc_ka: 1\n"
     r = _result(site_factory, _site(supply, _radial("{kind: mcb, curve: B, rating_a: 16, breaking_ka: 6}",
                                                     "{kind: twin-earth-70, csa_mm2: 2.5, cpc_mm2: 1.5, length_m: 10, "
                                                     "method: C}", rcd="rcd_ma: 300")))
