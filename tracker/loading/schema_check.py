@@ -43,6 +43,12 @@ def problems(data) -> list[tuple[tuple, str]]:
     return out
 
 
+def explain(err) -> list[tuple[tuple, str]]:
+    """One jsonschema error of any schema in practitioner's words, as (path, message): the words
+    the site files get, for other files validated the same way (a change file of `propose`)."""
+    return _explain(err)
+
+
 _TYPE_WORDS = {"number": "a number", "integer": "a whole number", "string": "text",
                "boolean": "true or false", "object": "a mapping (key: value lines)",
                "array": "a list (lines starting with '- ')"}

@@ -57,7 +57,7 @@ class Change:
 
 
 def read_change(text: str, file: str) -> Change:
-    from tracker.loading.schema_check import _explain
+    from tracker.loading.schema_check import explain
 
     doc, errors = yamlread.parse(text, file)
     if errors:
@@ -69,7 +69,7 @@ def read_change(text: str, file: str) -> Change:
         raise ChangeError([InputError(file, 1, 1, "a change file is a mapping (site, circuits, replace, sources)")])
     problems = []
     for err in _validator().iter_errors(doc):
-        problems.extend(_explain(err))
+        problems.extend(explain(err))
     if problems:
         raise ChangeError(sorted((InputError(file, *locator.locate(p), m, p) for p, m in problems),
                                  key=lambda e: (e.line, e.col)))
