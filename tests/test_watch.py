@@ -224,17 +224,33 @@ def test_cli_watch_ready_events_and_clean_stop(demo_copy):
     assert verify(History.open(demo_copy / ".izwatch" / "history.sqlite")).ok
 
 
-def test_author_is_the_git_author_of_the_files_last_commit(demo_copy):
-    env = {**os.environ, "GIT_AUTHOR_NAME": "Alex Marlow", "GIT_AUTHOR_EMAIL": "a@example.invalid",
-           "GIT_COMMITTER_NAME": "Alex Marlow", "GIT_COMMITTER_EMAIL": "a@example.invalid"}
-    for cmd in (["init", "-q"], ["add", "."], ["commit", "-qm", "estate"]):
+def test_author_is_the_git_author_for_a_commit_and_the_editor_for_an_uncommitted_edit(demo_copy):
+    """Found in review: an edit saved in place (not committed) was credited to whoever last
+    committed the file. A change that arrives as a commit (here: a checkout) is credited to the
+    commit's author; an uncommitted one to the person editing (git's user.name), marked so."""
+    def git(*cmd, who="Alex Marlow"):
+        env = {**os.environ, "GIT_AUTHOR_NAME": who, "GIT_AUTHOR_EMAIL": "a@example.invalid",
+               "GIT_COMMITTER_NAME": who, "GIT_COMMITTER_EMAIL": "a@example.invalid"}
         subprocess.run(["git", "-C", str(demo_copy), *cmd], check=True, env=env, capture_output=True)
+
+    for cmd in (["init", "-q", "-b", "main"], ["config", "user.name", "Sam Editor"], ["add", "."],
+                ["commit", "-qm", "estate"]):
+        git(*cmd)
+    git("checkout", "-qb", "larger-cooker")
+    edit(demo_copy / SHOWER, "power_kw: 6}", "power_kw: 7}")
+    git("commit", "-qam", "cooker", who="Jo Commit")
+    git("checkout", "-q", "main")
     w, h, updates = start_watcher(demo_copy)
     try:
-        assert {u.recorded.author for u in updates} == {"Alex Marlow"}
+        assert {u.recorded.author for u in updates} == {"Alex Marlow"}     # as committed
         edit(demo_copy / SHOWER, "power_kw: 7.5", "power_kw: 8.5")
         got = settle(w, until=lambda g: g)
-        assert got[0].recorded.author == "Alex Marlow"
+        assert got[0].recorded.author == "Sam Editor (uncommitted)"
+        edit(demo_copy / SHOWER, "power_kw: 8.5", "power_kw: 7.5")          # put back as committed
+        settle(w, until=lambda g: g)
+        git("checkout", "-q", "larger-cooker")                               # arrives as a commit
+        got = settle(w, until=lambda g: g)
+        assert [u.recorded.author for u in got] == ["Jo Commit"]
     finally:
         w.stop()
         h.close()

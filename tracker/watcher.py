@@ -259,7 +259,7 @@ class Watcher:
             outcome = self.state.apply_disk(rel, self._settle)
             if outcome is None:
                 continue
-            rec = self.history.record(to_revision(outcome, "watch", self.authors(rel)))
+            rec = self.history.record(to_revision(outcome, "watch", self.authors(rel, outcome.content)))
             updates.append(Update(outcome, rec, rec.source if rec.duplicate else "watch"))
         return updates
 

@@ -88,7 +88,8 @@ def _record_first(state: EstateState, disk: dict[str, Path], history: History, a
         # One revision at a time into one transaction: on a large estate the whole first
         # record (every element added, every circuit's results) would not be held at once.
         for outcome in _first_record(state, contents):
-            revision = to_revision(outcome, "startup", authors(outcome.file), "first record of this file")
+            revision = to_revision(outcome, "startup", authors(outcome.file, outcome.content),
+                                   "first record of this file")
             outcome.content = None
             if outcome.valid:   # what was written is not needed again: nothing to report yet
                 outcome.changes, outcome.results, outcome.events = [], [], []
@@ -133,7 +134,8 @@ def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history
         outcome = state.apply_bytes(rel, raw)
         if outcome is None:
             continue
-        rec = history.record(to_revision(outcome, "startup", authors(rel), "changed while nothing was watching"))
+        rec = history.record(to_revision(outcome, "startup", authors(rel, outcome.content),
+                                         "changed while nothing was watching"))
         done.append((outcome, rec))
     return done
 
