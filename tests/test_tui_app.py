@@ -146,7 +146,12 @@ def test_an_acknowledgement_is_written_to_the_history(demo_copy):
             lst.move_to("orchard-end/CU1/1")
             await pilot.press("a")
             assert isinstance(app.screen, AckDialog)
-            await pilot.press("enter")                    # an empty note is refused, the dialog stays
+            assert app.screen.focused.id == "ack-by" and app.screen.query_one("#ack-by").value == ""
+            await pilot.press("enter", "enter")           # no name: refused, the dialog stays
+            assert isinstance(app.screen, AckDialog)
+            assert "say who" in plain(app.screen.query_one("#ack-error"))
+            app.screen.query_one("#ack-by").focus()
+            await pilot.press(*AUTHOR, "enter", "enter")  # an empty note is refused too
             assert isinstance(app.screen, AckDialog)
             assert "note must say" in plain(app.screen.query_one("#ack-error"))
             await pilot.press(*"job 5120", "enter")
@@ -321,7 +326,7 @@ def test_everything_from_the_keyboard_alone(demo_copy):
             await loaded(pilot)
             await pilot.press("1", "down", "enter", "h", "w", "a")
             assert isinstance(app.screen, AckDialog)
-            await pilot.press(*"booked", "enter")
+            await pilot.press(*AUTHOR, "enter", *"booked", "enter")
             await until(pilot, lambda: app.snapshot.counts[ACKED] == 1)
             await pilot.press("escape", "e", "right", "down", "escape", "question_mark", "escape")
             await pilot.press("q")

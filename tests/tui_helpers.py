@@ -15,7 +15,6 @@ def make_app(root, **kwargs):
     from tui.app import IzwatchApp
 
     kwargs.setdefault("authors", Authors(root, by=AUTHOR))
-    kwargs.setdefault("user", AUTHOR)
     kwargs.setdefault("debounce_s", 0.1)
     return IzwatchApp(root, **kwargs)
 

@@ -21,7 +21,7 @@ from textual.worker import get_current_worker
 from tracker.checks import remedy as remedies
 from tracker.history import HistoryError, default_db_path, history_location
 from tracker.output.terminal_text import clean
-from tracker.tracking.authors import Authors, os_user
+from tracker.tracking.authors import Authors
 from tracker.watcher import DEBOUNCE_S
 from tui.components.ack_dialog import AckAnswer, AckDialog
 from tui.components.details_screen import DetailsScreen
@@ -67,12 +67,11 @@ class IzwatchApp(App):
 
     def __init__(self, root: Path | str, db: Path | str | None = None, *,
                  clock: Callable[[], datetime] = utc_now, authors: Authors | None = None,
-                 user: str | None = None, debounce_s: float = DEBOUNCE_S):
+                 debounce_s: float = DEBOUNCE_S):
         super().__init__()
         self.root = Path(root)
         self.db_path = history_location(db) if db else default_db_path(self.root)
         self.clock = clock
-        self.user = user if user is not None else os_user()
         self.live = LiveEstate(self.root, self.db_path, authors, debounce_s)
         self.records = Records(self.db_path)
         self.snapshot: Snapshot = EMPTY
@@ -188,7 +187,7 @@ class IzwatchApp(App):
             if answer is not None:
                 self.write_ack(row, answer.by, answer.note)
 
-        self.push_screen(AckDialog(row, self.user), answered)
+        self.push_screen(AckDialog(row), answered)
 
     @work(thread=True, group="ack", exit_on_error=False)
     def write_ack(self, row: Row, by: str, note: str) -> None:

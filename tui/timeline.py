@@ -55,7 +55,9 @@ def entry(rev: dict, ref: str) -> Entry:
         items.append(Item("“", clean(rev["note"]), "note"))
     if rev.get("ack"):
         checks = ", ".join(rev["ack"]["checks"]) or "—"
-        items.append(Item("△", f"acknowledged: {checks}", "ack"))
+        later = rev["ack"].get("superseded_by")
+        items.append(Item("△", f"acknowledged: {checks}" + (f" (superseded by revision {later})" if later else ""),
+                          "ack"))
     changes = rev.get("changes") or []
     for c in changes[:MAX_CHANGE_LINES]:
         items.append(Item(CHANGE_MARK.get(c["change"], "~"), clean(change_text(c, ref)), "change"))

@@ -35,7 +35,9 @@ def render(revisions: list[dict], filtered: bool = False) -> str:
             else:
                 lines.append(f"    ! {clean(e['ref'])} {e['check']} {e['transition']}")
         if r.get("ack"):
-            lines.append(f"    acknowledged: {clean(r['ack']['ref'])} ({', '.join(r['ack']['checks'])})")
+            later = r["ack"].get("superseded_by")
+            lines.append(f"    acknowledged: {clean(r['ack']['ref'])} ({', '.join(r['ack']['checks'])})"
+                         + (f" — superseded by #{later}" if later else ""))
         elif not r["changes"] and not r["events"] and r["file"]:
             lines.append("    no element changed (comments or layout only, or the file loads again as it last did)")
     if lines:

@@ -60,8 +60,15 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
             f"SELECT revision_id, ref, check_id, transition, value, limit_value, unit, detail FROM events "
             f"WHERE revision_id IN ({marks}) ORDER BY revision_id, seq", ids):
         events.setdefault(rid, []).append(stored_event(ref_, check, transition, value, limit_v, unit, detail))
-    acks = {rid: {"ref": r, "checks": json.loads(c)} for rid, r, c in
-            db.execute(f"SELECT revision_id, ref, checks FROM acks WHERE revision_id IN ({marks})", ids)}
+    acks = {}
+    # A later acknowledgement of the same element supersedes an earlier one (both stay in the chain).
+    for rid, r, c, later in db.execute(
+            "SELECT a.revision_id, a.ref, a.checks, (SELECT min(b.revision_id) FROM acks b "
+            "WHERE b.ref = a.ref AND b.revision_id > a.revision_id) "
+            f"FROM acks a WHERE a.revision_id IN ({marks})", ids):
+        acks[rid] = {"ref": r, "checks": json.loads(c)}
+        if later is not None:
+            acks[rid]["superseded_by"] = later
     out = []
     for rid, at, source, file, site, chash, valid, author, note, hsh, signature, signer in rows:
         ch, ev = changes.get(rid, []), events.get(rid, [])

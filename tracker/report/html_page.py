@@ -381,7 +381,9 @@ def _source_text(r: dict) -> str:
 
 def _what_changed(r: dict, site_id: str) -> Safe:
     if r.get("ack"):
-        return cat("acknowledgement of ", el("code", r["ack"]["ref"]), f" ({', '.join(r['ack']['checks'])})")
+        later = r["ack"].get("superseded_by")
+        return cat("acknowledgement of ", el("code", r["ack"]["ref"]), f" ({', '.join(r['ack']['checks'])})",
+                   el("div", f"superseded by revision #{later}", class_="small") if later else None)
     changes = _compact(r["changes"])
     first = _first_record(r)
     lead = el("div", el("code", r["file"] or ""), " — first record" if first else None,

@@ -1,4 +1,7 @@
-"""Acknowledging a problem: who and a note, written to the history (a question: a modal)."""
+"""Acknowledging a problem: who and a note, written to the history (a question: a modal).
+
+The dialog opens on an empty "by": who acknowledges is asked every time, never taken from the
+account the UI runs under (which would record a shared login, or root, as the person)."""
 from __future__ import annotations
 
 from dataclasses import dataclass
@@ -22,10 +25,9 @@ class AckAnswer:
 class AckDialog(ModalScreen[AckAnswer | None]):
     BINDINGS = [Binding("escape", "cancel", "cancel")]
 
-    def __init__(self, row: Row, user: str, **kwargs):
+    def __init__(self, row: Row, **kwargs):
         super().__init__(**kwargs)
         self.row = row
-        self.user = user
 
     def compose(self) -> ComposeResult:
         r = self.row
@@ -33,10 +35,11 @@ class AckDialog(ModalScreen[AckAnswer | None]):
             yield Static(f"Acknowledge {r.ref}", id="ack-title", markup=False)
             yield Static(f"{r.name} — open: {', '.join(r.open_checks)}", id="ack-what", markup=False)
             yield Static("Recorded in the history (part of its hash chain) with your name and note. "
-                         "The problem stays listed as acknowledged until it is fixed or gets worse.",
+                         "The problem stays listed as acknowledged until it is fixed or gets worse. "
+                         "A later acknowledgement replaces this one (both stay in the history).",
                          id="ack-explain")
-            yield Label("by")
-            yield Input(value=self.user, id="ack-by")
+            yield Label("by (your name)")
+            yield Input(placeholder="who is acknowledging it", id="ack-by")
             yield Label("note (what is being done about it)")
             yield Input(placeholder="e.g. remedial work booked, job 2231", id="ack-note")
             yield Static("", id="ack-error")
@@ -45,7 +48,7 @@ class AckDialog(ModalScreen[AckAnswer | None]):
                 yield Button("Cancel", id="ack-cancel", compact=True)
 
     def on_mount(self) -> None:
-        self.query_one("#ack-note", Input).focus()
+        self.query_one("#ack-by", Input).focus()
 
     def _submit(self) -> None:
         by = self.query_one("#ack-by", Input).value
