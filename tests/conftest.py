@@ -1,14 +1,23 @@
 """Shared fixtures: the demo estate, and small site folders written on the fly."""
 from __future__ import annotations
 
+import os
 import shutil
 import textwrap
+import time
 from pathlib import Path
 
 import pytest
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "demo_site"
+
+
+def pytest_configure(config):
+    # Times are shown in the local zone with their offset (tracker/output/times.py): the suite runs
+    # in UTC whatever the machine's zone, so that what it expects to see does not move with it.
+    os.environ["TZ"] = "UTC"
+    time.tzset()
 
 
 def pytest_addoption(parser):

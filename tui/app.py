@@ -45,6 +45,8 @@ def news_lines(news: list[News]) -> tuple[list[str], list[str]]:
         if not n.valid:
             bad.append(f"⚠ input error in {n.file}: " + (n.errors[0] if n.errors else "it does not load"))
             continue
+        if n.loads_again:
+            good.append(f"✓ loads again: {n.file}")
         for e in n.events:
             if e["transition"] in ("newly-failing", "worse"):
                 word = "▲ newly failing" if e["transition"] == "newly-failing" else "▼ worse"

@@ -49,12 +49,13 @@ class News:
     errors: tuple[str, ...] = ()          # 'file:line:col: path: message'
     author: str = ""
     revision: int = 0
+    loads_again: bool = False             # it had an input error and loads now
 
     @classmethod
     def of(cls, u: Update) -> "News":
         o = u.outcome
         return cls(clean(o.file), o.valid, o.first_record, tuple(o.events), tuple(clean(e) for e in o.errors),
-                   clean(u.recorded.author), u.recorded.id)
+                   clean(u.recorded.author), u.recorded.id, o.loads_again)
 
 
 @dataclass

@@ -9,6 +9,7 @@ from datetime import datetime, timezone
 
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.output import figures
+from tracker.output.times import local_stamp
 
 # The state of a circuit in the UI: the engine's status, with failing circuits split by
 # whether somebody has acknowledged them since they last got worse.
@@ -94,9 +95,10 @@ def ago(at: str | None, now: datetime) -> str:
 
 
 def stamp(at: str | None) -> str:
-    """An absolute time as recorded (UTC), to the minute: '2026-12-01 09:14 UTC'."""
+    """An absolute time (recorded in UTC) in local time with its offset, to the minute:
+    '2026-12-01 09:14 +00:00'."""
     when = parse_at(at)
-    return "—" if when is None else when.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    return "—" if when is None else local_stamp(when)
 
 
 def utc_now() -> datetime:

@@ -67,6 +67,17 @@ def fail(exc: Exception) -> int:
     return EXIT_INPUT
 
 
+def loads_again_line(outcome, recorded, as_json: bool) -> str:
+    """The line for a file that loads again after an input error (it may change no check)."""
+    if as_json:
+        return json.dumps({"event": "loads-again", "file": outcome.file, "revision": recorded.id if recorded else None,
+                           "at": recorded.at if recorded else None,
+                           "author": recorded.author if recorded else None,
+                           "source": recorded.source if recorded else None}, ensure_ascii=False)
+    who = f" by {clean(recorded.author)}" if recorded else ""
+    return f"LOADS AGAIN  {clean(outcome.file)}  (input error cleared; checked from this state on{who})"
+
+
 def event_line(e: dict, outcome, recorded, as_json: bool) -> str:
     """One printed line for one event (watch, replace, startup)."""
     if as_json:

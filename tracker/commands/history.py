@@ -9,6 +9,7 @@ from tracker.commands.common import CommandError, check_root, db_path, fail, ope
 from tracker.history import location_exists, query
 from tracker.output.terminal_text import clean
 from tracker.output import figures
+from tracker.output.times import local_stamp
 
 DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
 
@@ -22,7 +23,7 @@ def render(revisions: list[dict], filtered: bool = False) -> str:
         commit = ""
         if signed:      # arrived as a git commit: git's verdict on its signature
             commit = f"  [commit {signed['status']}" + (f" by {clean(signed['signer'])}" if signed["signer"] else "") + "]"
-        lines.append(f"#{r['id']}  {r['at']}  {r['source']}  {what}  by {clean(r['author'])}{commit}{note}")
+        lines.append(f"#{r['id']}  {local_stamp(r['at'], seconds=True)}  {r['source']}  {what}  by {clean(r['author'])}{commit}{note}")
         for c in r["changes"]:
             if c["change"] == "modified":
                 lines.append(f"    {clean(c['ref'])} {clean(c['field'])} "

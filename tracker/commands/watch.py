@@ -8,7 +8,8 @@ import threading
 
 from tracker.cli import EXIT_OK
 from tracker.progress import Progress
-from tracker.commands.common import CommandError, check_root, db_path, event_line, fail, open_history
+from tracker.commands.common import (CommandError, check_root, db_path, event_line, fail, loads_again_line,
+                                     open_history)
 from tracker.output.streams import stdout_gone
 from tracker.output.terminal_text import clean
 from tracker.history import shown_location
@@ -29,6 +30,8 @@ def emit_updates(updates, as_json: bool, verbose: bool = False) -> None:
             changes = "; ".join(clean(c) for c in o.changes[:6]) + (" …" if len(o.changes) > 6 else "")
             tag = "already recorded" if rec.duplicate else f"revision {rec.id}"
             _print(f"· {clean(o.file)}: {tag} ({u.source}, by {clean(rec.author)}) {changes}")
+        if o.loads_again:
+            _print(loads_again_line(o, rec, as_json))
         for e in o.events:
             _print(event_line(e, o, rec, as_json))
 

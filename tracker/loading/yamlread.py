@@ -163,9 +163,7 @@ def parse(text: str, rel: str) -> tuple[object, list[InputError]]:
     except _Refused as exc:
         return None, [InputError(rel, exc.line, exc.col, exc.message)]
     except yaml.MarkedYAMLError as exc:
-        mark = exc.problem_mark or exc.context_mark
-        line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
-        what = exc.problem or exc.context or "not valid YAML"
+        line, col, what = _syntax_error(exc)
         if "maximum nesting depth" in str(exc):
             what = "nested too deeply (libyaml's nesting limit); site files nest a few levels only"
         if "could not determine a constructor" in str(exc):
@@ -214,6 +212,29 @@ def _dates_as_text(obj, depth: int):
         for i, v in enumerate(obj):
             obj[i] = _dates_as_text(v, depth + 1)
     return obj
+
+
+# Where libyaml notices a mistake only on a later line, the mistake is where the construct began:
+# a key without its ':' is noticed at the next line, a quote or a bracket left open at the next
+# token or the end of the file. Point at the start of the construct, and say what was noticed.
+_OPENED_AT = {
+    "while scanning a simple key": "a key without ':' after it",
+    "while scanning a quoted scalar": "a quoted text whose closing quote is missing",
+    "while parsing a flow mapping": "a '{' that is not closed",
+    "while parsing a flow sequence": "a '[' that is not closed",
+}
+
+
+def _syntax_error(exc: yaml.MarkedYAMLError) -> tuple[int, int, str]:
+    """(line, col, message) of a YAML syntax error, at the line of the mistake."""
+    pm, cm = exc.problem_mark, exc.context_mark
+    what = exc.problem or exc.context or "not valid YAML"
+    opened = _OPENED_AT.get(exc.context or "")
+    if opened and cm is not None and pm is not None and pm.line > cm.line:
+        return cm.line + 1, cm.column + 1, f"{opened} ({what}, noticed at line {pm.line + 1})"
+    mark = pm or cm
+    line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
+    return line, col, what
 
 
 def _tag_of(exc: yaml.MarkedYAMLError) -> str:

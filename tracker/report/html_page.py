@@ -8,6 +8,7 @@ from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.checks.readings import unmeasured
 from tracker.checks.rules import RING_MIN_IZ_A
 from tracker.engine.disconnection import TOUCH_VOLTAGE_V
+from tracker.output.times import local_stamp
 from tracker.report import diagram, inspections_html
 from tracker.report.markup import Safe, cat, el
 from tracker.report.style import stylesheet
@@ -27,11 +28,13 @@ BASIS_TEXT = {"ring": "ring", "design-current": "on Ib"}
 # -- formatting ----------------------------------------------------------------------------
 
 def when(at: str | None) -> str:
-    """'2026-12-02T00:33:31.454Z' → '2026-12-02 00:33 UTC' (the history's times are UTC)."""
+    """'2026-12-02T00:33:31.454Z' (the history keeps UTC) → '2026-12-02 01:33 +01:00', the local
+    time with its offset; a date alone stays a date."""
     if not at:
         return "—"
-    date, _, time = at.partition("T")
-    return f"{date} {time[:5]} UTC" if time else date
+    if "T" not in at:
+        return at
+    return local_stamp(at)
 
 
 def num(x, unit: str | None = None, digits: int | None = None, sign: bool = False) -> str:

@@ -24,6 +24,7 @@ class FileOutcome:
     results: list[tuple] = field(default_factory=list)
     rechecked: int = 0             # circuits whose checks were re-run
     first_record: bool = False     # the first record of the file (nothing before it to compare with)
+    loads_again: bool = False      # the file had an input error and loads now
 
 
 def to_revision(outcome: FileOutcome, source: str, author: str, note: str | None = None) -> NewRevision:

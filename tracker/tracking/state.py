@@ -285,7 +285,7 @@ class EstateState:
         if result is not None and result.errors:   # every problem at once, as `check` reports them
             errors = _problems_by_file(self.folder_name(folder), folder, {**good, rel: result}, {rel: result.errors})
             return self._input_error(rel, folder, raw, digest, errors[rel])
-        self.errors.pop(rel, None)
+        had_errors = self.errors.pop(rel, None) is not None
         if result is None:
             good.pop(rel, None)
         else:
@@ -300,7 +300,9 @@ class EstateState:
                 self.good[folder] = good
             return self._input_error(rel, folder, raw, digest, loaded.errors)
         self.good[folder] = good
-        return self._take_site(rel, raw, digest, site_state, loaded.site)
+        outcome = self._take_site(rel, raw, digest, site_state, loaded.site)
+        outcome.loads_again = had_errors and result is not None
+        return outcome
 
     def _assemble(self, folder: str, good: dict[str, FileResult]) -> SiteLoad:
         """The folder's site from its files' last good results; a site id another folder holds
