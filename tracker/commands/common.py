@@ -70,7 +70,8 @@ def fail(exc: Exception) -> int:
 def loads_again_line(outcome, recorded, as_json: bool) -> str:
     """The line for a file that loads again after an input error (it may change no check)."""
     if as_json:
-        return json.dumps({"event": "loads-again", "file": outcome.file, "revision": recorded.id if recorded else None,
+        return json.dumps({"event": "loads-again", "ref": outcome.site_id, "check": None, "transition": "loads-again",
+                           "file": outcome.file, "revision": recorded.id if recorded else None,
                            "at": recorded.at if recorded else None,
                            "author": recorded.author if recorded else None,
                            "source": recorded.source if recorded else None}, ensure_ascii=False)
