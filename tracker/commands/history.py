@@ -23,7 +23,8 @@ def render(revisions: list[dict], filtered: bool = False) -> str:
         commit = ""
         if signed:      # arrived as a git commit: git's verdict on its signature
             commit = f"  [commit {signed['status']}" + (f" by {clean(signed['signer'])}" if signed["signer"] else "") + "]"
-        lines.append(f"#{r['id']}  {local_stamp(r['at'], seconds=True)}  {r['source']}  {what}  by {clean(r['author'])}{commit}{note}")
+        lines.append(f"#{r['id']}  {local_stamp(r['at'], seconds=True)}  {r['source']}  {what}  "
+                     f"by {clean(r['author'])}{commit}{note}")
         for c in r["changes"]:
             if c["change"] == "modified":
                 lines.append(f"    {clean(c['ref'])} {clean(c['field'])} "
