@@ -74,9 +74,6 @@ class Row:
             return f"{self.board_id}/{self.circuit_id}"
         return self.board_id if self.kind == BOARD else "origin"
 
-    def matches(self, needle: str) -> bool:
-        return needle in self.haystack
-
 
 @dataclass(frozen=True)
 class Snapshot:

@@ -15,7 +15,7 @@ from tracker.checks.context import Facts
 from tracker.checks.registry import RATING, SIZE, CheckSpec, Outcome
 from tracker.checks.result import FAIL, NOT_ASSESSED, CheckResult, fmt, not_assessed, verdict
 from tracker.checks.working import IF_KNOWN, figure, record
-from tracker.engine import factors as F
+from tracker.engine import factors as rating_factors
 from tracker.engine import three_phase
 
 ID = "capacity"
@@ -82,18 +82,18 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
     if method_d:
         ref = kind.ground_reference_c
         theta = env.ambient_c if env.ambient_c is not None else ref
-        ca = F.ambient_factor_formula(theta, kind.conductor_c, ref)
+        ca = rating_factors.ambient_factor_formula(theta, kind.conductor_c, ref)
         ca_how = f"Ca {ca:.2f} (ground {theta:g} °C against the {ref:g} °C of the table, Table 4B2 basis)"
     else:
         theta = env.ambient_c if env.ambient_c is not None else 30.0
-        ca = F.ambient_factor_bs7671(theta, kind.conductor_c, ambient[int(kind.conductor_c)])
+        ca = rating_factors.ambient_factor_bs7671(theta, kind.conductor_c, ambient[int(kind.conductor_c)])
         ca_how = f"Ca {ca:.2f} ({theta:g} °C, Table 4B1)"
     if ca <= 0:
         return 0.0, f"ambient {theta:g} °C is at or above the conductor limit {kind.conductor_c:g} °C", {"ca": 0.0}
     if env.grouped_with > 1 and method_d:
         return None, "grouping of buried cables (Tables 4B4/4B5) is not in the catalogue", {}
     rows = grouping[env.arrangement]
-    cg = F.grouping_factor(env.grouped_with, rows, env.arrangement in open_ended)
+    cg = rating_factors.grouping_factor(env.grouped_with, rows, env.arrangement in open_ended)
     if cg is None:
         return None, (f"{env.grouped_with} circuits {env.arrangement} is beyond Table 4C1 "
                       f"(up to {max(rows)})"), {}
@@ -109,7 +109,7 @@ def rated_capacity(f: Facts) -> tuple[float | None, str, dict]:
         if c.cable.csa_mm2 > insulation_max_csa:
             ci, ci_how = 0.5, "Ci 0.50 (523.9: over 10 mm² surrounded by insulation)"
         else:
-            ci = F.insulation_factor(env.insulation_mm, insulation)
+            ci = rating_factors.insulation_factor(env.insulation_mm, insulation)
             ci_how = f"Ci {ci:.2f} ({env.insulation_mm:g} mm surrounded, Table 52.2)"
         iz_ins = it_c.value * ca * cg * ci
         factors["ci"] = ci

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import itertools
 from dataclasses import replace
+from typing import NamedTuple
 
 from tracker import catalogue
 from tracker.checks import circuit as circuit_checks
@@ -19,10 +20,13 @@ from tracker.checks.context import device_label
 from tracker.checks.readings import READING_CHECKS
 from tracker.checks.registry import BREAKING, CURVE, RATING, RATING_UP, RCD, SIZE
 from tracker.checks.result import FAIL, NOT_ASSESSED, WARN
+from tracker.checks.rules import ADDITIONAL_PROTECTION_MA
 from tracker.model import Cable, Device
 
 RATING_STEPS = (-2, -1, 0, 1, 2, 3, 4, 5)
 SIZE_STEPS = (0, 1, 2, 3, 4, 5)
+# A TT sub-main's RCD: 100 mA time-delayed, discriminating with the 30 mA devices below (common practice).
+SUBMAIN_RCD_MA = 100.0
 
 
 def _failing(result: CircuitResult) -> set[str]:
@@ -63,14 +67,28 @@ def _changes_that_help(failing: set[str]) -> set[str]:
     return set().union(*(registry.spec(f).helps for f in failing if registry.spec(f) is not None))
 
 
-def _candidate_circuits(result: CircuitResult, failing: set[str]):
+class _Options(NamedTuple):
+    """What the search may change on one circuit, each list starting from what is there."""
+
+    ratings: list[float]          # the device kind's standard ratings
+    i_rating: int                 # the present rating's place among them
+    rating_steps: tuple[int, ...]
+    curves: list[str | None]
+    sizes: list[float]            # the cable kind's sizes for the method
+    i_size: int
+    size_steps: tuple[int, ...]
+    rcd_options: list[float | None]
+    breaking_ka: float | None     # the breaking capacity every candidate's device gets
+
+
+def _options(result: CircuitResult, failing: set[str]) -> _Options:
     c = result.circuit
     dims = _changes_that_help(failing)
     kind = catalogue.cable_kind(c.cable.kind)
     ratings = catalogue.standard_ratings(c.device.kind)
     curves = [c.device.curve] + [k for k in ("B", "C", "D") if k != c.device.curve] \
         if c.device.kind in ("mcb", "rcbo") else [c.device.curve]
-    sizes = kind.sizes(c.cable.method, 3 if c.three_phase else 1) if kind else [c.cable.csa_mm2]
+    sizes = kind.sizes(c.cable.method) if kind else [c.cable.csa_mm2]
     try:
         i_rating = ratings.index(c.device.rating_a)
     except ValueError:
@@ -83,14 +101,14 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
     # 30 mA protection is a remedy for final circuits. A sub-main is put right by its cable or
     # device — on TT, where no overcurrent device can disconnect an earth fault, by a 100 mA
     # time-delayed RCD (common practice: it discriminates with the 30 mA devices below).
-    if not c.is_submain and (c.rcd_ma is None or c.rcd_ma > 30):
-        rcd_options.append(30.0)
+    if not c.is_submain and (c.rcd_ma is None or c.rcd_ma > ADDITIONAL_PROTECTION_MA):
+        rcd_options.append(ADDITIONAL_PROTECTION_MA)
     elif c.is_submain and c.rcd_ma is None and result.ctx.supply.system == "TT":
-        rcd_options.append(100.0)
+        rcd_options.append(SUBMAIN_RCD_MA)
     breaking = c.device.breaking_ka
     if BREAKING in dims:
         # a device of higher breaking capacity, applied to every candidate
-        pfc = fault_ka(result.ctx, c)
+        pfc = result.ctx.pfc_ka
         breaking = next((b for b in BREAKING_STEPS_KA if b >= pfc), None)
     if RATING in dims:
         rating_steps = RATING_STEPS
@@ -98,40 +116,56 @@ def _candidate_circuits(result: CircuitResult, failing: set[str]):
         rating_steps = tuple(x for x in RATING_STEPS if x >= 0)
     else:
         rating_steps = (0,)
-    curves = curves if CURVE in dims else curves[:1]
-    size_steps = SIZE_STEPS if SIZE in dims else (0,)
-    rcd_options = rcd_options if RCD in dims else rcd_options[:1]
+    return _Options(ratings, i_rating, rating_steps, curves if CURVE in dims else curves[:1], sizes, i_size,
+                    SIZE_STEPS if SIZE in dims else (0,), rcd_options if RCD in dims else rcd_options[:1],
+                    breaking if breaking is not None else c.device.breaking_ka)
+
+
+def _in_cost_order(c, opts: _Options) -> list[tuple[float, str | None, float, float | None]]:
+    """(rating, curve, size, RCD) of every candidate, fewest things changed first, then fewest
+    size steps, then the smallest change of rating."""
     out = []
-    for dr, curve, ds, rcd in itertools.product(rating_steps, curves, size_steps, rcd_options):
-        ir, isz = i_rating + dr, i_size + ds
-        if not (0 <= ir < len(ratings)) or isz >= len(sizes):
+    for dr, curve, ds, rcd in itertools.product(opts.rating_steps, opts.curves, opts.size_steps, opts.rcd_options):
+        ir, isz = opts.i_rating + dr, opts.i_size + ds
+        if not (0 <= ir < len(opts.ratings)) or isz >= len(opts.sizes):
             continue
         changed = (dr != 0) + (curve != c.device.curve) + (ds != 0) + (rcd != c.rcd_ma)
         cost = (changed, ds, abs(dr), curve != c.device.curve, rcd != c.rcd_ma, dr)
-        out.append((cost, ratings[ir], curve, sizes[isz], rcd))
+        out.append((cost, opts.ratings[ir], curve, opts.sizes[isz], rcd))
     out.sort(key=lambda x: x[0])
+    return [changes for _cost, *changes in out]
+
+
+def _resized(cable: Cable, kind, csa: float) -> Cable:
+    """The same run in another size, its cpc with it."""
+    if csa == cable.csa_mm2:
+        return cable
+    if kind.cpc == "separate":
+        cpc = csa                   # single-core cpc of the line conductor's size
+    elif cable.cpc_mm2 is None:
+        cpc = None                  # the cable's standard construction still applies
+    else:
+        cpc = kind.default_cpc_mm2(csa) or csa
+    return Cable(cable.kind, csa, cable.length_m, cable.method, cpc)
+
+
+def _candidate_circuits(result: CircuitResult, failing: set[str]):
+    """The circuit with each change the failing checks open, cheapest first."""
+    c = result.circuit
+    opts = _options(result, failing)
+    kind = catalogue.cable_kind(c.cable.kind)
     d0 = c.device
-    breaking = breaking if breaking is not None else d0.breaking_ka
-    cables = {}
-    for _cost, rating, curve, csa, rcd in out:
+    cables: dict[float, Cable] = {}
+    for rating, curve, csa, rcd in _in_cost_order(c, opts):
         if (rating, curve) == (d0.rating_a, d0.curve):
-            device = replace(d0, breaking_ka=breaking)
+            device = replace(d0, breaking_ka=opts.breaking_ka)
         else:
             # A different device: the old one's maker's figures and class do not carry over (a new
             # type B/C breaker is taken at the default energy-limiting class).
-            device = Device(d0.kind, rating, curve, breaking)
+            device = Device(d0.kind, rating, curve, opts.breaking_ka)
         cable = cables.get(csa)
         if cable is None:
-            cable = c.cable
-            if csa != cable.csa_mm2:
-                if kind.cpc == "separate":
-                    cpc = csa                   # single-core cpc of the line conductor's size
-                elif cable.cpc_mm2 is None:
-                    cpc = None                  # the cable's standard construction still applies
-                else:
-                    cpc = kind.default_cpc_mm2(csa) or csa
-                cable = Cable(cable.kind, csa, cable.length_m, cable.method, cpc)
-            cables[csa] = cable
+            cable = cables[csa] = _resized(c.cable, kind, csa)
         yield replace(c, device=device, cable=cable, rcd_ma=rcd)
 
 
@@ -154,7 +188,7 @@ def _describe(before, after, result_after: CircuitResult) -> list[str]:
         if after.is_submain:
             parts.append(f"a {after.rcd_ma:g} mA time-delayed RCD protecting the sub-main")
         else:
-            parts.append("30 mA RCD protection (an RCBO, or an RCD on the board)")
+            parts.append(f"{ADDITIONAL_PROTECTION_MA:g} mA RCD protection (an RCBO, or an RCD on the board)")
     return parts
 
 

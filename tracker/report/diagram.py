@@ -7,6 +7,8 @@ as a mark (shape and glyph, as well as colour) and, for a circuit, the state in 
 """
 from __future__ import annotations
 
+from typing import NamedTuple
+
 from tracker.output import figures
 from tracker.model import PHASES
 from tracker.report.markup import Safe, cat, el, svg_el
@@ -95,6 +97,44 @@ def _text_w(text: str, size: float) -> float:
     return len(text) * size * CHAR_EM
 
 
+class _Shape(NamedTuple):
+    body: Safe
+    cy: float          # the connector's height (the node's middle)
+    line_x: float      # where its children's line hangs from
+    bottom: float      # where that line starts
+    right: float       # the drawing's extent to the right
+
+
+def _circuit_shape(node: dict, x: float, y: float, first: str, second: str) -> _Shape:
+    cy = y + 13
+    text_x = x + 44
+    body = cat(
+        svg_el("rect", x=x, y=cy - 7, width=16, height=14, fill="#fff", stroke=INK, stroke_width=1.3),
+        svg_el("line", x1=x + 4, y1=cy + 4, x2=x + 12, y2=cy - 4, stroke=INK, stroke_width=1.3),
+        svg_el("line", x1=x + 16, y1=cy, x2=x + 23, y2=cy, stroke=LINE, stroke_width=1.3),
+        mark_at(node["status"], x + 31, cy, 15),
+        el("text", el("tspan", first, font_weight="bold"), x=text_x, y=cy + 4, font_size=12, fill=INK),
+        el("text", second, x=text_x, y=cy + 18, font_size=10, fill=MUTED),
+    )
+    return _Shape(body, cy, x + 8, cy + 7, text_x + max(_text_w(first, 12), _text_w(second, 10)))
+
+
+def _box_shape(node: dict, kind: str, x: float, y: float, first: str, second: str) -> _Shape:
+    """The origin (rounded) or a board (square-cornered, heavier)."""
+    bh = 34 if kind == "origin" else 32
+    cy = y + bh / 2
+    width = max(_text_w(first, 12), _text_w(second, 10)) + 40
+    fill = "#eef1f6" if kind == "board" else "#f6f1e7"
+    body = cat(
+        svg_el("rect", x=x, y=y, width=round(width, 1), height=bh, rx=3 if kind == "board" else 9,
+               fill=fill, stroke=INK, stroke_width=1.6 if kind == "board" else 1.2),
+        mark_at(node["status"], x + 15, cy, 15),
+        el("text", el("tspan", first, font_weight="bold"), x=x + 30, y=y + 14, font_size=12, fill=INK),
+        el("text", second, x=x + 30, y=y + 27, font_size=10, fill=MUTED),
+    )
+    return _Shape(body, cy, x + 15, y + bh, x + width)
+
+
 def render(doc: dict) -> Safe:
     """The diagram as one SVG per slice of at most SLICE_H px: together they read as one drawing,
     and in print each slice fits a page at full size, however many circuits the site has."""
@@ -110,50 +150,32 @@ def render(doc: dict) -> Safe:
         x = PAD + depth * INDENT
         h = ROW[kind]
         first, second, hover = labels[node["ref"]]
-        if kind == "circuit":
-            cy = y + 13
-            text_x = x + 44
-            line_x, bottom = x + 8, cy + 7
-            body = cat(
-                svg_el("rect", x=x, y=cy - 7, width=16, height=14, fill="#fff", stroke=INK, stroke_width=1.3),
-                svg_el("line", x1=x + 4, y1=cy + 4, x2=x + 12, y2=cy - 4, stroke=INK, stroke_width=1.3),
-                svg_el("line", x1=x + 16, y1=cy, x2=x + 23, y2=cy, stroke=LINE, stroke_width=1.3),
-                mark_at(node["status"], x + 31, cy, 15),
-                el("text", el("tspan", first, font_weight="bold"), x=text_x, y=cy + 4, font_size=12, fill=INK),
-                el("text", second, x=text_x, y=cy + 18, font_size=10, fill=MUTED),
-            )
-            right = text_x + max(_text_w(first, 12), _text_w(second, 10))
-        else:
-            bh = 34 if kind == "origin" else 32
-            cy = y + bh / 2
-            w = max(_text_w(first, 12), _text_w(second, 10)) + 40
-            fill = "#eef1f6" if kind == "board" else "#f6f1e7"
-            body = cat(
-                svg_el("rect", x=x, y=y, width=round(w, 1), height=bh, rx=3 if kind == "board" else 9,
-                       fill=fill, stroke=INK, stroke_width=1.6 if kind == "board" else 1.2),
-                mark_at(node["status"], x + 15, cy, 15),
-                el("text", el("tspan", first, font_weight="bold"), x=x + 30, y=y + 14, font_size=12, fill=INK),
-                el("text", second, x=x + 30, y=y + 27, font_size=10, fill=MUTED),
-            )
-            line_x, bottom = x + 15, y + bh
-            right = x + w
+        shape = (_circuit_shape(node, x, y, first, second) if kind == "circuit"
+                 else _box_shape(node, kind, x, y, first, second))
         connector = None
         if parent is not None:
             px = placed[parent][3]
-            connector = svg_el("line", x1=px, y1=cy, x2=x, y2=cy, stroke=LINE, stroke_width=1.3)
-        placed[node["ref"]] = (x, y, cy, line_x, bottom)
-        items.append((y, y + h, cat(connector, el("g", el("title", hover), body, class_=f"node node-{kind}",
+            connector = svg_el("line", x1=px, y1=shape.cy, x2=x, y2=shape.cy, stroke=LINE, stroke_width=1.3)
+        placed[node["ref"]] = (x, y, shape.cy, shape.line_x, shape.bottom)
+        items.append((y, y + h, cat(connector, el("g", el("title", hover), shape.body, class_=f"node node-{kind}",
                                                     data_ref=node["ref"], data_status=node["status"]))))
         spans.append((y, y + h))
-        width = max(width, right)
+        width = max(width, shape.right)
         y += h
-    # The line each node's children hang from: a busbar under a board, a cable under the rest.
-    hanging = []
+    return _sliced(doc, _hanging(rows, placed), items, spans, int(width + PAD + 6), int(y + PAD - 6))
+
+
+def _hanging(rows, placed) -> list[tuple[float, float, float, bool]]:
+    """The line each node's children hang from: a busbar under a board, a cable under the rest."""
+    out = []
     for node, _, _ in rows:
         if node["children"]:
             _, _, _, lx, bottom = placed[node["ref"]]
-            hanging.append((lx, bottom, placed[node["children"][-1]["ref"]][2], node["kind"] == "board"))
-    w_total, h_total = int(width + PAD + 6), int(y + PAD - 6)
+            out.append((lx, bottom, placed[node["children"][-1]["ref"]][2], node["kind"] == "board"))
+    return out
+
+
+def _sliced(doc: dict, hanging, items, spans, w_total: int, h_total: int) -> Safe:
     cuts = _slices(spans, h_total)
     out = []
     for i, (top, bottom) in enumerate(cuts):
