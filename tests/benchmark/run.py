@@ -20,6 +20,8 @@ process so that one measurement cannot warm the next:
   makes the history's first record), and its start on the unchanged estate with that history;
   and a burst of 50 saves of one file paced at 50 a second: how long the saves took, and the time
   from the last save to its event;
+- at the largest size, after the watcher's runs (its history then holds them): `report --site`
+  for one site and `report --all-sites` into a folder (wall time and peak resident memory);
 - once: every hostile input of tests/reliability/test_hostile_yaml.py refused by `izwatch check`
   (the slowest refusal; the reliability suite checks that each is refused, this how quickly).
 
@@ -244,6 +246,19 @@ def end_to_end(path: Path, edits: int) -> dict:
             "watch_peak_mib": watch_rss, "burst": bursts}
 
 
+def reports(path: Path, workdir: Path) -> dict:
+    """`report --site` of the first site and `report --all-sites` of the whole estate, on the
+    history the watcher's runs left (wall seconds and peak MiB of each)."""
+    site_id = sorted(p.name for p in path.iterdir() if p.is_dir() and not p.name.startswith("."))[0]
+    one, one_mib, _ = run_timed([sys.executable, "-m", "tracker.cli", "report", str(path), "--site", site_id,
+                                 "-o", str(workdir / "report-one.html")], ok=(0, 1))
+    out = workdir / "report-all"
+    shutil.rmtree(out, ignore_errors=True)
+    every, every_mib, _ = run_timed([sys.executable, "-m", "tracker.cli", "report", str(path), "--all-sites",
+                                     "-o", str(out)], ok=(0, 1))
+    return {"site_s": one, "site_peak_mib": one_mib, "all_sites_s": every, "all_sites_peak_mib": every_mib}
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description="izwatch benchmark")
     ap.add_argument("--sizes", default="1000,10000,100000")
@@ -272,6 +287,8 @@ def main() -> None:
         if n in (min(sizes), max(sizes)):
             r["end_to_end"] = end_to_end(path, a.edits)
             r["end_to_end"]["restart_over_check"] = r["end_to_end"]["restart_unchanged_s"] / r["check_s"]
+        if n == max(sizes):
+            r["reports"] = reports(path, workdir)
         print(f"# {n} circuits done ({time.perf_counter() - t_all:.0f} s)", file=sys.stderr, flush=True)
     paths = {n: estate_path(workdir, n) for n in sizes}
     inc, inc_peak = incremental(list(paths.values()))
@@ -299,6 +316,16 @@ def main() -> None:
                1.2)
     if 100000 in res:
         target("check peak memory at 100k (MiB)", res[100000]["check_peak_mib"], 600)
+        target("check / bare parse at 100k, default jobs", res[100000]["check_over_parse"], 1.3)
+        target("check --jobs 1 / bare parse at 100k", res[100000]["check_one_process_over_parse"], 1.8)
+        target("terminal UI snapshot after an edit at 100k (seconds)",
+               res[100000]["incremental"]["ui_snapshot_median_s"], 0.060)
+        target("watch peak memory at 100k (MiB)", res[100000]["end_to_end"]["watch_peak_mib"], 100)
+        target("watch start, unchanged 100k with history (seconds)",
+               res[100000]["end_to_end"]["restart_unchanged_s"], 3.0)
+        target("report --all-sites peak memory at 100k (MiB)", res[100000]["reports"]["all_sites_peak_mib"], 200)
+    for n in (lo, hi):
+        target(f"saved file -> event p95 at {n} (seconds)", res[n]["end_to_end"]["p95_s"], 0.015)
     target("slowest hostile input refused (seconds)", hostile["slowest_s"], 10)
     doc = {"benchmark": "izwatch/1", "python": platform.python_version(), "machine": platform.machine(),
            "cpus": os.cpu_count(), "total_s": round(time.perf_counter() - t_all, 1),
