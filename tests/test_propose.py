@@ -105,3 +105,17 @@ def test_errors_in_the_change_file_name_line_and_column(capsys, estate, tmp_path
     assert code == 2 and out == ""
     assert err.startswith(str(tmp_path / "change.yaml") + ":") and where in err, err
     assert "Traceback" not in err
+
+
+def test_the_demo_alteration(capsys):
+    """demo_changes/: Bracken Cottage (TT, 80 A supplier's fuse) gets a heat pump and a 32 A charge
+    point: the origin's demand goes past the fuse (the operators' process: apply first), and only
+    what the alteration breaks is listed (the outbuilding circuit's older fault is not)."""
+    from tests.conftest import DEMO, ROOT
+    code = main(["propose", str(DEMO), str(ROOT / "demo_changes" / "bracken-cottage-charge-point-and-heat-pump.yaml"),
+                 "--on", "2026-12-03", "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert code == 1 and doc["notification"]["route"] == "apply-before"
+    assert {(b["ref"], b["check"]) for b in doc["broken"]} == {("bracken-cottage/CU1", "demand"),
+                                                               ("bracken-cottage", "demand")}
+    assert [r["ref"] for r in doc["remedies"]] == ["bracken-cottage"]

@@ -187,7 +187,7 @@ def assess(site: Site, altered: Site, connect_on: datetime.date | None = None) -
                 continue      # a reading check with nothing measured says nothing of the alteration
             if _worse(old.get(c.id), c.status):
                 a.broken.append(Broken(ref, c.id, old.get(c.id), c.status, c.detail))
-        if r.status == FAIL:
+        if r.status == FAIL and any(b.ref == ref for b in a.broken):   # what the alteration breaks
             fix = remedy.find(r)
             if fix and fix.get("text"):
                 a.remedies.append((ref, fix["text"]))
