@@ -36,7 +36,7 @@ from tracker.history import History
 from tracker.history.store import Recorded
 from tracker.loading.discover import STATE_DIR
 from tracker.tracking.authors import Authors
-from tracker.tracking.outcome import FileOutcome, to_revision
+from tracker.tracking.outcome import FileOutcome, to_revisions
 from tracker.tracking.startup import start
 from tracker.tracking.state import EstateState
 
@@ -259,8 +259,9 @@ class Watcher:
             outcome = self.state.apply_disk(rel, self._settle)
             if outcome is None:
                 continue
-            rec = self.history.record(to_revision(outcome, "watch", self.authors(rel, outcome.content)))
-            updates.append(Update(outcome, rec, rec.source if rec.duplicate else "watch"))
+            recs = self.history.record_many(to_revisions(outcome, "watch", self.authors))
+            for o, rec in zip([*outcome.along, outcome], recs):
+                updates.append(Update(o, rec, rec.source if rec.duplicate else "watch"))
         return updates
 
     def _settle(self) -> None:

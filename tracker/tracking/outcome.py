@@ -24,7 +24,26 @@ class FileOutcome:
     results: list[tuple] = field(default_factory=list)
     rechecked: int = 0             # circuits whose checks were re-run
     first_record: bool = False     # the first record of the file (nothing before it to compare with)
+    along: list["FileOutcome"] = field(default_factory=list)   # files saved with it: one change across files
     loads_again: bool = False      # the file had an input error and loads now
+
+
+def to_revisions(outcome: FileOutcome, source: str, author_of, note: str | None = None) -> list[NewRevision]:
+    """The revisions recording `outcome` and the files that changed with it, to be written in one
+    transaction: each file saved alongside first (its content and its own element changes), then
+    the saved file with the events and results of the whole change. `author_of(file, content)`."""
+    revs = []
+    for other in outcome.along:
+        revs.append(to_revision(other, source, author_of(other.file, other.content),
+                                _joined(note, f"one change with {outcome.file}")))
+    with_files = ", ".join(o.file for o in outcome.along)
+    revs.append(to_revision(outcome, source, author_of(outcome.file, outcome.content),
+                            _joined(note, f"one change with {with_files}") if with_files else note))
+    return revs
+
+
+def _joined(note: str | None, more: str) -> str:
+    return f"{note}; {more}" if note else more
 
 
 def to_revision(outcome: FileOutcome, source: str, author: str, note: str | None = None) -> NewRevision:

@@ -12,11 +12,11 @@ import os
 from pathlib import Path
 
 from tracker.history import History
-from tracker.loading.estate import sha256_hex
+from tracker.loading.estate import read_content, sha256_hex
 from tracker.tracking.authors import Authors
 from tracker.tracking.diff import ADDED, Change, elements
 from tracker.events import input_error_event
-from tracker.tracking.outcome import FileOutcome, to_revision
+from tracker.tracking.outcome import FileOutcome, to_revision, to_revisions
 from tracker.tracking.state import EstateState, seed_in_parallel
 from tracker.tracking.transitions import compare
 
@@ -116,7 +116,10 @@ def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history
     # all match the history is taken as it is — the common case, as fast as a plain check.
     for seed in seed_in_parallel(state, on_disk, jobs):
         rels = set(on_disk[seed.folder]) | known.get(seed.folder, set())
-        same = all(rel in recorded and recorded[rel][1] == seed.hashes.get(rel) for rel in rels)
+        # (a file whose latest revision did not load, and that loads now, is a change to record:
+        # the state it is part of was never recorded)
+        same = all(rel in recorded and recorded[rel][1] == seed.hashes.get(rel)
+                   and (recorded[rel][2] or rel in seed.errors) for rel in rels)
         if same and not seed.errors:
             state.adopt(seed)
         else:
@@ -124,19 +127,19 @@ def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history
         if progress is not None:
             progress.advance()
     redo += [f for f in known if f not in on_disk]          # folders removed while nothing watched
-    pending: list[tuple[str, bytes | None]] = []
+    pending: list[tuple[str, bytes | None, dict]] = []
     for folder in redo:
         rels = set(on_disk.get(folder, ())) | known.get(folder, set())
         current = {rel: disk[rel].read_bytes() for rel in on_disk.get(folder, ())}
-        pending += _set_to_recorded(state, rels, current, recorded, history)
+        pending += [(rel, raw, current) for rel, raw in _set_to_recorded(state, rels, current, recorded, history)]
     done = []
-    for rel, raw in pending:
-        outcome = state.apply_bytes(rel, raw)
+    for rel, raw, current in pending:
+        # the folder's other files as they are now: a change made across files is one change
+        outcome = state.apply_bytes(rel, raw, alongside={f: b for f, b in current.items() if f != rel})
         if outcome is None:
             continue
-        rec = history.record(to_revision(outcome, "startup", authors(rel, outcome.content),
-                                         "changed while nothing was watching"))
-        done.append((outcome, rec))
+        recs = history.record_many(to_revisions(outcome, "startup", authors, "changed while nothing was watching"))
+        done += list(zip([*outcome.along, outcome], recs))
     return done
 
 
@@ -144,14 +147,20 @@ def _set_to_recorded(state: EstateState, rels: set[str], current: dict[str, byte
                      history: History) -> list[tuple[str, bytes | None]]:
     """Seed one folder as the history last saw it; the files to apply since then, with their
     content now (None: removed)."""
+    def loads_now(rel: str) -> bool:
+        return rel in current and not read_content(current[rel], rel).errors
+
+    # a file is to be applied when its content differs from its latest revision, or when that
+    # revision did not load and the file does now (with the others as they are)
     changed = [rel for rel in sorted(rels)
-               if rel not in recorded or recorded[rel][1] != (sha256_hex(current[rel]) if rel in current else None)]
+               if rel not in recorded or recorded[rel][1] != (sha256_hex(current[rel]) if rel in current else None)
+               or (not recorded[rel][2] and loads_now(rel))]
     if not changed:   # unchanged, but a file does not load: keep its last good state in force
         state.seed(current, last_good=history.latest_good_content)
         return []
     old = {rel: history.latest_good_content(rel) for rel in rels if rel in recorded}
     state.seed({rel: raw for rel, raw in old.items() if raw is not None}, last_good=history.latest_good_content)
     for rel in rels:
-        if rel in recorded and recorded[rel][1] is not None:
+        if rel in recorded and recorded[rel][1] is not None and rel not in changed:
             state.hashes[rel] = recorded[rel][1]   # the history's latest, even a bad one
     return [(rel, current.get(rel)) for rel in changed]

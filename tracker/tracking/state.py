@@ -17,6 +17,7 @@ import networkx as nx
 
 from tracker import graph
 from tracker.checks.site import SiteResult, evaluate_site, explain_circuit
+from tracker.loading.discover import site_files
 from tracker.loading.errors import InputError
 from tracker.loading.estate import (SITE_FILE, STATE_DIR, FileResult, SiteLoad, assemble_site, duplicate_site_id,
                                     estate_files, inside, read_content, sha256_hex)
@@ -254,15 +255,40 @@ class EstateState:
                     return self._read_disk(rel, path)
                 except OSError:
                     return raw
-        return self.apply_bytes(rel, raw, again)
+        return self.apply_bytes(rel, raw, again, alongside=self.folder_on_disk(rel))
+
+    def folder_on_disk(self, rel: str) -> dict[str, bytes]:
+        """The other site files of `rel`'s folder as they are on disk now (rel -> bytes)."""
+        folder = self.folder_of(rel)
+        out: dict[str, bytes] = {}
+        if folder is None:
+            return out
+        where = self.root / folder if folder else self.root
+        for path in site_files(where, self.root)[0]:
+            other = path.relative_to(self.root).as_posix()
+            if other == rel or self.folder_of(other) != folder:
+                continue
+            try:
+                out[other] = path.read_bytes()
+            except OSError:
+                continue
+        return out
 
     def _read_disk(self, rel: str, path: Path) -> bytes | None:
         followed = not path.is_symlink() or inside(self.root, path)
         return path.read_bytes() if followed and path.is_file() else None
 
-    def apply_bytes(self, rel: str, raw: bytes | None,
-                    read_again: Callable[[], bytes | None] | None = None) -> FileOutcome | None:
+    def apply_bytes(self, rel: str, raw: bytes | None, read_again: Callable[[], bytes | None] | None = None,
+                    alongside: dict[str, bytes] | None = None) -> FileOutcome | None:
         """Apply new content of one file (None: deleted). None when nothing changed.
+
+        `alongside`: the other files of the site as they are now (rel -> bytes). One change can
+        span files (a board re-fed: a new sub-main in one file, `fed_by` in another), so a site
+        is evaluated from its files as they are, not from each file's last good state: every
+        other file that differs from the state held and loads on its own is taken with this one,
+        and the outcome covers them all (`along`). If the site does not assemble that way but
+        does with this file alone, the others wait for their own saves (a later save of theirs
+        may be what breaks it).
 
         `read_again`: where the content does not load, the file's content read once more; if it
         differs (the first read caught a save half-done), the new content is applied instead."""
@@ -276,7 +302,7 @@ class EstateState:
         if result is not None and result.errors and read_again is not None:
             later = read_again()
             if later != raw:
-                return self.apply_bytes(rel, later)
+                return self.apply_bytes(rel, later, alongside=alongside)
         if digest is None:
             self.hashes.pop(rel, None)
         else:
@@ -285,24 +311,50 @@ class EstateState:
         if result is not None and result.errors:   # every problem at once, as `check` reports them
             errors = _problems_by_file(self.folder_name(folder), folder, {**good, rel: result}, {rel: result.errors})
             return self._input_error(rel, folder, raw, digest, errors[rel])
-        had_errors = self.errors.pop(rel, None) is not None
+        had_errors = rel in self.errors
         if result is None:
             good.pop(rel, None)
         else:
             good[rel] = result
         site_state = self.sites.get(folder) or SiteState(folder)
         if not good:
+            self.errors.pop(rel, None)
             self.good.pop(folder, None)
             return self._remove_site(rel, folder, site_state)
-        loaded = self._assemble(folder, good)
+        along = self._saved_alongside(good, alongside or {})
+        loaded = self._assemble(folder, {**good, **{f: r for f, (_, r) in along.items()}})
+        if loaded.site is None and along:
+            as_on_disk = loaded.errors          # what `check` would say of the files as they are
+            along = {}
+            loaded = self._assemble(folder, good)
+            if loaded.site is None:
+                loaded.errors = as_on_disk
         if loaded.site is None:
             if result is None:   # a deleted file is gone whatever else is wrong
                 self.good[folder] = good
             return self._input_error(rel, folder, raw, digest, loaded.errors)
+        self.errors.pop(rel, None)
+        for other, (other_raw, other_result) in along.items():
+            good[other] = other_result
         self.good[folder] = good
-        outcome = self._take_site(rel, raw, digest, site_state, loaded.site)
+        outcome = self._take_site(rel, raw, digest, site_state, loaded.site, along)
         outcome.loads_again = had_errors and result is not None
         return outcome
+
+    def _saved_alongside(self, good: dict[str, FileResult], alongside: dict[str, bytes]) -> dict[str, tuple]:
+        """The files of `alongside` whose content is not the one held and loads on its own:
+        rel -> (bytes, result). A file that does not load on its own is left to its own save
+        (which reports it); one removed is too."""
+        out = {}
+        for other, raw in sorted(alongside.items()):
+            digest = sha256_hex(raw)
+            held = good.get(other)
+            if held is not None and held.sha256 == digest:
+                continue
+            result = read_content(raw, other, digest)
+            if not result.errors:
+                out[other] = (raw, result)
+        return out
 
     def _assemble(self, folder: str, good: dict[str, FileResult]) -> SiteLoad:
         """The folder's site from its files' last good results; a site id another folder holds
@@ -313,10 +365,13 @@ class EstateState:
         return loaded
 
     def _take_site(self, rel: str, raw: bytes | None, digest: str | None, site_state: SiteState,
-                   new_site: Site) -> FileOutcome:
+                   new_site: Site, along: dict[str, tuple] | None = None) -> FileOutcome:
         """Put a folder's newly assembled site in place of its old one: diff, re-check what the
-        change can affect, compare the results."""
+        change can affect, compare the results. `along`: other files taken with this one
+        (rel -> (bytes, result)); each gets an outcome of its own element changes."""
+        along = along or {}
         old_site, old_result = site_state.site, site_state.result
+        companions = []
         if old_site is not None and old_site.id != new_site.id:
             changes = self._whole_site_changes(old_site, None) + self._whole_site_changes(None, new_site)
             old_site, old_result = None, None
@@ -324,12 +379,20 @@ class EstateState:
             changes = self._whole_site_changes(None, new_site)
         else:
             changes = diff_file(old_site, new_site, rel)
+        for other, (other_raw, other_result) in sorted(along.items()):
+            other_changes = diff_file(site_state.site, new_site, other) if old_site is not None else []
+            companion = FileOutcome(other, site_state.folder, new_site.id, other_raw, other_result.sha256, True, [],
+                                    other_changes)
+            companion.loads_again = self.errors.pop(other, None) is not None
+            self.hashes[other] = other_result.sha256
+            companions.append(companion)
+        all_changes = changes + [c for o in companions for c in o.changes]
         recheck = None
         if old_site is not None:
             graph_before = self._site_graph_copy(old_site.id)
             graph.remove_site(self.graph, old_site.id)
             graph.add_site(self.graph, new_site)
-            recheck = impact.affected_circuits(changes, new_site.id, graph_before, self.graph)
+            recheck = impact.affected_circuits(all_changes, new_site.id, graph_before, self.graph)
         else:
             if site_state.site is not None:
                 graph.remove_site(self.graph, site_state.site.id)
@@ -342,7 +405,7 @@ class EstateState:
         self._place(site_state)
         rechecked = len(new_site.circuits) if recheck is None else len(recheck)
         return FileOutcome(rel, site_state.folder, new_site.id, raw, digest, True, [], changes, events, results,
-                           rechecked)
+                           rechecked, along=companions)
 
     def _site_graph_copy(self, site_id: str) -> nx.DiGraph:
         nodes = {site_id} | nx.descendants(self.graph, site_id) if site_id in self.graph else set()
