@@ -216,7 +216,7 @@ class TestBreakingCapacityAndAdiabatic:
         assert (bc.value, bc.limit, bc.status) == (8.5, 6.0, "fail")   # 8.5 kA > 6 kA (434.5.1)
 
     def test_cable_sized_on_ib_near_the_origin(self):
-        _, r = result(site("larkspur-yard-4"), "larkspur-yard-4/DB1/6")
+        _, r = result(site("larkspur-yard-4"), "larkspur-yard-4/DB1/7")
         # Far end: Z(L-N) = 0.2 + 2 × 18.1 × 3 × 1.2 / 1000 = 0.330 Ω → 696 A, in the B16's
         # instantaneous region (≥ 5 × 16 A). Below the 3 kA row of the class-3 table (15 000 A²s for
         # type B up to 16 A, BS EN 60898-1 Annex ZA, recalled) the let-through is at most the line
@@ -247,10 +247,10 @@ class TestBreakingCapacityAndAdiabatic:
         are deemed protected against short-circuit — the same 1.0 mm² spur on a D6, a breaker the
         energy-limiting classes do not cover, whose let-through 434.5.2 alone cannot bound."""
         s = site("larkspur-yard-4")
-        spur = next(c for c in s.circuits if c.id == "6")
+        spur = next(c for c in s.circuits if c.id == "7")
         safe = replace(spur, overload_exempt=False, device=replace(spur.device, rating_a=6.0, curve="D"))
         _, r = result(replace(s, circuits=tuple(safe if c is spur else c for c in s.circuits)),
-                      "larkspur-yard-4/DB1/6")
+                      "larkspur-yard-4/DB1/7")
         line = chk(r, "line-adiabatic")
         assert line.status == "pass" and line.limit is None and "435.1" in line.detail
         assert chk(r, "capacity").status == "pass" and chk(r, "breaking-capacity").status == "pass"
@@ -258,13 +258,22 @@ class TestBreakingCapacityAndAdiabatic:
         # 48 400 A²s, more than 13 225: only an upper bound, so not assessed, not failed.
         assert chk(r, "cpc-adiabatic").status == "not-assessed"
 
+    def test_the_demo_fire_alarm_spur_passes(self):
+        """The demo's fire-alarm spur: 1.0 mm² from a B6 at 8.5 kA. Iz 13 A (Table 4D5, method 100)
+        ≥ In 6 A, so the B6 protects it against overload; the let-through at the far end's 696 A
+        (below the class-3 table's 3 kA row, 15 000 A²s for type B up to 16 A) is within
+        115² × 1² = 13 225 A²s (434.5.2); every check passes."""
+        _, r = result(site("larkspur-yard-4"), "larkspur-yard-4/DB1/6")
+        assert r.status == "pass", [(c.id, c.status) for c in r.checks]
+        assert "3 kA row" in chk(r, "line-adiabatic").detail
+
     def test_the_spur_on_a_b6_passes(self):
         """The same spur on a B6 (class 3 assumed): every check passes."""
         s = site("larkspur-yard-4")
-        spur = next(c for c in s.circuits if c.id == "6")
+        spur = next(c for c in s.circuits if c.id == "7")
         safe = replace(spur, device=replace(spur.device, rating_a=6.0))
         _, r = result(replace(s, circuits=tuple(safe if c is spur else c for c in s.circuits)),
-                      "larkspur-yard-4/DB1/6")
+                      "larkspur-yard-4/DB1/7")
         assert r.status == "pass", [(c.id, c.status) for c in r.checks]
 
 
