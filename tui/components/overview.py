@@ -59,7 +59,6 @@ class OverviewScreen(Screen):
 
     def on_mount(self) -> None:
         self.query_one(TopBar).choose(PROBLEMS)
-        self.query_one(TopBar).set_status("checking every circuit…")
         self.query_one(FilterBar).choose(self.which)
         self.query_one(ProblemList).focus()
 

@@ -15,13 +15,16 @@ class TopBar(Horizontal):
     def __init__(self, estate_name: str, **kwargs):
         super().__init__(**kwargs)
         self.estate_name = estate_name
-        self._status_parts = ("", "")
+        # What the line says until the watcher reports: set here, not when the screen mounts,
+        # because on a busy machine the first snapshot can arrive before the screen's mount
+        # handler runs, and the mount would then put "checking…" back over "watching …".
+        self._status_parts = ("checking every circuit…", "")
 
     def compose(self) -> ComposeResult:
         yield Static("izwatch", id="app-name")
         yield Chip("Problems", PROBLEMS, "p", ViewChosen, id="view-problems", classes="view-chip")
         yield Chip("Estate", ESTATE, "e", ViewChosen, id="view-estate", classes="view-chip")
-        yield Static("", id="watch-status")
+        yield Static(f"{self.estate_name} · {self._status_parts[0]}", id="watch-status")
 
     def choose(self, view: str) -> None:
         self.query_one("#view-problems", Chip).chosen = view == PROBLEMS
