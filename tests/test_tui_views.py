@@ -39,12 +39,12 @@ def test_first_record_lists_every_problem_as_newly_broken(live):
     snap = S.build(w.state, h, first_record=True)
     circuits = [r for r in snap.rows if r.kind == S.CIRCUIT]
     engine = [r for sr in w.state.site_results() for r in sr.circuits.values()]
-    assert len(circuits) == len(engine) == snap.circuits == 52
-    # the demo's check report: 14 fail, 2 warn, 2 not fully assessed, 34 pass
+    assert len(circuits) == len(engine) == snap.circuits == 53
+    # the demo's check report: 14 fail, 2 warn, 2 not fully assessed, 35 pass
     assert sum(r.status == FAIL for r in circuits) == 14
     assert sum(r.status == WARN for r in circuits) == 2
     assert sum(r.status == NOT_ASSESSED for r in circuits) == 2
-    assert sum(r.status == PASS for r in circuits) == 34
+    assert sum(r.status == PASS for r in circuits) == 35
     failing = [r for r in snap.rows if r.status == FAIL]
     assert failing and all(r.state == NEW and r.cause.kind == "first-record" for r in failing)
     # boards and origins are rows too: orchard-end's CU1 and WS1 exceed their main switches, and
