@@ -132,6 +132,8 @@ def test_the_working_is_the_engines_own(live):
     r = explain_circuit(sr.circuits["orchard-end/CU1/1"])   # the engine's working of that circuit
     wk = working_of(snap.by_ref["orchard-end/CU1/1"], snap)
     lines = {(sec.title, ln.label): ln for sec in wk.sections for ln in sec.lines}
+    # Iz = It 27 A (2.5 mm² flat twin and cpc, method C: BS 7671 Table 4D5, seen) × Cg 0.70 (three
+    # circuits bunched: Table 4C1) = 18.90 A
     assert lines[("Currents", "Iz")].text == number(r.iz_a, "A") == "18.90 A"
     assert lines[("Rating factors", "Cg")].text.startswith(f"{r.working['cg']:.2f}")
     assert lines[("Earth fault loop", "Zs")].text == number(r.working["zs_ohm"], "ohm")
@@ -139,11 +141,14 @@ def test_the_working_is_the_engines_own(live):
         c = r.check(g.check_id)
         assert g.ratio == utilisation(c) and g.status == c.status
     cap = next(g for g in wk.gauges if g.check_id == "capacity")
-    assert cap.ratio == pytest.approx(20.0 / 18.9)      # needed over Iz, both the engine's figures
+    # needed over Iz: the ring's 20 A (433.1.204) over Iz 18.90 A (above)
+    assert cap.ratio == pytest.approx(20.0 / 18.9)
     assert cap.word == "FAIL"
     # every check the engine ran, but a check on readings with nothing measured (said in "As measured")
     assert [c.check_id for c in wk.checks] == [c.id for c in r.checks if not unmeasured(c)]
     assert lines[("As measured", "readings")].text.startswith("none recorded")
+    # the board's maximum demand after diversity, 136.63 A against its 100 A main switch (the demand
+    # check of orchard-end/CU1), leaves −36.63 A for any circuit on it: × 230 V = −8.43 kW
     assert wk.wants_remedy and wk.headroom.startswith("-8.43 kW")
 
 
