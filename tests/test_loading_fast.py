@@ -38,8 +38,13 @@ def test_anchors_and_merge_keys_still_work():
 
 
 def test_plain_values_that_look_like_other_types():
-    text = "a: 2026-12-01\nb: 1:30\nc: 0x10\nd: yes\ne: '7'\n"
+    text = "a: 2026-12-01\nd: yes\ne: '7'\nf: 1e3\n"
     assert yaml.load(text, Loader=yamlread._Loader) == yaml.safe_load(text)
+    # The number forms YAML 1.1 reads otherwise than people do are refused instead, saying so
+    # (README, "Site files"): 1:30 would be 90, 0x10 16, 020 16, 2_0 20.
+    for form in ("1:30", "0x10", "020", "2_0"):
+        doc, errors = yamlread.parse(f"b: {form}\n", "f.yaml")
+        assert doc is None and "plain decimal" in errors[0].message and errors[0].line == 1
 
 
 def test_a_complex_key_is_a_clean_yaml_error(tmp_path):

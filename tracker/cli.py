@@ -26,13 +26,23 @@ def _add_db(p: argparse.ArgumentParser, creates: bool = True) -> None:
                         + ("created on first use)" if creates else "only read; never created)"))
 
 
+JOBS_PER_CORE = 4   # --jobs at most this many worker processes per core (more only adds memory and waiting)
+
+
+def max_jobs() -> int:
+    return (os.cpu_count() or 1) * JOBS_PER_CORE
+
+
 def _jobs(text: str) -> int:
     try:
-        n = int(text)
+        n = int(text) if len(text) < 10 else -1
     except ValueError:
         n = -1
     if n < 1:
         raise argparse.ArgumentTypeError(f"{text!r}: give a whole number of worker processes, 1 or more")
+    if n > max_jobs():
+        raise argparse.ArgumentTypeError(f"{text!r}: at most {max_jobs()} worker processes here "
+                                         f"({JOBS_PER_CORE} per core, {os.cpu_count() or 1} cores)")
     return n
 
 

@@ -22,6 +22,7 @@ from __future__ import annotations
 import gc
 import logging
 import os
+import sys
 import threading
 import time
 from dataclasses import dataclass
@@ -256,13 +257,24 @@ class Watcher:
     def process(self, rels: list[str]) -> list[Update]:
         updates = []
         for rel in rels:
-            outcome = self.state.apply_disk(rel, self._settle)
+            try:
+                outcome = self.state.apply_disk(rel, self._settle)
+            except Exception as exc:  # noqa: BLE001 - one file the watcher cannot take never stops it
+                if os.environ.get("IZWATCH_DEBUG"):
+                    raise
+                self.on_problem(f"izwatch: {rel} could not be taken in ({type(exc).__name__}: {exc}); its last good "
+                                "state stays in force and the watcher goes on (please report it)")
+                continue
             if outcome is None:
                 continue
             recs = self.history.record_many(to_revisions(outcome, "watch", self.authors))
             for o, rec in zip([*outcome.along, outcome], recs):
                 updates.append(Update(o, rec, rec.source if rec.duplicate else "watch"))
         return updates
+
+    def on_problem(self, text: str) -> None:
+        """Say something went wrong with one file (the terminal UI shows it in its own way)."""
+        print(text, file=sys.stderr, flush=True)
 
     def _settle(self) -> None:
         """Wait the settle interval before a file that did not load is read once more."""

@@ -6,12 +6,12 @@ import re
 
 from tracker.cli import EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path, fail, open_history
-from tracker.history import location_exists, query
+from tracker.history import HistoryError, location_exists, query
 from tracker.output.terminal_text import clean
 from tracker.output import figures
 from tracker.output.times import local_stamp
 
-DATE = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?$")
+DATE = re.compile(r"\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?")    # matched whole (fullmatch)
 
 
 def render(revisions: list[dict], filtered: bool = False) -> str:
@@ -50,7 +50,7 @@ def render(revisions: list[dict], filtered: bool = False) -> str:
 def run(args) -> int:
     try:
         check_root(args.path)
-        if args.since and not DATE.match(args.since):
+        if args.since and not DATE.fullmatch(args.since):
             raise CommandError(f"--since {args.since!r}: give a date as YYYY-MM-DD (or YYYY-MM-DDTHH:MM)")
         if not location_exists(db_path(args)):
             print("[]" if args.json else "no history recorded yet")
@@ -59,8 +59,12 @@ def run(args) -> int:
     except CommandError as exc:
         return fail(exc)
     since = args.since.replace(" ", "T") if args.since else None
-    revs = query.revisions(history, ref=args.ref, since=since)
-    history.close()
+    try:
+        revs = query.revisions(history, ref=args.ref, since=since)
+    except HistoryError as exc:
+        return fail(CommandError(str(exc)))
+    finally:
+        history.close()
     if args.json:
         print(json.dumps(revs, indent=2, ensure_ascii=False))
     else:

@@ -29,7 +29,7 @@ def _renderers(fmt: str):
 def _since(text: str | None) -> str | None:
     if text is None:
         return None
-    if not DATE.match(text):
+    if not DATE.fullmatch(text):
         raise CommandError(f"--since {text!r}: give a date as YYYY-MM-DD (or YYYY-MM-DDTHH:MM)")
     return text.replace(" ", "T")
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 import json
 
 from tracker.events import stored_event
-from tracker.history.store import History
+from tracker.history.store import History, HistoryError
 
 
 def named(history: History) -> str:
@@ -53,7 +53,7 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
     for rid, ref_, kind, fld, old, new in db.execute(
             f"SELECT revision_id, ref, change, field, old, new FROM changes WHERE revision_id IN ({marks}) "
             "ORDER BY revision_id, seq", ids):
-        changes.setdefault(rid, []).append({"ref": ref_, "field": fld, "old": _load(old), "new": _load(new),
+        changes.setdefault(rid, []).append({"ref": ref_, "field": fld, "old": _load(old, rid), "new": _load(new, rid),
                                             "change": kind})
     events: dict[int, list] = {}
     for rid, ref_, check, transition, value, limit_v, unit, detail in db.execute(
@@ -66,7 +66,7 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
             "SELECT a.revision_id, a.ref, a.checks, (SELECT min(b.revision_id) FROM acks b "
             "WHERE b.ref = a.ref AND b.revision_id > a.revision_id) "
             f"FROM acks a WHERE a.revision_id IN ({marks})", ids):
-        acks[rid] = {"ref": r, "checks": json.loads(c)}
+        acks[rid] = {"ref": r, "checks": _load(c, rid)}
         if later is not None:
             acks[rid]["superseded_by"] = later
     out = []
@@ -85,8 +85,17 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
     return out
 
 
-def _load(text):
-    return None if text is None else json.loads(text)
+def _load(text, rid: int | None = None):
+    """A value the history stored as JSON. One that is not JSON was written by something other
+    than izwatch: said as such (and `verify` names the revision), never a traceback."""
+    if text is None:
+        return None
+    try:
+        return json.loads(text)
+    except (ValueError, TypeError):
+        where = f"revision {rid}" if rid is not None else "a revision"
+        raise HistoryError(f"{where} holds a stored value that is not JSON ({str(text)[:40]!r}): the history was "
+                           "changed outside izwatch; run `izwatch verify`", "damaged") from None
 
 
 def latest_acks(history: History, into: dict | None = None, after: int = 0,
@@ -101,7 +110,7 @@ def latest_acks(history: History, into: dict | None = None, after: int = 0,
             "SELECT a.revision_id, a.ref, a.checks, r.at, r.author, r.note FROM acks a "
             f"JOIN {named(history)} r ON r.id = a.revision_id WHERE a.revision_id > ? AND a.revision_id <= ? "
             "ORDER BY a.revision_id", [after, _upto(upto)]):
-        out[ref] = {"revision": rid, "at": at, "author": author, "note": note, "checks": json.loads(checks)}
+        out[ref] = {"revision": rid, "at": at, "author": author, "note": note, "checks": _load(checks, rid)}
     return out
 
 
@@ -164,6 +173,6 @@ def revisions_by_id(history: History, ids) -> dict[int, dict]:
         for rid, ref_, kind, fld, old, new in db.execute(
                 f"SELECT revision_id, ref, change, field, old, new FROM changes WHERE revision_id IN ({marks}) "
                 "ORDER BY revision_id, seq", later):
-            out[rid]["changes"].append({"ref": ref_, "field": fld, "old": _load(old), "new": _load(new),
+            out[rid]["changes"].append({"ref": ref_, "field": fld, "old": _load(old, rid), "new": _load(new, rid),
                                         "change": kind})
     return out

@@ -28,7 +28,7 @@ __all__ = ["SITE_FILE", "STATE_DIR", "EstateError", "Estate", "FileResult", "Sit
            "duplicate_site_id", "estate_files", "inside", "load_estate", "load_site", "read_content", "read_file",
            "sha256_hex", "site_files", "site_folder_of", "site_folders"]
 
-SITE_ID = re.compile(r"^[a-z0-9][a-z0-9._-]*$")
+SITE_ID = re.compile(r"[a-z0-9][a-z0-9._-]*")      # matched whole (fullmatch): "flat-1\n" is no id
 
 
 @dataclass(slots=True)
@@ -114,12 +114,14 @@ def read_content(raw: bytes, rel: str, digest: str | None = None) -> FileResult:
     yamlread.dates_as_text(doc)
     locator = None
     bad: set[tuple] = set()
-    if not schema_check.is_valid(doc):
+    refused = not schema_check.is_valid(doc)
+    if refused:
         # Report every schema problem, then build the elements that have none, so that the
         # site-wide checks can report their problems in the same run.
         locator = yamlread.Locator(text)
         found = schema_check.problems(doc)
         result.errors = [InputError(rel, *locator.locate(path), message, path) for path, message in found]
+
         bad = {path[:2] for path, _ in found}
         result.broken = _broken_ids(doc, bad)
     p = build.Problems(rel)
@@ -140,6 +142,10 @@ def read_content(raw: bytes, rel: str, digest: str | None = None) -> FileResult:
         locator = locator or yamlread.Locator(text)
         result.errors += [InputError(f, *locator.locate(path), m, path) for f, path, m in p.errors]
         result.warnings = [LoadWarning(f, *locator.locate(path), m, path) for f, path, m in p.warnings]
+    if refused and not result.errors:
+        # the fast validator refused the file and nothing named a problem: never take it as valid
+        result.errors = [InputError(rel, 1, 1, "the file does not match the site file schema, but no single "
+                                               "problem could be named (please report it)")]
     return result
 
 
@@ -203,7 +209,7 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
         errors.append(InputError(main.rel, 1, 1, f"{SITE_FILE} needs a 'supply' section (system, ze_ohm, ...)"))
     meta = main.site_meta or {}
     site_id = meta.get("id") or (folder_name if rel_folder == "" else rel_folder)
-    if "site" not in broken and not SITE_ID.match(site_id):   # (a broken site: has its schema errors already)
+    if "site" not in broken and not SITE_ID.fullmatch(site_id):   # (a broken site: has its schema errors already)
         errors.append(InputError(main.rel, 1, 1, f"the folder name '{site_id}' is not a valid site id "
                                                  "(lower-case letters, digits, '.', '_', '-'); give site.id"))
     boards = [b for r in results for b in r.boards]

@@ -7,6 +7,7 @@ verdicts.
 """
 from __future__ import annotations
 
+import re
 from functools import lru_cache
 
 from tracker.schemas_access import schema_json
@@ -23,9 +24,23 @@ def _fast():
 @lru_cache(maxsize=1)
 def _full():
     import jsonschema
+    from jsonschema import validators
     schema = schema_json(SCHEMA_FILE)
     jsonschema.Draft202012Validator.check_schema(schema)
-    return jsonschema.Draft202012Validator(schema)
+    whole = validators.extend(jsonschema.Draft202012Validator, {"pattern": _pattern})
+    return whole(schema)
+
+
+def _ecma(pattern: str) -> str:
+    """A JSON Schema pattern (ECMA-262) for Python's re: "$" there matches only at the very end;
+    in Python it also matches before a final newline, so "CU1\n" would pass "^[A-Z0-9]+$"."""
+    return re.sub(r"(?<!\\)\$", r"\\Z", pattern)
+
+
+def _pattern(validator, pattern, instance, schema):
+    if validator.is_type(instance, "string") and not re.search(_ecma(pattern), instance):
+        from jsonschema.exceptions import ValidationError
+        yield ValidationError(f"{instance!r} does not match {pattern!r}")
 
 
 def is_valid(data) -> bool:

@@ -7,6 +7,7 @@ needs them, by composing the file into nodes (which carry line and column marks)
 from __future__ import annotations
 
 import datetime
+import re
 
 import yaml
 
@@ -15,6 +16,19 @@ from tracker.loading.errors import InputError
 MAX_FILE_BYTES = 8 * 1024 * 1024  # a board file of 1,000 circuits is about 0.6 MiB
 MAX_EXPANDED_NODES = 200_000      # bound on the size of a document once aliases are expanded
 MAX_DEPTH = 64                    # for documents with anchors; libyaml itself stops at 1,000 levels
+MAX_LIST_ITEMS = 5_000            # items of any one list: circuits per file, boards, loads, results
+# A bound checked on the text before parsing, so that a file made of a huge list is refused at
+# once instead of being built first: its lines and commas (a board file of 1,000 circuits has
+# about 15,000 lines and 20,000 commas; 5,000 circuits, the most a file may hold, five times that).
+MAX_LINES_AND_COMMAS = 400_000
+MAX_DIGITS = 30                   # the longest number written in a site file is a few digits
+
+# YAML 1.1, which PyYAML reads, takes number forms that YAML 1.2 and people read otherwise:
+# 020 is octal (16), 0x10 hexadecimal, 0b10100 binary, 1:30 base 60 (90), 2_0 is 20; an id
+# written 010 becomes "8". Only plain decimal numbers are accepted; the rest are refused with
+# what they would have meant.
+_DECIMAL_INT = re.compile(r"[-+]?(0|[1-9][0-9]*)")
+_DECIMAL_FLOAT = re.compile(r"[-+]?([0-9]+(\.[0-9]*)?|\.[0-9]+)([eE][-+]?[0-9]+)?|[-+]?\.(inf|Inf|INF)|\.(nan|NaN|NAN)")
 
 
 class _Refused(Exception):
@@ -83,6 +97,7 @@ class _Loader(yaml.CSafeLoader):
                 out[name] = self._build(v, memo)
             return out
         elif tag == _SEQ:
+            _short_list(node)
             out = []
             memo[key] = out
             out.extend(self._build(v, memo) for v in node.value)
@@ -101,6 +116,18 @@ class _Loader(yaml.CSafeLoader):
             raise _Unusual
         memo[key] = out
         return out
+
+    def construct_yaml_int(self, node):
+        _plain_number(node, _DECIMAL_INT)
+        return super().construct_yaml_int(node)
+
+    def construct_yaml_float(self, node):
+        _plain_number(node, _DECIMAL_FLOAT)
+        return super().construct_yaml_float(node)
+
+    def construct_sequence(self, node, deep=False):
+        _short_list(node)
+        return super().construct_sequence(node, deep=deep)
 
     def construct_yaml_timestamp(self, node):
         # A plain scalar shaped like a date but naming no day of the calendar (2026-02-30) would
@@ -126,6 +153,40 @@ class _Loader(yaml.CSafeLoader):
 
 
 _Loader.add_constructor(_TIMESTAMP, _Loader.construct_yaml_timestamp)   # the standard path too
+_Loader.add_constructor(_INT, _Loader.construct_yaml_int)
+_Loader.add_constructor(_FLOAT, _Loader.construct_yaml_float)
+
+
+def _plain_number(node, form: re.Pattern) -> None:
+    """Refuse a number not written as a plain decimal (see _DECIMAL_INT), or far too long."""
+    text, m = node.value, node.start_mark
+    digits = sum(ch.isdigit() for ch in text)
+    if digits > MAX_DIGITS:
+        raise _Refused(f"a number of {digits:,} digits: numbers in site files are a few digits long",
+                       m.line + 1, m.column + 1)
+    if form.fullmatch(text):
+        return
+    plain = text.lstrip("+-")
+    if "_" in text:
+        why = f"YAML 1.1 would read it as {text.replace('_', '')} (it drops '_')"
+    elif ":" in text:
+        why = "YAML 1.1 would read it as a base-60 number (1:30 is 90)"
+    elif plain[:2].lower() in ("0x", "0o", "0b"):
+        why = {"0x": "a hexadecimal", "0o": "an octal", "0b": "a binary"}[plain[:2].lower()] + " number"
+    elif plain.startswith("0") and plain[1:2].isdigit():
+        why = "YAML 1.1 would read a leading 0 as octal (020 is 16)"
+    else:
+        why = "not a plain decimal number"
+    raise _Refused(f"'{text}': {why}; write the number in plain decimal (or put text in quotes, \"{text}\")",
+                   m.line + 1, m.column + 1)
+
+
+def _short_list(node) -> None:
+    if len(node.value) > MAX_LIST_ITEMS:
+        m = node.start_mark
+        raise _Refused(f"a list of {len(node.value):,} items; a site file's lists hold at most {MAX_LIST_ITEMS:,} "
+                       "(circuits per file, boards, loads): split the site into one file per board",
+                       m.line + 1, m.column + 1)
 
 
 def decode(raw: bytes, rel: str) -> tuple[str | None, list[InputError]]:
@@ -155,6 +216,11 @@ def _line_col_of_offset(raw: bytes, offset: int) -> tuple[int, int]:
 
 def parse(text: str, rel: str) -> tuple[object, list[InputError]]:
     """Text → document. Errors carry the file, line and column libyaml reports."""
+    bulk = text.count("\n") + text.count(",")
+    if bulk > MAX_LINES_AND_COMMAS:
+        return None, [InputError(rel, 1, 1, f"{bulk:,} lines and commas; a site file holds at most "
+                                            f"{MAX_LINES_AND_COMMAS:,} ({MAX_LIST_ITEMS:,} circuits per file at most): "
+                                            "split the site into one file per board")]
     if not text.strip():
         return None, [InputError(rel, 1, 1, "file is empty; a site file is a YAML mapping "
                                             "(site, supply, boards, circuits)")]

@@ -234,10 +234,13 @@ class HistoryReader:
         except HistoryError as exc:
             self.error = str(exc)
             return
-        self.failing = query.failing_since(self.history)
-        self.acks = query.latest_acks(self.history)
-        self.latest = self.history.latest_by_file()
         self.report = verify(self.history)
+        try:
+            self.failing = query.failing_since(self.history)
+            self.acks = query.latest_acks(self.history)
+            self.latest = self.history.latest_by_file()
+        except HistoryError as exc:   # rows izwatch did not write: the report says so (verify names where)
+            self.error = str(exc)
 
     def close(self) -> None:
         if self.history is not None:
@@ -260,7 +263,13 @@ class HistoryReader:
             out["verification"].update(state="unreadable", ok=False, problem=self.error)
             out["files"] = _file_states(site_files, None)
             return out
-        everything = query.revisions(self.history, ref=site.id)
+        try:
+            everything = query.revisions(self.history, ref=site.id)
+        except HistoryError as exc:
+            out.update(state="unreadable", reason=str(exc))
+            out["verification"].update(state="unreadable", ok=False, problem=str(exc))
+            out["files"] = _file_states(site_files, None)
+            return out
         out["by_id"] = {r["id"]: r for r in everything}
         out["revisions_of_site"] = len(everything)
         out["latest_at"] = everything[-1]["at"] if everything else None
