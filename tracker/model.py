@@ -153,6 +153,8 @@ class Load:
     phase_currents_a: tuple[float, float, float] | None = None   # L1, L2, L3 of an unbalanced three-phase load
     rated_current_a: float | None = None     # the maker's rated (maximum running) current
     starting_current_a: float | None = None  # the maker's starting current
+    socket_outlet: bool = False              # cooker: its control unit has a socket-outlet (+ 5 A, households)
+    efficiency: float | None = None          # motor: power_kw is the shaft output
     load_control_a: float | None = None      # a load control holds it to this current (722.311)
     connected_on: str | None = None          # ISO date: when it was (or will be) connected
     notified_on: str | None = None           # ISO date: when the network operator was told
@@ -279,6 +281,8 @@ class Site:
     name: str = ""
     rules: str = "bs7671"
     premises: str = "domestic"
+    # the site's own allowances for diversity: (load kind, ((key, value), ...)) sorted by kind
+    diversity: tuple[tuple[str, tuple[tuple[str, object], ...]], ...] = ()
     boards: tuple[Board, ...] = ()
     circuits: tuple[Circuit, ...] = ()
     jurisdiction: str = "england"

@@ -46,16 +46,19 @@ class SupplyContext:
     pfc3_ka: float | None = None    # three-phase: symmetrical three-phase fault current at the origin
     pfc3_how: str = ""              # how pfc3_ka was found (declared, × 2 rule, assumed)
     pfc_ln_bound: bool = False      # three-phase: pfc_ka is only an upper bound of the line-neutral value
+    premises: str = "domestic"      # the class of premises: its allowances for diversity
+    diversity: tuple = ()           # the site's own allowances (Site.diversity)
 
     @property
     def three_phase(self) -> bool:
         return self.phases == 3
 
 
-def supply_context(supply: Supply, domestic: bool = True) -> SupplyContext:
+def supply_context(supply: Supply, domestic: bool = True, premises: str = "domestic",
+                   diversity: tuple = ()) -> SupplyContext:
     u0 = supply.u0_v
     if supply.three_phase:
-        return _three_phase_supply_context(supply, domestic)
+        return _three_phase_supply_context(supply, domestic, premises, diversity)
     pfc = supply.pfc_ka if supply.pfc_ka is not None else fault_level.ASSUMED_PUBLIC_PFC_KA
     candidates = []
     if supply.system != "TT" and supply.ze_ohm is not None:
@@ -70,10 +73,12 @@ def supply_context(supply: Supply, domestic: bool = True) -> SupplyContext:
         system=supply.system, u0_v=u0, ze_ohm=supply.ze_ohm, pfc_ka=pfc,
         pfc_declared=supply.pfc_ka is not None, private=supply.private,
         electrode_ohm=supply.electrode_ohm, z_ln_source_ohm=z_ln, z_ln_source_how=how, domestic=domestic,
+        premises=premises, diversity=diversity,
     )
 
 
-def _three_phase_supply_context(supply: Supply, domestic: bool) -> SupplyContext:
+def _three_phase_supply_context(supply: Supply, domestic: bool, premises: str = "domestic",
+                                diversity: tuple = ()) -> SupplyContext:
     """A three-phase origin. `pfc_ka` is the three-phase fault current; without it, twice the
     line-neutral value `pfc_line_neutral_ka` (the ×2 rule of guidance, tracker.engine.three_phase),
     and without either, twice the single-phase figure assumed for a public supply.
@@ -112,7 +117,7 @@ def _three_phase_supply_context(supply: Supply, domestic: bool) -> SupplyContext
         system=supply.system, u0_v=u0, ze_ohm=supply.ze_ohm, pfc_ka=pfc_ln,
         pfc_declared=supply.pfc_ka is not None or ln_given is not None, private=supply.private,
         electrode_ohm=supply.electrode_ohm, z_ln_source_ohm=z_ln, z_ln_source_how=how, domestic=domestic,
-        phases=3, u_line_v=supply.line_v, pfc3_ka=pfc3, pfc3_how=how3, pfc_ln_bound=ln_given is None,
+        premises=premises, diversity=diversity, phases=3, u_line_v=supply.line_v, pfc3_ka=pfc3, pfc3_how=how3, pfc_ln_bound=ln_given is None,
     )
 
 
@@ -276,7 +281,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         ib, how, ib_phases = circuit_ib_three_phase(circuit, sup.u0_v, sup.u_line_v or sup.u0_v * three_phase.SQRT3,
                                                     fed_phases_a)
     else:
-        ib, how = circuit_ib(circuit, sup.u0_v, fed_demand_a)
+        ib, how = circuit_ib(circuit, sup.u0_v, fed_demand_a, sup.premises, sup.diversity)
     in_a = circuit.device.rating_a
     sockets = rules.has_kind(circuit, "socket-outlets")
     cable = circuit.cable

@@ -3,14 +3,12 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from tracker import catalogue
 from tracker.checks import rules
 from tracker.checks.registry import RATING_UP, CheckSpec, Outcome, always_on_load
 from tracker.checks.result import WARN, CheckResult, not_assessed, verdict
 from tracker.checks.working import figure, record
 from tracker.engine import three_phase
 from tracker.engine.current import design_current_a
-from tracker.engine.diversity import allowance_full_then_rest
 from tracker.model import PHASES, Circuit
 
 if TYPE_CHECKING:
@@ -31,10 +29,11 @@ CHECK = CheckSpec(
 )
 
 
-def circuit_ib(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> tuple[float | None, str]:
+def circuit_ib(circuit: Circuit, u0_v: float, fed_demand_a: float | None, premises: str = "domestic",
+               own: tuple = ()) -> tuple[float | None, str]:
     """(Ib, how it was found): design_current_a where given; a sub-main's fed demand; In for a
-    socket-outlet circuit (common practice); the household cooker allowance; else the sum of the
-    loads' currents, I = P / (U0 × pf)."""
+    socket-outlet circuit (common practice); the premises' cooker allowance; else the sum of the
+    loads' currents, I = P / (U0 × pf [× efficiency])."""
     if circuit.design_current_a is not None:
         return circuit.design_current_a, f"Ib {circuit.design_current_a:g} A (design_current_a in the site file)"
     if circuit.is_submain:
@@ -52,7 +51,7 @@ def circuit_ib(circuit: Circuit, u0_v: float, fed_demand_a: float | None) -> tup
     if not circuit.loads:
         return None, "no load listed"
     if all(ld.kind == "cooker" for ld in circuit.loads):
-        return _cooker_ib(circuit, u0_v)
+        return _cooker_ib(circuit, u0_v, premises, own)
     parts, total = [], 0.0
     for ld in circuit.loads:
         i, how = load_current_a(ld, u0_v)
@@ -106,24 +105,45 @@ def circuit_ib_three_phase(circuit: Circuit, u0_v: float, u_line_v: float,
 
 def load_current_a(ld, u0_v: float) -> tuple[float, str]:
     """A load's full current and how it was found: the maker's rated current where given (an EV
-    charge point or heat pump at its rating, no diversity: 722.311), else current_a, else P/U0."""
+    charge point or heat pump at its rating, no diversity: 722.311), else current_a, else
+    I = P / (U0 × pf), and for a motor with its efficiency, P being the shaft output,
+    I = P / (U0 × pf × η) (the input power is the output over the efficiency: physics)."""
     if ld.rated_current_a is not None:
         return ld.rated_current_a, f"{ld.id} {ld.rated_current_a:g} A (maker's rated current)"
     if ld.current_a is not None:
         return ld.current_a, f"{ld.id} {ld.current_a:g} A"
-    i = design_current_a(ld.power_kw, u0_v, ld.power_factor)
+    eff = ld.efficiency if ld.efficiency is not None else 1.0
+    i = design_current_a(ld.power_kw / eff, u0_v, ld.power_factor)
     pf = f" × pf {ld.power_factor:g}" if ld.power_factor != 1.0 else ""
-    return i, f"{ld.id} {ld.power_kw:g} kW / ({u0_v:g} V{pf}) = {i:.2f} A"
+    eta = f" × efficiency {eff:g}" if ld.efficiency is not None else ""
+    return i, f"{ld.id} {ld.power_kw:g} kW / ({u0_v:g} V{pf}{eta}) = {i:.2f} A"
 
 
-def _cooker_ib(circuit: Circuit, u0_v: float) -> tuple[float, str]:
-    """A household cooker circuit's Ib after diversity: 10 A + 30 % of the rest (common practice,
-    the cooking-appliance allowance of tracker/data/diversity.yaml)."""
-    rule = catalogue.diversity()["categories"]["cooker"]
-    connected = sum(load_current_a(ld, u0_v)[0] for ld in circuit.loads)
-    ib = allowance_full_then_rest(connected, rule["full_a"], rule["rest_pct"])
-    return ib, (f"Ib = cooker diversity {rule['full_a']:g} A + {rule['rest_pct']:g} % of "
-                f"({connected:.2f} − {rule['full_a']:g}) A = {ib:.2f} A (common practice)")
+def _cooker_ib(circuit: Circuit, u0_v: float, premises: str, own: tuple) -> tuple[float, str]:
+    """A cooker circuit's Ib after the cooking-appliance allowance of the premises
+    (tracker/data/diversity.yaml; households: 10 A + 30 % of the rest + 5 A where the control unit
+    has a socket-outlet; shops, offices and hotels: 100 % of the largest, 80 % of the second,
+    60 % of the rest)."""
+    from tracker.checks.demand import allowances, allowed_a   # here: demand imports this module
+    allow = allowances(premises, own)
+    rule = allow.rule("cooker")
+    currents = [load_current_a(ld, u0_v)[0] for ld in circuit.loads]
+    connected = sum(currents)
+    ib = allowed_a(rule, currents)
+    if "full_a" in rule:
+        how = (f"cooker allowance {rule['full_a']:g} A + {rule['rest_pct']:g} % of "
+               f"({connected:.2f} − {rule['full_a']:g}) A")
+    elif "by_rank_pct" in rule:
+        how = (f"cooker allowance " + " + ".join(f"{p:g} %" for p in rule["by_rank_pct"][:len(currents)])
+               + (f" + {rule['others_pct']:g} % of the rest" if len(currents) > len(rule["by_rank_pct"]) else "")
+               + f" of {', '.join(f'{a:.2f}' for a in sorted(currents, reverse=True))} A")
+    else:
+        how = f"cooker allowance {rule['pct']:g} % of {connected:.2f} A"
+    sockets = sum(1 for ld in circuit.loads if ld.socket_outlet)
+    if sockets and rule.get("socket_a"):
+        ib += rule["socket_a"] * sockets
+        how += f" + {rule['socket_a']:g} A (socket-outlet in the control unit)"
+    return ib, f"Ib = {how} = {ib:.2f} A ({allow.table})"
 
 
 def run(f: Facts, done) -> Outcome:

@@ -56,7 +56,8 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
     explain=False leaves the circuit checks' working text empty (for a state kept in memory for a
     whole estate: `explain_circuit` gives the text of any one circuit when it is shown).
     """
-    sup = supply_context(site.supply, site.premises == "domestic")
+    sup = supply_context(site.supply, site.premises == "domestic", site.premises, site.diversity)
+    allow = demand_checks.allowances(site.premises, site.diversity)
     u0 = sup.u0_v
     u_line = sup.u_line_v or three_phase.line_voltage_v(u0)
     on_board: dict[str, list[Circuit]] = {b.id: [] for b in site.boards}
@@ -72,9 +73,9 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
                 fed_phases = {c.feeds: demand_of(c.feeds).phases_a for c in on_board[board_id]
                               if c.feeds and c.three_phase}
                 demands[board_id] = demand_checks.three_phase_board_demand(on_board[board_id], u0, u_line, fed,
-                                                                           fed_phases)
+                                                                           fed_phases, allow)
             else:
-                demands[board_id] = demand_checks.board_demand(on_board[board_id], u0, fed)
+                demands[board_id] = demand_checks.board_demand(on_board[board_id], u0, fed, allow)
         return demands[board_id]
 
     out = SiteResult(site)
@@ -118,10 +119,12 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
                 lines[PHASES.index(boards[b].phase)] += d.demand_a
         out.supply_phases_a = tuple(lines)
         out.supply_check = demand_checks.supply_lines_check(site.id, out.supply_phases_a,
-                                                            site.supply.service_fuse_a, origin_boards)
+                                                            site.supply.service_fuse_a, origin_boards,
+                                                            allow.upper_bound)
     else:
         total = sum(demand_of(b).demand_a for b in origin_boards)
-        out.supply_check = demand_checks.supply_check(site.id, total, site.supply.service_fuse_a, origin_boards)
+        out.supply_check = demand_checks.supply_check(site.id, total, site.supply.service_fuse_a, origin_boards,
+                                                     allow.upper_bound)
     # the network operator's criteria are per phase: the most loaded line on a three-phase origin
     out.notification = notification.origin_state(
         site, max(out.supply_phases_a) if out.supply_phases_a is not None else total)

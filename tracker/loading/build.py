@@ -208,6 +208,8 @@ def build_load(d: dict, circuit_index: int, index: int, p: Problems) -> Load:
         phase_currents_a=_phase_currents(d, path, p),
         rated_current_a=_num(d, "rated_current_a", path, p),
         starting_current_a=_num(d, "starting_current_a", path, p),
+        socket_outlet=bool(d.get("socket_outlet", False)),
+        efficiency=_num(d, "efficiency", path, p),
         load_control_a=_num(d, "load_control_a", path, p),
         connected_on=_date_text(d, "connected_on", path, p),
         notified_on=_date_text(d, "notified_on", path, p),
@@ -285,3 +287,13 @@ def build_inspection(d: dict, index: int, p: Problems) -> Inspection | None:
         test_temp_c=_num(d, "test_temp_c", path, p, 20.0),
         copy_to_tenant_on=_date(d, "copy_to_tenant_on", path, p),
         results=tuple(results), observations=tuple(observations), key=when.isoformat(), src=Src(p.file, path))
+
+
+def own_allowances(d) -> tuple:
+    """site.diversity as the model holds it: (load kind, ((key, value), ...)) sorted, lists as tuples
+    (the schema has already checked its shape)."""
+    if not isinstance(d, dict):
+        return ()
+    return tuple(sorted(
+        (str(kind), tuple(sorted((k, tuple(v) if isinstance(v, list) else v) for k, v in rule.items())))
+        for kind, rule in d.items() if isinstance(rule, dict)))

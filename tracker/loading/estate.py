@@ -19,6 +19,7 @@ from dataclasses import dataclass, field
 from pathlib import Path, PurePosixPath
 
 from tracker.loading import build, schema_check, semantic, yamlread
+from tracker.loading.build import own_allowances
 from tracker.loading.discover import (SITE_FILE, STATE_DIR, EstateError, estate_files, inside, relative,
                                       site_files, site_folders)
 from tracker.loading.errors import InputError, LoadWarning, sort_problems
@@ -230,6 +231,7 @@ def assemble_site(folder_name: str, rel_folder: str, results: list[FileResult],
         name=meta.get("name", ""),
         rules=meta.get("rules", "bs7671"),
         premises=meta.get("premises", "domestic"),
+        diversity=own_allowances(meta.get("diversity")),
         boards=tuple(boards),
         circuits=tuple(circuits),
         jurisdiction=meta.get("jurisdiction", "england"),

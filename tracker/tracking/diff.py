@@ -81,6 +81,7 @@ def _items(site: Site | None, file: str) -> dict[str, object]:
     out: dict[str, object] = {}
     if site.files and site.files[0] == file:
         meta = {"site.name": site.name, "site.rules": site.rules, "site.premises": site.premises,
+                "site.diversity": _allowances_text(site.diversity),
                 "site.jurisdiction": site.jurisdiction, "site.tenure": site.tenure}
         meta.update(_flat(site.supply, "supply."))
         out[site.id] = meta
@@ -125,3 +126,11 @@ def diff_file(old: Site | None, new: Site | None, file: str) -> list[Change]:
             if prior.get(name) != value:
                 changes.append(Change(ref, MODIFIED, name, prior.get(name), value))
     return changes
+
+
+def _allowances_text(own: tuple) -> str | None:
+    """The site's own allowances as one comparable text (None: none given)."""
+    if not own:
+        return None
+    return "; ".join(f"{kind}: " + ", ".join(f"{k} {list(v) if isinstance(v, tuple) else v}" for k, v in rule)
+                     for kind, rule in own)
