@@ -83,7 +83,7 @@ def test_html_shows_the_engines_figures(swapped, capsys, tmp_path):
     # README "A replacement, end to end": Ib 36.96 A (8.5 kW / 230 V), Iz 35 A, headroom −0.45 kW, and
     # the remedy: 10 mm² cable or a shower of at most 8.05 kW.
     assert "36.96" in words and "35.00" in words and "−0.45" in words
-    assert "cable 6 → 10 mm² twin-earth-70" in words and "limit its load to 8.05 kW" in words
+    assert "cable 6 → 10 mm² twin-earth-70" in words and "with a shower of at most 8.05 kW" in words
 
 
 def test_open_problem_names_its_cause_ack_and_remedy(swapped, capsys, tmp_path):

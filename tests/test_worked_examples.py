@@ -165,7 +165,19 @@ class TestTypeCOnALongRadial:
         assert fl.value == pytest.approx(zs)
         assert fl.limit == pytest.approx(0.95 * 230 / 160)  # C16: Ia = 10 In → 1.37 Ω (Table 41.3)
         assert fl.status == "fail"
-        # A type B breaker of the same rating would disconnect (2.73 Ω): the remedy finds it.
+        # A type B breaker of the same rating would disconnect (2.73 Ω), but the circuit feeds a
+        # motor: a B16 may trip at 3 × 16 = 48 A (BS EN 60898-1) on starting. Without the maker's
+        # starting current the remedy keeps the curve and enlarges the cable: Zs = 0.2 + (4.61 +
+        # 4.61) × 55 × 1.2 / 1000 = 0.808 Ω ≤ 1.37 Ω (IEC 60228 4 mm²: 4.61 mΩ/m, cpc 4 mm² too).
+        fix = remedy.find(r)
+        assert fix["changes"] == ["cable 2.5 → 4 mm² singles-70, cpc 1.5 → 4 mm², Iz 32.0 A"]  # 4D1A method B: 32 A
+        assert "B16" not in fix["text"]
+
+    def test_a_lower_curve_where_the_makers_starting_current_allows_it(self):
+        # The maker's starting current 40 A is below a B16's least instantaneous trip, 3 × 16 =
+        # 48 A (BS EN 60898-1): the B16 is then a device an electrician can fit.
+        s = with_load(site("larkspur-yard-4"), "3", "extractor", starting_current_a=40.0)
+        _, r = result(s, "larkspur-yard-4/DB1/3")
         assert "device C16 MCB → B16 MCB" in remedy.find(r)["changes"]
 
 

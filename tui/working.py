@@ -24,7 +24,7 @@ from tracker.checks.readings import unmeasured
 from tracker.inspection.suggest import LABEL, suggestions
 from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
-from tracker.checks.site import explain_circuit, SiteResult, headroom_kw
+from tracker.checks.site import explain_circuit, SiteResult, headroom_words, origin_spare_kw, spare_words
 from tracker.checks.voltage_drop import VoltageDropWorking
 from tracker.output.terminal_text import clean
 from tracker.model import PHASES
@@ -194,10 +194,7 @@ def circuit_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) 
         Section("Fault level", _fault_level(r, chk.get("breaking-capacity"))),
         Section("As measured", _as_measured(r, chk)),
     )
-    hk = headroom_kw(sr, r)
-    head = ("not assessed: a check that depends on the load could not be assessed" if hk is None
-            else f"{hk:+.2f} kW " + ("more load before a check of it or upstream fails" if hk >= 0
-                                     else "over: that much load must come off"))
+    head = headroom_words(sr, r)
     # A check on readings with nothing measured is said once, in "As measured", not in every list.
     shown = [x for x in r.checks if not unmeasured(x)]
     gauges = tuple(g for g in (gauge(x) for x in shown) if g is not None)
@@ -388,10 +385,10 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
         sections.append(Section("Maximum demand", tuple(parts)))
         if b.margin_a is None:
             margin = "not assessed: a demand or a sub-main check upstream has no figure"
-        elif b.margin_a >= 0:
-            margin = f"{b.margin_a:.1f} A more on a circuit here before this board or anything upstream fails"
         else:
-            margin = f"{-b.margin_a:.1f} A over: this board or something upstream already fails"
+            kw = b.margin_a * site.supply.u0_v / 1000.0
+            margin = (f"{spare_words(kw, 'the board')} ({abs(b.margin_a):.1f} A"
+                      + (f"; limit: {b.margin_by})" if b.margin_by else ")"))
         title = clean(board.name) if board and board.name else row.ref
         file = board.src.file if board and board.src else None
     else:
@@ -404,7 +401,7 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
               if sr.supply_phases_a is not None else ()),
             Line("demand", number(check.value, "A"), check.status),
             Line("supplier's fuse", number(check.limit, "A") if check.limit is not None else "not given"))))
-        margin = "—"
+        margin = spare_words(origin_spare_kw(sr), "the origin")
         title = f"{clean(site.name) or site.id}: origin"
         file = site.files[0] if site.files else None
     gauges = tuple(g for g in (gauge(check),) if g is not None)

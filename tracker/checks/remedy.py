@@ -1,9 +1,15 @@
-"""For a failing circuit, the smallest change that passes every check of it.
+"""For a failing circuit, the changes an electrician can make that pass every check of it.
 
 The search tries changes of device rating, curve, cable size and RCD protection, smallest first
 (fewest things changed, then fewest size steps), and re-runs the same checks on each; the first
-candidate with no failing check is the remedy. Where only load-dependent checks fail, it also
-says how large a load the circuit as it stands can take.
+candidate with no failing check is the remedy. A larger device comes with the cable it needs
+(device and cable together, as a sub-main is put right). Where the capacity of the cable fails,
+the changes of route are tried too: fewer circuits grouped with it, another installation method,
+a ring split into two radials; each is re-checked the same way and offered beside the device and
+cable change. What cannot be fitted is never offered: a socket-outlet circuit's cable is kept to
+what 13 A accessories' terminals take, and a motor's device never trips sooner on starting unless
+the maker's starting current shows it clear. Where only load-dependent checks fail, it also says
+how large a load the circuit as it stands can take (for a fixed appliance, the largest appliance).
 """
 from __future__ import annotations
 
@@ -27,6 +33,46 @@ RATING_STEPS = (-2, -1, 0, 1, 2, 3, 4, 5)
 SIZE_STEPS = (0, 1, 2, 3, 4, 5)
 # A TT sub-main's RCD: 100 mA time-delayed, discriminating with the 30 mA devices below (common practice).
 SUBMAIN_RCD_MA = 100.0
+
+# The largest conductor the terminals of 13 A socket-outlets and fused connection units (BS 1363)
+# take: 4 mm² (common practice; a ring final's socket takes two such conductors, a 32 A radial's
+# one). A socket-outlet circuit is never offered a larger cable.
+SOCKET_TERMINAL_MAX_MM2 = 4.0
+# The lower edge of the instantaneous tripping band of a type B, C, D breaker, × In
+# (BS EN 60898-1 Table 7: B 3–5 In, C 5–10 In, D 10–20 In): the least current that may trip it at once.
+INSTANT_LOWER = {"B": 3.0, "C": 5.0, "D": 10.0}
+# A ring split into two radials: each on at most the standard radial arrangement's device for its
+# cable (2.5 mm² on 20 A, 4 mm² on 32 A; IET On-Site Guide Appendix H, common practice), or a
+# smaller one down to 16 A.
+RADIAL_RATING_A = {2.5: 20.0, 4.0: 32.0}
+# Appliances whose current is fixed by their rating: a lower load means a smaller appliance.
+FIXED_APPLIANCES = frozenset({"shower", "water-heater", "motor", "ev-charger", "cooker", "space-heater",
+                              "heat-pump", "storage-heater"})
+
+
+def socket_circuit(c) -> bool:
+    return any(ld.kind == "socket-outlets" for ld in c.loads)
+
+
+def largest_size_fitted(c) -> float | None:
+    """The largest cable a circuit's accessories take (socket-outlets: 4 mm²); None: no such limit."""
+    return SOCKET_TERMINAL_MAX_MM2 if socket_circuit(c) and c.device.rating_a <= 32 else None
+
+
+def starts_clear(c, curve: str | None, rating_a: float) -> bool:
+    """Whether a motor circuit's device of `curve` and `rating_a` stays clear of the motor's starting
+    current: a threshold of instantaneous tripping no lower than the present device's, or above the
+    maker's starting current (`starting_current_a` of every motor on it)."""
+    motors = [ld for ld in c.loads if ld.kind == "motor"]
+    old = c.device
+    if not motors or curve not in INSTANT_LOWER or old.curve not in INSTANT_LOWER:
+        return True
+    new_a = INSTANT_LOWER[curve] * rating_a
+    if new_a >= INSTANT_LOWER[old.curve] * old.rating_a:
+        return True
+    if any(getattr(ld, "starting_current_a", None) is None for ld in motors):
+        return False
+    return new_a > sum(ld.starting_current_a for ld in motors)
 
 
 def _failing(result: CircuitResult) -> set[str]:
@@ -84,11 +130,16 @@ class _Options(NamedTuple):
 def _options(result: CircuitResult, failing: set[str]) -> _Options:
     c = result.circuit
     dims = _changes_that_help(failing)
+    if RATING_UP in dims or RATING in dims:
+        dims = dims | {SIZE}      # a larger device comes with the cable it needs (a sub-main's B80 and 16 mm²)
     kind = catalogue.cable_kind(c.cable.kind)
     ratings = catalogue.standard_ratings(c.device.kind)
     curves = [c.device.curve] + [k for k in ("B", "C", "D") if k != c.device.curve] \
         if c.device.kind in ("mcb", "rcbo") else [c.device.curve]
-    sizes = kind.sizes(c.cable.method) if kind else [c.cable.csa_mm2]
+    sizes = kind.sizes(c.cable.method, 3 if c.three_phase else 1) if kind else [c.cable.csa_mm2]
+    cap = largest_size_fitted(c)
+    if cap is not None:
+        sizes = [x for x in sizes if x <= cap or x == c.cable.csa_mm2]
     try:
         i_rating = ratings.index(c.device.rating_a)
     except ValueError:
@@ -128,6 +179,8 @@ def _in_cost_order(c, opts: _Options) -> list[tuple[float, str | None, float, fl
     for dr, curve, ds, rcd in itertools.product(opts.rating_steps, opts.curves, opts.size_steps, opts.rcd_options):
         ir, isz = opts.i_rating + dr, opts.i_size + ds
         if not (0 <= ir < len(opts.ratings)) or isz >= len(opts.sizes):
+            continue
+        if not starts_clear(c, curve, opts.ratings[ir]):
             continue
         changed = (dr != 0) + (curve != c.device.curve) + (ds != 0) + (rcd != c.rcd_ma)
         cost = (changed, ds, abs(dr), curve != c.device.curve, rcd != c.rcd_ma, dr)
@@ -204,23 +257,98 @@ def _fixable_here(result: CircuitResult, failing: set[str]) -> bool:
     return True
 
 
+def _passes(cand, result: CircuitResult, unknown: set[str]):
+    """The candidate's result where it passes every check and leaves nothing unassessed that was
+    assessed before; else None."""
+    trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a, explain=False)
+    if _failing(trial) or not _with(trial, NOT_ASSESSED) <= unknown:
+        return None
+    return trial
+
+
+def _device_kind_changes(result: CircuitResult):
+    """A rewirable fuse replaced by a type B MCB of the next rating up (a plug-in MCB where the fuse
+    board takes one, else a new board: common practice) — a B MCB needs no In / 0.725 allowance."""
+    c = result.circuit
+    if c.device.kind != "fuse-semi-enclosed" or catalogue.device_info("mcb") is None:
+        return
+    rating = next((r for r in catalogue.standard_ratings("mcb") if r >= c.device.rating_a), None)
+    if rating is None:
+        return
+    breaking = next((b for b in BREAKING_STEPS_KA if b >= result.ctx.pfc_ka), None)
+    if breaking is None:
+        return
+    new = Device("mcb", rating, "B", breaking)
+    yield (0, [f"replace the {device_label(c.device)} by a {device_label(new)} (a plug-in MCB where the fuse board "
+               "takes one, else a new board)"], replace(c, device=new))
+
+
+def _route_changes(result: CircuitResult, failing: set[str]):
+    """(rank, words, circuit) for the changes of route that can raise the cable's capacity: fewer
+    circuits grouped with it, another installation method of higher rating, a ring split into two
+    radials. Each alone, and a split ring with fewer grouped."""
+    c = result.circuit
+    if "capacity" not in failing or c.is_submain:
+        return
+    env, cable = c.environment, c.cable
+    kind = catalogue.cable_kind(cable.kind)
+    for g in range(env.grouped_with - 1, 0, -1):     # the least re-routing first
+        yield (1, [f"re-route it so that it is grouped with {g - 1 or 'no'} other circuit{'s' if g != 2 else ''} "
+                   f"(grouped_with {env.grouped_with} → {g})"],
+               replace(c, environment=replace(env, grouped_with=g)))
+    here = kind.rating(cable.csa_mm2, cable.method, c.phases) if kind else None
+    better = []
+    for m in (kind.methods_for(c.phases) if kind else ()):
+        there = kind.rating(cable.csa_mm2, m, c.phases)
+        if m != cable.method and there is not None and here is not None and there.value > here.value:
+            better.append((there.value, m))
+    # the least re-grouping first, then the method nearest the present one in rating
+    for g, (_rating, m) in sorted(((g, b) for g in range(env.grouped_with, 0, -1) for b in better),
+                                  key=lambda x: (-x[0], x[1][0])):
+        words = f"re-run the cable by reference method {m} ({kind.methods[m]}) instead of {cable.method}"
+        fewer = f", grouped with fewer circuits (grouped_with {env.grouped_with} → {g})" if g != env.grouped_with else ""
+        yield 5, [words + fewer], replace(c, cable=replace(cable, method=m), environment=replace(env, grouped_with=g))
+    if c.is_ring and cable.csa_mm2 in RADIAL_RATING_A and c.device.kind in ("mcb", "rcbo"):
+        # the standard radial's rating for the cable first, then smaller ones down to 16 A
+        ratings = [r for r in catalogue.standard_ratings(c.device.kind) if 16 <= r <= RADIAL_RATING_A[cable.csa_mm2]]
+        for rating in sorted(ratings, reverse=True):
+            half = replace(c, topology="radial",
+                           device=Device(c.device.kind, rating, c.device.curve, c.device.breaking_ka),
+                           cable=replace(cable, length_m=cable.length_m / 2))
+            yield (3, [f"split the ring into two radial circuits, each on a {device_label(half.device)} with about "
+                       f"half the ring's cable and floor area ({cable.length_m / 2:g} m each; a second way on the board)"],
+                   half)
+
+
+def _change_record(cand) -> dict:
+    return {
+        "device": {"kind": cand.device.kind, "curve": cand.device.curve, "rating_a": cand.device.rating_a,
+                   "breaking_ka": cand.device.breaking_ka},
+        "cable": {"kind": cand.cable.kind, "csa_mm2": cand.cable.csa_mm2, "cpc_mm2": cand.cable.cpc_mm2,
+                  "method": cand.cable.method, "length_m": cand.cable.length_m},
+        "rcd_ma": cand.rcd_ma,
+        "topology": cand.topology,
+        "grouped_with": cand.environment.grouped_with,
+    }
+
+
 def find(result: CircuitResult) -> dict | None:
-    """The remedy for a failing circuit: {'text', 'changes', 'load_limit_kw'}; None if it passes."""
+    """The remedy for a failing circuit: {'text', 'changes', 'change', 'load_limit_kw', 'alternatives'};
+    None if it passes. `changes`/`change` are the first option; `alternatives` the others, each
+    {'changes', 'change'} — every one re-checked to pass every check of the circuit."""
     failing = _failing(result)
     fixes = _requirement_fixes(result)
     if not failing:
-        return {"changes": [], "load_limit_kw": None, "text": "; ".join(fixes)} if fixes else None
+        return {"changes": [], "load_limit_kw": None, "text": "; ".join(fixes), "alternatives": []} if fixes else None
     c = result.circuit
-    out: dict = {"changes": [], "load_limit_kw": None, "text": ""}
+    out: dict = {"changes": [], "load_limit_kw": None, "text": "", "alternatives": []}
     unknown, cautions = _with(result, NOT_ASSESSED), _with(result, WARN)
     chosen = fallback = None
     tries = 0
     local = _fixable_here(result, failing)
     for cand in (_candidate_circuits(result, failing) if local else ()):
-        trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a, explain=False,
-                                          fed_phases_a=result.fed_phases_a)
-        # A remedy must not pass by leaving a check unassessed that was assessed before.
-        if _failing(trial) or not _with(trial, NOT_ASSESSED) <= unknown:
+        trial = _passes(cand, result, unknown)
+        if trial is None:
             continue
         if _with(trial, WARN) <= cautions:
             chosen = (cand, trial)
@@ -231,16 +359,25 @@ def find(result: CircuitResult) -> dict | None:
         if tries > FALLBACK_TRIES:   # a clean remedy is not close: settle for the first that passes
             break
     chosen = chosen or fallback
+    options = []      # (rank, words, circuit)
     if chosen is not None:
         cand, trial = chosen
-        out["changes"] = _describe(c, cand, trial)
-        out["change"] = {
-            "device": {"kind": cand.device.kind, "curve": cand.device.curve, "rating_a": cand.device.rating_a,
-                       "breaking_ka": cand.device.breaking_ka},
-            "cable": {"kind": cand.cable.kind, "csa_mm2": cand.cable.csa_mm2, "cpc_mm2": cand.cable.cpc_mm2,
-                      "method": cand.cable.method},
-            "rcd_ma": cand.rcd_ma,
-        }
+        # a device alone first, then fewer circuits grouped, a split ring, a new cable, a new route
+        options.append((0 if cand.cable.csa_mm2 == c.cable.csa_mm2 else 4, _describe(c, cand, trial), cand))
+    if local:
+        seen_ranks = set()
+        for rank, words, cand in itertools.chain(_device_kind_changes(result), _route_changes(result, failing)):
+            if rank in seen_ranks:
+                continue           # the least change of each kind that passes
+            if _passes(cand, result, unknown) is not None:
+                seen_ranks.add(rank)
+                options.append((rank, words, cand))
+    options.sort(key=lambda o: o[0])
+    if options:
+        _rank, words, cand = options[0]
+        out["changes"] = words
+        out["change"] = _change_record(cand)
+        out["alternatives"] = [{"changes": w, "change": _change_record(k)} for _r, w, k in options[1:]]
     text = []
     ctx = result.ctx
     vd = result.check("voltage-drop")
@@ -248,20 +385,39 @@ def find(result: CircuitResult) -> dict | None:
             and ctx.vd_v >= 0.5 * vd.limit / 100.0 * ctx.supply.u0_v:
         text.append(f"{ctx.vd_v:.2f} V of the allowed {vd.limit / 100.0 * ctx.supply.u0_v:.2f} V is already "
                     f"dropped upstream: put the sub-main {ctx.fed_via} right first")
-    if out["changes"]:
-        text.append("smallest change that passes every check of the circuit: " + "; ".join(out["changes"]))
+    if options:
+        first = "smallest change that passes every check of the circuit: " + "; ".join(options[0][1])
+        text.append(first + "".join(f"; or {'; '.join(w)}" for _r, w, _k in options[1:]))
     elif not local:
         text.append("no change to this circuit alone can pass: the cause is upstream")
     else:
-        text.append("no change of device rating, curve, cable size or RCD within reach passes every check: "
-                    "the circuit needs redesign (shorter route, split load, other installation method)")
+        text.append(_no_change_why(result, failing))
     if _load_limited(result, failing) and result.own_margin_a() is not None and c.loads \
-            and not any(ld.kind == "socket-outlets" for ld in c.loads) and c.design_current_a is None:
+            and not socket_circuit(c) and c.design_current_a is None:
         limit_a = result.ib_a + result.own_margin_a()
         kw = sum(ld.power_kw for ld in c.loads if ld.power_kw is not None)
         if kw > 0 and limit_a > 0 and all(ld.power_kw is not None for ld in c.loads):
             limit_kw = limit_a * kw / result.ib_a   # the same loads, scaled down to the limiting current
             out["load_limit_kw"] = round(limit_kw, 2)
-            text.append(f"or keep the circuit as it is and limit its load to {limit_kw:.2f} kW")
+            fixed = [ld for ld in c.loads if ld.kind in FIXED_APPLIANCES]
+            if len(c.loads) == 1 and fixed:
+                # an appliance draws its rated current: the circuit takes a smaller appliance, not "less load"
+                text.append(f"or keep the circuit as it is with a {fixed[0].kind.replace('-', ' ')} of at most "
+                            f"{limit_kw:.2f} kW")
+            else:
+                text.append(f"or keep the circuit as it is and limit its load to {limit_kw:.2f} kW")
     out["text"] = "; ".join(fixes + text)
     return out
+
+
+def _no_change_why(result: CircuitResult, failing: set[str]) -> str:
+    c = result.circuit
+    cap = largest_size_fitted(c)
+    why = ("no change of device rating, curve, cable size, RCD or route within reach passes every check: "
+           "the circuit needs redesign (shorter route, split load, other installation method)")
+    if cap is not None:
+        why += (f"; a socket-outlet circuit's cable stays at most {cap:g} mm², what 13 A accessories' terminals "
+                "take (common practice)")
+    if any(ld.kind == "motor" for ld in c.loads):
+        why += "; a motor's device is not made to trip sooner on starting without the maker's starting_current_a"
+    return why

@@ -10,7 +10,8 @@ from tracker.checks import notification
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.readings import latest_readings
 from tracker.checks.context import BoardContext, child_context, build_facts, origin_context, supply_context
-from tracker.checks.result import CheckResult, worst
+from tracker.checks.readings import READING_CHECKS
+from tracker.checks.result import FAIL, CheckResult, worst
 from tracker.engine import three_phase
 from tracker.model import PHASES, Circuit, Site
 
@@ -23,6 +24,7 @@ class BoardResult:
     check: CheckResult
     ctx: BoardContext
     margin_a: float | None = None   # extra current any circuit here may add before an upstream check fails
+    margin_by: str = ""             # which limit that is, in words
 
     @property
     def status(self) -> str:
@@ -155,21 +157,25 @@ def _margins(out: SiteResult, on_board: dict[str, list[Circuit]], origin_boards:
         subtree_slack(b)
     supply_margin = None
     if out.supply_check is not None and out.supply_check.margin() is not None:
-        supply_margin = out.supply_check.margin()
+        supply_margin = (out.supply_check.margin(), "the supplier's fuse")
 
-    def assign(board_id: str, inherited: float | None, feeder: CircuitResult | None) -> None:
+    def assign(board_id: str, inherited: tuple[float, str] | None, feeder: CircuitResult | None) -> None:
         br = out.boards[f"{site.id}/{board_id}"]
-        candidates = [inherited, br.check.margin()]
+        candidates = [inherited]
+        if br.check.margin() is not None:
+            candidates.append((br.check.margin(), f"board {board_id}'s demand limit {br.check.limit:g} A"))
         if feeder is not None:
-            candidates.append(feeder.own_margin_a())
+            if feeder.own_margin_a() is not None:
+                candidates.append((feeder.own_margin_a(), f"the sub-main {feeder.circuit.board}/{feeder.circuit.id}"))
             per_a = br.ctx.v_per_a
             if slack.get(board_id) is not None and per_a > 0:
-                candidates.append(slack[board_id] / per_a)
+                candidates.append((slack[board_id] / per_a, f"the voltage drop of the circuits below {board_id}"))
         known = [c for c in candidates if c is not None]
-        br.margin_a = min(known) if known else None
+        tightest = min(known, key=lambda x: x[0]) if known else None
+        br.margin_a, br.margin_by = tightest if tightest else (None, "")
         for c in on_board[board_id]:
             if c.feeds:
-                assign(c.feeds, br.margin_a, out.circuits[f"{site.id}/{c.board}/{c.id}"])
+                assign(c.feeds, tightest, out.circuits[f"{site.id}/{c.board}/{c.id}"])
 
     for b in origin_boards:
         assign(b, supply_margin, None)
@@ -186,18 +192,57 @@ def explain_circuit(result: CircuitResult) -> CircuitResult:
 
 
 def headroom_kw(site_result: SiteResult, result: CircuitResult) -> float | None:
-    """Extra load (kW at unity power factor) the circuit could take before any check of it, or
-    upstream of it, fails; negative: how far over. None where an Ib-dependent check could not be
-    assessed. The extra current is taken to add at 100 % on every board above (no diversity)."""
+    """Extra load (kW at unity power factor) the circuit itself could take before any check of it
+    fails — its own cable, device and checks; negative: how far over. None where an Ib-dependent
+    check could not be assessed. The board's and the origin's spare demand are apart
+    (`board_spare_kw`, `origin_spare_kw`): a passing circuit on an overloaded board keeps its own
+    figure."""
     own = result.own_margin_a()
     if own is None:
         return None
-    # A sub-main's extra load arrives on the board it feeds, whose margin includes the sub-main's.
-    target = result.circuit.feeds or result.board_id
-    board = site_result.boards.get(f"{result.site_id}/{target}")
-    margin = own if board is None or board.margin_a is None else min(own, board.margin_a)
     sup = result.ctx.supply
     if result.circuit.three_phase:
         # a balanced three-phase load: P = √3 × U_L × I
-        return margin * three_phase.SQRT3 * (sup.u_line_v or three_phase.line_voltage_v(sup.u0_v)) / 1000.0
-    return margin * sup.u0_v / 1000.0
+        return own * three_phase.SQRT3 * (sup.u_line_v or three_phase.line_voltage_v(sup.u0_v)) / 1000.0
+    return own * sup.u0_v / 1000.0
+
+
+def board_spare_kw(site_result: SiteResult, board_ref: str) -> tuple[float | None, str]:
+    """(kW, what limits it): the extra load any circuit of the board could add before the board's
+    demand, a sub-main feeding it, a voltage drop below it or the origin fails (counted at 100 % on
+    every board above; negative: how far over)."""
+    br = site_result.boards.get(board_ref)
+    if br is None or br.margin_a is None:
+        return None, ""
+    return br.margin_a * site_result.site.supply.u0_v / 1000.0, br.margin_by
+
+
+def origin_spare_kw(site_result: SiteResult) -> float | None:
+    chk = site_result.supply_check
+    if chk is None or chk.margin() is None:
+        return None
+    return chk.margin() * site_result.site.supply.u0_v / 1000.0
+
+
+def spare_words(kw: float | None, what: str) -> str:
+    """'the board can take 3.1 kW more' / 'the board is 8.4 kW over'."""
+    if kw is None:
+        return f"{what}: spare not known"
+    return f"{what} can take {kw:.1f} kW more" if kw >= 0 else f"{what} is {-kw:.1f} kW over"
+
+
+def headroom_words(site_result: SiteResult, result: CircuitResult) -> str:
+    """Both figures in plain words: 'circuit can take 1.4 kW more; the board is 8.9 kW over (main switch)'."""
+    own = headroom_kw(site_result, result)
+    regardless = [c.id for c in result.checks if c.status == FAIL and c.ib_limit_a is None
+                  and c.id not in READING_CHECKS]
+    if regardless:
+        first = f"circuit fails {', '.join(regardless)} whatever its load"
+    elif own is None:
+        first = "circuit: headroom not known (a load-dependent check is not assessed)"
+    else:
+        first = spare_words(own, "circuit")
+    kw, by = board_spare_kw(site_result, f"{result.site_id}/{result.board_id}")
+    if kw is None:
+        return first
+    return f"{first}; {spare_words(kw, 'the board')}" + (f" (limit: {by})" if by else "")

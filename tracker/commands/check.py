@@ -51,7 +51,7 @@ class _JsonOut:
             from tracker.output import json_out
             self.json_out = json_out
         out.text = ", ".join(self._dump(self.json_out.circuit_entry(result, r)) for r in result.circuits.values())
-        out.boards = [self.json_out.board_entry(b) for b in result.boards.values()]
+        out.boards = [self.json_out.board_entry(b, result) for b in result.boards.values()]
         out.supply = self.json_out.supply_entry(result)
 
     def write(self, out: "SiteOut") -> None:

@@ -2,10 +2,11 @@
 schema/check-output.schema.json)."""
 from __future__ import annotations
 
+from tracker.checks import demand_remedy
 from tracker.checks import remedy as remedies
 from tracker.inspection.suggest import suggestions
 from tracker.checks.result import FAIL
-from tracker.checks.site import SiteResult, headroom_kw
+from tracker.checks.site import SiteResult, board_spare_kw, headroom_kw, origin_spare_kw
 from tracker.output.figures import rounded
 from tracker.engine import three_phase
 from tracker.model import PHASES
@@ -61,7 +62,7 @@ def phase_fields(r) -> dict:
     return out
 
 
-def board_entry(b) -> dict:
+def board_entry(b, sr: SiteResult | None = None) -> dict:
     entry = {"ref": b.ref, "demand_a": rounded(b.demand.demand_a, "A"), "status": b.status,
              "checks": [b.check.as_json()]}
     d = b.demand
@@ -70,12 +71,21 @@ def board_entry(b) -> dict:
                       "imbalance_pct": rounded(d.imbalance_pct, "%", 1)})
     elif b.ctx.line is not None:
         entry.update({"phases": 1, "phase": b.ctx.line})
+    if sr is not None:
+        spare, by = board_spare_kw(sr, b.ref)
+        entry["spare_kw"], entry["spare_limit"] = rounded(spare, "kW"), by or None
+        entry["table"] = b.demand.table
+        if b.status == FAIL:
+            entry["remedy"] = demand_remedy.for_board(sr, b.ref)
     return entry
 
 
 def supply_entry(sr: SiteResult) -> dict:
     chk = sr.supply_check
-    entry = {"ref": sr.site.id, "demand_a": rounded(chk.value, "A"), "status": chk.status, "checks": [chk.as_json()]}
+    entry = {"ref": sr.site.id, "demand_a": rounded(chk.value, "A"), "status": chk.status, "checks": [chk.as_json()],
+             "spare_kw": rounded(origin_spare_kw(sr), "kW")}
+    if chk.status == FAIL:
+        entry["remedy"] = demand_remedy.for_origin(sr)
     if sr.supply_phases_a is not None:
         lines = sr.supply_phases_a
         entry.update({"phases": 3, "demand_phases_a": _lines(lines),
@@ -91,7 +101,7 @@ def check_document(results, errors=(), warnings=()) -> dict:
     circuits, boards, supplies = [], [], []
     for sr in results:
         circuits.extend(circuit_entry(sr, r) for r in sr.circuits.values())
-        boards.extend(board_entry(b) for b in sr.boards.values())
+        boards.extend(board_entry(b, sr) for b in sr.boards.values())
         supplies.append(supply_entry(sr))
     return {
         "schema": SCHEMA,

@@ -2,11 +2,12 @@
 on one line under its circuit. Statuses are words and symbols, never colour alone."""
 from __future__ import annotations
 
+from tracker.checks import demand_remedy
 from tracker.checks import remedy as remedies
 from tracker.checks.readings import unmeasured
 from tracker.inspection.suggest import LABEL, suggestions
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
-from tracker.checks.site import SiteResult, headroom_kw
+from tracker.checks.site import SiteResult, board_spare_kw, headroom_kw, spare_words
 from tracker.output import figures
 from tracker.output.json_out import CAUTION  # noqa: F401 - the check command prints it from here
 from tracker.output.terminal_text import clean
@@ -37,9 +38,14 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
             demand = "three-phase; demand " + "/".join(f"{i:.1f}" for i in b.demand.phases_a) + " A (L1/L2/L3)"
         else:
             demand = (f"on {b.ctx.line}; " if b.ctx.line else "") + f"demand {b.demand.demand_a:.1f} A"
-        lines.append(f"-- {bref}  {clean(board.name)}  (fed by {fed}; {demand}) [{MARK[b.status].strip()}]")
+        spare, by = board_spare_kw(sr, bref)
+        lines.append(f"-- {bref}  {clean(board.name)}  (fed by {fed}; {demand}; "
+                     f"{spare_words(spare, 'board')}{f' — limit: {by}' if by else ''}) [{MARK[b.status].strip()}]")
         if b.status != PASS:
             lines.append(f"     {SYMBOL[b.status]} demand: {clean(b.check.detail)}")
+            fix = demand_remedy.for_board(sr, bref)
+            if fix:
+                lines.append(f"     → remedy: {clean(fix['text'])}")
         for r in by_board.get(b.board_id, []):
             if only_problems and r.status in (PASS,):
                 continue
@@ -63,6 +69,9 @@ def render_site(sr: SiteResult, only_problems: bool = False) -> list[str]:
                     lines.append(f"        → {LABEL}: {sug['code']} for {sug['check']} ({sug['why']})")
     if sr.supply_check is not None and sr.supply_check.status != PASS:
         lines.append(f"   {SYMBOL[sr.supply_check.status]} origin demand: {clean(sr.supply_check.detail)}")
+        fix = demand_remedy.for_origin(sr)
+        if fix:
+            lines.append(f"   → remedy: {clean(fix['text'])}")
     note = sr.notification
     if note is not None and note.route != "none" and (not only_problems or note.route == "apply-before"):
         lines.append(f"   network operator: {clean(note.detail())}")

@@ -16,7 +16,8 @@ from tracker.checks.readings import unmeasured
 from tracker.checks.fault_loop import FaultLoopWorking
 from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, SEVERITY, WARN
-from tracker.checks.site import SiteResult, evaluate_site
+from tracker.checks import demand_remedy
+from tracker.checks.site import SiteResult, board_spare_kw, evaluate_site, origin_spare_kw
 from tracker.graph import BOARD, CIRCUIT, LOAD, build_graph, kind_of
 from tracker.history import History, HistoryError, history_location, location_exists, shown_location
 from tracker.history import query
@@ -54,12 +55,20 @@ def _supply(site: Site, sr: SiteResult) -> dict:
 
 def _origin(sr: SiteResult) -> dict:
     chk = sr.supply_check
-    out = {"ref": sr.site.id, "status": chk.status, "demand_a": rounded(chk.value, "A"), "check": chk.as_json()}
+    out = {"ref": sr.site.id, "status": chk.status, "demand_a": rounded(chk.value, "A"), "check": chk.as_json(),
+           "spare_kw": rounded(origin_spare_kw(sr), "kW"), "remedy": _demand_remedy(demand_remedy.for_origin(sr))}
     if sr.supply_phases_a is not None:
         out["demand_phases_a"] = {ph: rounded(v, "A") for ph, v in zip(PHASES, sr.supply_phases_a)}
     if sr.notification is not None:
         out["network_operator"] = sr.notification.as_json()
     return out
+
+
+def _demand_remedy(found: dict | None) -> dict | None:
+    """A board's or the origin's remedy in the shape of a circuit's (its options as the changes)."""
+    if found is None:
+        return None
+    return {"text": found["text"], "changes": found["options"], "load_limit_kw": None}
 
 
 def _board(sr: SiteResult, b) -> dict:
@@ -77,6 +86,9 @@ def _board(sr: SiteResult, b) -> dict:
         "pfc_ka": rounded(ctx.pfc_ka, "kA"), "loop_at_board_ohm": rounded(ctx.z_ext_ohm, "ohm"),
         "check": b.check.as_json(),
         **_board_phases(b),
+        "diversity_table": b.demand.table,
+        "spare_kw": rounded(board_spare_kw(sr, b.ref)[0], "kW"), "spare_limit": board_spare_kw(sr, b.ref)[1] or None,
+        "remedy": _demand_remedy(demand_remedy.for_board(sr, b.ref)),
     }
 
 
@@ -212,7 +224,7 @@ def _problems(sr: SiteResult, circuits: list[dict], boards: list[dict], origin: 
             "status": entry["status"], "open_checks": listed,
             "acknowledgement": ack,
             "acknowledged": all(x["acknowledged"] for x in listed),
-            "remedy": entry.get("remedy") if kind == "circuit" else None,
+            "remedy": entry.get("remedy"),
         })
     items.sort(key=lambda p: -SEVERITY[p["status"]])   # stable: file order within a severity
     return items

@@ -175,8 +175,15 @@ def _board_row(b: dict) -> Safe:
               el("td", plain(b["rcd_ma"], "mA") if b["rcd_ma"] is not None else "—", class_="n"),
               el("td", num(b["pfc_ka"], "kA"), class_="n"),
               el("td", num(b["demand_a"], "A"), el("span", f"limit {num(b['check']['limit'], 'A')}", class_="lim"),
-                 class_="n"),
+                 el("span", _spare(b["spare_kw"]), class_="lim"), class_="n"),
               el("td", badge(b["status"])))
+
+
+def _spare(kw) -> str:
+    """The board's spare demand in words (apart from each circuit's own headroom)."""
+    if kw is None:
+        return "spare not known"
+    return f"can take {kw:.1f} kW more" if kw >= 0 else f"{-kw:.1f} kW over"
 
 
 def _diagram(doc: dict) -> Safe:
@@ -269,8 +276,9 @@ def _circuits(doc: dict) -> Safe:
                        "rewirable fuse). VD: voltage drop from the "
                        "origin to the far end, in % of U0, with its limit. Zs: earth fault loop impedance at the far "
                        f"end, with the device's maximum (or, where an RCD gives fault protection, RA·IΔn ≤ {TOUCH_VOLTAGE_V:g} V). "
-                       "Headroom: the extra load the circuit could take before a check of it, or of a board or "
-                       "sub-main above it, fails (negative: how far over). A mark beside a figure gives that "
+                       "Headroom: the extra load the circuit itself could take before a check of it fails "
+                       "(negative: how far over); the board's spare demand, before its demand, the sub-main feeding "
+                       "it or the origin fails, is in the boards' table. A mark beside a figure gives that "
                        "check's state when it does not pass; every check's working is in the appendix.",
                   class_="note"))
 
@@ -322,7 +330,7 @@ def _problem(p: dict) -> Safe:
     elif p["kind"] == "circuit":
         remedy = "no change is proposed: nothing fails (see the checks above)"
     else:
-        remedy = "izwatch proposes no remedy for a board's or the origin's maximum demand"
+        remedy = "no change is proposed: the demand does not fail (see the check above)"
     kind = {"circuit": "Circuit", "board": "Board", "origin": "Origin"}[p["kind"]]
     return el("article",
               el("h3", badge(p["status"]), " ", kind, " ", el("code", p["ref"]), " — ", p["name"]),
