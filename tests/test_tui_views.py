@@ -147,9 +147,9 @@ def test_the_working_is_the_engines_own(live):
     # every check the engine ran, but a check on readings with nothing measured (said in "As measured")
     assert [c.check_id for c in wk.checks] == [c.id for c in r.checks if not unmeasured(c)]
     assert lines[("As measured", "readings")].text.startswith("none recorded")
-    # the board's maximum demand after diversity, 136.63 A against its 100 A main switch (the demand
-    # check of orchard-end/CU1), leaves −36.63 A for any circuit on it: × 230 V = −8.43 kW
-    assert wk.wants_remedy and wk.headroom.startswith("-8.43 kW")
+    # headroom in two figures: the ring fails its capacity whatever its load; the board's spare
+    # demand apart, (100 − 136.6) A × 230 V = −8.4 kW (the engine's demand against the 100 A limits)
+    assert wk.wants_remedy and wk.headroom.startswith("circuit fails capacity whatever its load; the board is 8.4 kW over")
 
 
 def test_missing_figures_say_not_assessed_and_why(live):
