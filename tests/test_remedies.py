@@ -221,3 +221,39 @@ class TestHeadroomApart:
     def test_a_circuit_failing_whatever_its_load(self):
         sr = evaluate_site(_site("orchard-end"))
         assert headroom_words(sr, sr.circuits["orchard-end/CU1/1"]).startswith("circuit fails capacity whatever")
+
+
+class TestNameplateRounding:
+    EV = """\
+      site: {id: s}
+      supply: {system: TT, ze_ohm: 21, electrode_ohm: 40, pfc_ka: 1.5, service_fuse_a: 100}
+      boards:
+        - {id: DB1, fed_by: supply, main_switch_a: 100}
+      circuits:
+        - id: "1"
+          board: DB1
+          name: "Charge point"
+          device: {kind: rcbo, curve: B, rating_a: 32, breaking_ka: 6}
+          rcd_ma: 30
+          cable: {kind: twin-earth-70, csa_mm2: 6, cpc_mm2: 2.5, length_m: 8, method: C}
+          loads: [{id: ev, kind: ev-charger, power_kw: POWER, location: outdoor}]
+    """
+
+    def _dc(self, tmp_path, power):
+        s = _mini(tmp_path, self.EV.replace("POWER", power))
+        r = evaluate_site(s).circuits["s/DB1/1"]
+        return r, r.check("design-current")
+
+    def test_7_4_kw_is_32_a_rounded(self, tmp_path):
+        # 7.4 kW / 230 V = 32.17 A > 32 A, but 32 A × 230 V = 7.36 kW, which a nameplate gives as
+        # 7.4 kW (one decimal): not shown to exceed In, and no B40 proposed.
+        r, dc = self._dc(tmp_path, "7.4")
+        assert dc.status == "not-assessed" and dc.value == pytest.approx(7400 / 230)
+        assert "7.36 kW rounded" in dc.detail and "rated_current_a" in dc.detail
+        fix = remedy.find(r)
+        assert fix is None or "B40" not in fix["text"]
+
+    def test_7_6_kw_is_more_than_rounding(self, tmp_path):
+        # 7.6 kW / 230 V = 33.04 A: 7.36 kW does not round to 7.6 kW — a real excess.
+        _, dc = self._dc(tmp_path, "7.6")
+        assert dc.status == "fail"

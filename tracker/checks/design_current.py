@@ -154,6 +154,11 @@ def run(f: Facts, done) -> Outcome:
     ok = f.ib_a <= f.in_a
     word = "≤" if ok else ">"
     detail = f"{f.ib_how}; Ib {f.ib_a:.2f} A {word} In {f.in_a:g} A ({f.label}) — 433.1.1(i)" if f.explain else ""
+    rounding = None if ok else rounded_rating(f.circuit, f.in_a, f.ctx.supply.u0_v)
+    if rounding:
+        # A nameplate's kW is the rated current times the voltage, rounded: over In only by that
+        # rounding is not shown to exceed it (and a larger device is not the answer).
+        return Outcome(not_assessed(ID, "A", "<=", f"{detail}; but {rounding}", value=f.ib_a, limit=f.in_a), rec)
     status = verdict(ok)
     start = _starting_trip(f)
     if start:
@@ -175,3 +180,26 @@ def _starting_trip(f: Facts) -> str:
     return (f"starting current {total:g} A (maker's data) reaches the {f.label}'s instantaneous band from "
             f"{lower[0]:g} In = {band_a:g} A (BS EN 60898-1): it may trip on starting; a soft-start unit or "
             "the curve the maker asks for")
+
+
+def _places(x: float) -> int:
+    text = repr(float(x))
+    return len(text.split(".")[1].rstrip("0")) if "." in text and "e" not in text else 0
+
+
+def rounded_rating(circuit: Circuit, in_a: float, u0_v: float) -> str:
+    """Words where a single load given in kW exceeds In only by the rounding of its power figure:
+    In × U0 × pf rounded to the places the figure is given in is that figure (7.4 kW ≈ 32 A × 230 V
+    = 7.36 kW). Empty otherwise, or where the maker's rated current is already given."""
+    if len(circuit.loads) != 1 or circuit.design_current_a is not None:
+        return ""
+    ld = circuit.loads[0]
+    if ld.power_kw is None or ld.current_a is not None or getattr(ld, "rated_current_a", None) is not None:
+        return ""
+    eff = ld.efficiency if ld.efficiency is not None else 1.0
+    at_in_kw = in_a * u0_v * ld.power_factor * eff / 1000.0
+    places = _places(ld.power_kw)
+    if round(at_in_kw, places) != round(ld.power_kw, places):
+        return ""
+    return (f"{ld.power_kw:g} kW is {in_a:g} A × {u0_v:g} V = {at_in_kw:.2f} kW rounded: the appliance is likely "
+            f"rated {in_a:g} A — give the maker's rated_current_a to settle it, rather than a larger device")
