@@ -170,6 +170,15 @@ def test_board_and_origin_working(live):
     assert board.gauges[0].ratio == pytest.approx(snap.sites["orchard-end"].boards["orchard-end/CU1"].check.value / 100)
     origin = working_of(snap.by_ref["orchard-end"], snap)
     assert origin.kind == S.ORIGIN and origin.checks[0].check_id == "demand"
+    # the spare demand in words, the allowances used and the demand remedies, beside the figures
+    assert board.headroom.startswith("the board is 8.4 kW over")
+    lines = {(sec.title, ln.label): ln.text for sec in board.sections for ln in sec.lines}
+    assert "households" in lines[("Maximum demand", "allowances")]
+    assert "three-phase supply" in lines[("Remedy", "remedy")]
+    workshop = working_of(snap.by_ref["orchard-end/WS1"], snap)
+    assert "load management holding EV charge point" in {ln.label: ln.text for sec in workshop.sections
+                                                          for ln in sec.lines}["remedy"]
+    assert origin.headroom == "the origin is 8.4 kW over"
 
 
 def test_timeline_of_a_circuit(live):

@@ -24,6 +24,7 @@ from tracker.checks.readings import unmeasured
 from tracker.inspection.suggest import LABEL, suggestions
 from tracker.checks.rcd import RcdWorking
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult
+from tracker.checks import demand_remedy
 from tracker.checks.site import explain_circuit, SiteResult, headroom_words, origin_spare_kw, spare_words
 from tracker.checks.voltage_drop import VoltageDropWorking
 from tracker.output.terminal_text import clean
@@ -382,7 +383,11 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
             parts.insert(1, Line("neutral", f"{number(d.neutral_a, 'A')}, imbalance {d.imbalance_pct:.0f} %"))
         parts.append(Line("demand", number(b.demand.demand_a, "A") + (" (the largest line)" if d.phases_a else ""),
                           check.status))
+        parts.append(Line("allowances", clean(b.demand.table)))
         sections.append(Section("Maximum demand", tuple(parts)))
+        fix = demand_remedy.for_board(sr, row.ref)
+        if fix is not None:
+            sections.append(Section("Remedy", (Line("remedy", clean(fix["text"])),)))
         if b.margin_a is None:
             margin = "not assessed: a demand or a sub-main check upstream has no figure"
         else:
@@ -402,6 +407,9 @@ def board_working(row: Row, sr: SiteResult, snapshot: Snapshot | None = None) ->
             Line("demand", number(check.value, "A"), check.status),
             Line("supplier's fuse", number(check.limit, "A") if check.limit is not None else "not given"))))
         margin = spare_words(origin_spare_kw(sr), "the origin")
+        fix = demand_remedy.for_origin(sr)
+        if fix is not None:
+            sections.append(Section("Remedy", (Line("remedy", clean(fix["text"])),)))
         title = f"{clean(site.name) or site.id}: origin"
         file = site.files[0] if site.files else None
     gauges = tuple(g for g in (gauge(check),) if g is not None)

@@ -20,6 +20,7 @@ LEAST_MANAGED_A = 6.0          # the least current a charge point charges at (IE
 # three-phase supply), and main switch ratings (common practice).
 SERVICE_FUSES_A = (60.0, 80.0, 100.0)
 MAIN_SWITCHES_A = (63.0, 80.0, 100.0, 125.0)
+MOVE_TRIES = 12                # moves of a circuit tried (each re-checks the whole site)
 
 
 def _failing(sr: SiteResult) -> set[tuple[str, str]]:
@@ -73,16 +74,22 @@ def _managed(sr: SiteResult, boards: set[str], over_a: float, before, target, no
     return out
 
 
-def _moves(sr: SiteResult, board_id: str, before, target) -> list[str]:
+def _moves(sr: SiteResult, board_id: str, over_a: float, before, target) -> list[str]:
     site = sr.site
     mine = _below(site, board_id)
     others = [b for b in site.boards if b.id not in mine]
-    finals = sorted((c for c in site.circuits if c.board == board_id and not c.feeds and c.loads),
+    # only a circuit carrying at least the excess can put it right alone; the smallest such first
+    finals = sorted((c for c in site.circuits if c.board == board_id and not c.feeds and c.loads
+                     and (sr.circuits[f"{site.id}/{c.board}/{c.id}"].ib_a or 0.0) >= over_a),
                     key=lambda c: sr.circuits[f"{site.id}/{c.board}/{c.id}"].ib_a or 0.0)
+    tries = 0
     for c in finals:
         for b in others:
             if any(x.board == b.id and x.id == c.id for x in site.circuits):
                 continue
+            tries += 1
+            if tries > MOVE_TRIES:      # each try re-checks the whole site
+                return []
             moved = replace(site, circuits=tuple(replace(x, board=b.id) if x is c else x for x in site.circuits))
             if _puts_right(moved, before, target):
                 return [f"move circuit {c.id} ({c.name or 'unnamed'}) to board {b.id}, which has room for it "
@@ -135,7 +142,7 @@ def for_board(sr: SiteResult, board_ref: str) -> dict | None:
     over = chk.value - chk.limit
     notes: list[str] = []
     options = _managed(sr, _below(sr.site, br.board_id), over, before, target, notes)
-    options += _moves(sr, br.board_id, before, target)
+    options += _moves(sr, br.board_id, over, before, target)
     options += _larger(sr.site, br.board_id, chk.value, before, target, notes)
     return _remedy(over, options, notes)
 
