@@ -257,3 +257,17 @@ class TestNameplateRounding:
         # 7.6 kW / 230 V = 33.04 A: 7.36 kW does not round to 7.6 kW — a real excess.
         _, dc = self._dc(tmp_path, "7.6")
         assert dc.status == "fail"
+
+
+def test_check_json_carries_both_figures_and_the_board_remedies():
+    from tracker.output.json_out import check_document
+    sr = evaluate_site(_site("orchard-end"))
+    doc = check_document([sr])
+    cooker = next(c for c in doc["circuits"] if c["ref"] == "orchard-end/CU1/3")
+    assert cooker["headroom_kw"] == pytest.approx(2.3, abs=0.005)     # its own: (32 − 22) A × 230 V
+    ws1 = next(b for b in doc["boards"] if b["ref"] == "orchard-end/WS1")
+    assert ws1["spare_kw"] < 0 and ws1["spare_limit"] == "the supplier's fuse"
+    assert ws1["remedy"]["options"] and "households" in ws1["table"]
+    origin = doc["supplies"][0]
+    assert origin["spare_kw"] == pytest.approx(-(sr.supply_check.value - 100) * 230 / 1000, abs=0.005)
+    assert "three-phase" in origin["remedy"]["text"]
