@@ -138,3 +138,11 @@ def test_motor_current_with_power_factor_and_efficiency(tmp_path):
     # input power = output / efficiency; I = P / (U0 × pf) (physics): 2200 / 0.8 / (230 × 0.85)
     assert sr.circuits["s/DB1/1"].ib_a == pytest.approx(2200 / 0.8 / (230 * 0.85))
     assert "efficiency 0.8" in sr.circuits["s/DB1/1"].check("design-current").detail
+
+
+@pytest.mark.parametrize("premises", ["domestic", "shop-office", "hotel"])
+def test_charge_points_at_100_percent_in_every_table(tmp_path, premises):
+    ev = [_circuit(str(i), f"Charge point {i}", "ev-charger", 32, ["{id: ev, kind: ev-charger, current_a: 32}"], csa=6)
+          for i in (1, 2)]
+    parts, _ = _parts(_site(tmp_path, premises, ev))
+    assert parts["ev-charging"] == pytest.approx(64)     # no diversity for charge points (BS 7671 722.311)
