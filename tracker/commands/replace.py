@@ -11,7 +11,8 @@ from pathlib import Path
 from tracker import graph
 from tracker.checks import remedy as remedies
 from tracker.checks.result import FAIL
-from tracker.checks.site import headroom_kw
+from tracker.checks import demand_remedy
+from tracker.checks.site import headroom_kw, headroom_words
 from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
 from tracker.commands.common import (CommandError, check_root, disk_full, fail, folder_of_site, open_history,
                                      plain_name)
@@ -314,10 +315,16 @@ def _summary(request: _Request, done: _Done, load_ref: str, note: str | None) ->
     failing |= upstream_failing
     headroom_before, headroom_after = headroom_kw(before, old_result), headroom_kw(after, new_result)
     lines.append(f"headroom: {_kw(headroom_before)} → {_kw(headroom_after)}")
+    lines.append(f"  {headroom_words(after, new_result)}")
     if new_result.status == FAIL:
         fix = remedies.find(new_result)
         if fix:
             lines.append(f"remedy: {clean(fix['text'])}")
+    board_ref = f"{new_result.site_id}/{new_result.board_id}"
+    if after.boards.get(board_ref) is not None and after.boards[board_ref].status == FAIL:
+        fix = demand_remedy.for_board(after, board_ref)
+        if fix:
+            lines.append(f"board remedy: {clean(fix['text'])}")
     lines.append("Caution: verify against the current regulations and the maker's data; work on "
                  "installations is for qualified people.")
     return lines, failing
