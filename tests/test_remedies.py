@@ -289,3 +289,16 @@ def test_the_demo_every_failure_has_a_remedy_or_a_plain_reason_and_no_socket_cab
                 assert demand_remedy.for_board(sr, ref)["text"], ref
         if sr.supply_check.status == "fail":
             assert demand_remedy.for_origin(sr)["text"], site_id
+
+
+def test_a_three_phase_board_over_in_one_line_gets_a_move_to_another_line():
+    # heron-row: flats 1 and 3 both on L1 (123.8 A of 100 A per line), L3 lightly loaded: moving
+    # flat 1's feed to L3 brings every line within 100 A; re-checked on the whole site.
+    s = _site("heron-row")
+    sr = evaluate_site(s)
+    fix = demand_remedy.for_board(sr, "heron-row/LB")
+    assert any(o.startswith("move circuit LB/3") and o.endswith("from L1 to L3") for o in fix["options"])
+    moved = _with_circuit(s, "LB", "3", phase="L3")
+    after = evaluate_site(moved)
+    assert after.boards["heron-row/LB"].check.status == "pass" and after.supply_check.status == "pass"
+    assert "three-phase supply" not in fix["text"]       # it has one: a larger supply, not a three-phase one

@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 from dataclasses import replace
 
+from tracker.checks import demand as demand_checks
 from tracker.checks.design_current import load_current_a
 from tracker.checks.result import FAIL
 from tracker.checks.site import SiteResult, evaluate_site
@@ -74,6 +75,22 @@ def _managed(sr: SiteResult, boards: set[str], over_a: float, before, target, no
     return out
 
 
+def _line_moves(sr: SiteResult, board_id: str, limit_a: float, before, target) -> list[str]:
+    """A three-phase board: a single-phase circuit (or a flat's feed) moved from the most loaded
+    line to the least loaded one (the moves the demand check finds), re-checked on the whole site."""
+    br = sr.boards.get(f"{sr.site.id}/{board_id}")
+    if br is None or br.demand.phases_a is None:
+        return []
+    site = sr.site
+    for cid, src, dst, _new in demand_checks.move_remedies(br.demand, limit_a)[:MOVE_TRIES]:
+        moved = replace(site, circuits=tuple(replace(c, phase=dst) if (c.board, c.id) == (board_id, cid) else c
+                                             for c in site.circuits))
+        if _puts_right(moved, before, target):
+            name = next((c.name for c in site.circuits if (c.board, c.id) == (board_id, cid)), "")
+            return [f"move circuit {board_id}/{cid}{f' ({name})' if name else ''} from {src} to {dst}"]
+    return []
+
+
 def _moves(sr: SiteResult, board_id: str, over_a: float, before, target) -> list[str]:
     site = sr.site
     mine = _below(site, board_id)
@@ -114,7 +131,11 @@ def _larger(site: Site, board_id: str | None, demand_a: float, before, target, n
             return out
     if sup.service_fuse_a is not None and sup.service_fuse_a < demand_a:
         fuse = next((r for r in SERVICE_FUSES_A if r >= demand_a), None)
-        if fuse is None:
+        if fuse is None and sup.three_phase:
+            notes.append(f"{demand_a:.1f} A in a line is beyond the largest standard service fuse "
+                         f"({SERVICE_FUSES_A[-1]:g} A per line): less demand, the lines balanced, or a larger supply "
+                         "(for the network operator to offer; not re-checked here)")
+        elif fuse is None:
             notes.append(f"{demand_a:.1f} A is beyond the largest standard single-phase service fuse "
                          f"({SERVICE_FUSES_A[-1]:g} A): less demand, or a three-phase supply (for the network operator "
                          "to offer; not re-checked here)")
@@ -142,6 +163,7 @@ def for_board(sr: SiteResult, board_ref: str) -> dict | None:
     over = chk.value - chk.limit
     notes: list[str] = []
     options = _managed(sr, _below(sr.site, br.board_id), over, before, target, notes)
+    options += _line_moves(sr, br.board_id, chk.limit, before, target)
     options += _moves(sr, br.board_id, over, before, target)
     options += _larger(sr.site, br.board_id, chk.value, before, target, notes)
     return _remedy(over, options, notes)
@@ -156,6 +178,9 @@ def for_origin(sr: SiteResult) -> dict | None:
     over = chk.value - chk.limit
     notes: list[str] = []
     options = _managed(sr, {b.id for b in sr.site.boards}, over, before, target, notes)
+    for b in sr.site.boards:
+        if b.at_origin:
+            options += _line_moves(sr, b.id, chk.limit, before, target)
     options += _larger(sr.site, None, chk.value, before, target, notes)
     return _remedy(over, options, notes)
 
