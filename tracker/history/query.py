@@ -120,25 +120,92 @@ def _upto(upto: int | None) -> int:
 
 def failing_since(history: History, into: dict | None = None, after: int = 0,
                   upto: int | None = None) -> dict[tuple[str, str], dict]:
-    """(ref, check) -> the revision of its latest newly-failing or worse event, with the cause.
+    """(ref, check) -> the revision of its latest newly-failing event, with the cause, and
+    (`worse_revision`) the latest "worse" not undone since.
+
+    A "worse" is undone when a later revision brings the check back to (or below) how badly it
+    failed before that "worse" (the results each revision recorded say how it stood): the edit
+    that made a problem worse, then reverted, is no longer its cause. How badly is the distance
+    past the limit on the failing side (known from the newly-failing event, whose value was past
+    its limit). `worse` keeps, for each "worse" still in force, its revision and how badly the
+    check failed before it; `level`, how badly it failed at the latest of these events.
 
     `into`, `after`, `upto`: folded into an earlier answer, as for `latest_acks`.
     """
     out = {} if into is None else into
-    for rid, ref, check, transition, at, author, note, file in history.db.execute(
-            "SELECT e.revision_id, e.ref, e.check_id, e.transition, r.at, r.author, r.note, r.file "
-            f"FROM events e JOIN {named(history)} r ON r.id = e.revision_id "
-            "WHERE e.revision_id > ? AND e.revision_id <= ? "
-            "AND e.transition IN ('newly-failing', 'worse', 'cleared') ORDER BY e.revision_id", [after, _upto(upto)]):
+    rows = history.db.execute(
+        "SELECT e.revision_id, e.ref, e.check_id, e.transition, e.value, e.limit_value, r.at, r.author, r.note, "
+        f"r.file FROM events e JOIN {named(history)} r ON r.id = e.revision_id "
+        "WHERE e.revision_id > ? AND e.revision_id <= ? "
+        "AND e.transition IN ('newly-failing', 'worse', 'cleared') ORDER BY e.revision_id, e.seq",
+        [after, _upto(upto)]).fetchall()
+    steps = [(row[0], 0, row) for row in rows]
+    # The recorded results of the elements with a "worse" in force: how each later revision left them.
+    watched = {k[0] for k, v in out.items() if v.get("worse")} | {row[1] for row in rows if row[3] == "worse"}
+    if watched:
+        refs = sorted(watched)
+        for start in range(0, len(refs), 500):
+            chunk = refs[start:start + 500]
+            marks = ",".join("?" * len(chunk))
+            for rid, ref, checks in history.db.execute(
+                    f"SELECT revision_id, ref, checks FROM results WHERE revision_id > ? AND revision_id <= ? "
+                    f"AND ref IN ({marks})", [after, _upto(upto), *chunk]):
+                steps.append((rid, 1, (ref, checks)))
+    steps.sort(key=lambda s: (s[0], s[1]))
+    for rid, kind, row in steps:
+        if kind == 1:
+            _unwind(out, rid, *row)
+            continue
+        _, ref, check, transition, value, limit, at, author, note, file = row
         key = (ref, check)
         if transition == "cleared":
             out.pop(key, None)
         elif transition == "newly-failing" or key not in out:
-            out[key] = {"revision": rid, "at": at, "author": author, "note": note, "file": file,
-                        "transition": transition}
+            side = None if value is None or limit is None or value == limit else (1 if value > limit else -1)
+            entry = {"revision": rid, "at": at, "author": author, "note": note, "file": file,
+                     "transition": transition, "side": side, "worse": ()}
+            entry["level"] = _past(entry, value, limit)
+            out[key] = entry
         else:
-            out[key] = {**out[key], "worse_revision": rid}
+            entry = dict(out[key])
+            entry["worse"] = (*entry.get("worse", ()), (rid, entry.get("level")))
+            entry["level"] = _past(entry, value, limit)
+            entry["worse_revision"] = rid
+            out[key] = entry
     return out
+
+
+def _past(entry: dict, value, limit) -> float | None:
+    """How far past its limit a failing check stands (larger: worse), on the entry's failing side."""
+    side = entry.get("side")
+    if side is None or value is None or limit is None:
+        return None
+    return side * (value - limit)
+
+
+def _unwind(out: dict, rid: int, ref: str, checks_json: str) -> None:
+    """A revision's recorded results of `ref`: every "worse" it undoes is taken off."""
+    checks = _load(checks_json, rid)
+    if not isinstance(checks, dict):
+        return
+    for check, figures in checks.items():
+        entry = out.get((ref, check))
+        if entry is None or not entry.get("worse") or not isinstance(figures, list) or len(figures) < 3:
+            continue
+        now = _past(entry, figures[1], figures[2])
+        if now is None:
+            continue
+        stack = list(entry["worse"])
+        while stack and stack[-1][0] < rid and stack[-1][1] is not None and now <= stack[-1][1] + 1e-9:
+            stack.pop()
+        if len(stack) == len(entry["worse"]):
+            continue
+        entry = {k: v for k, v in entry.items() if k != "worse_revision"}
+        entry["worse"] = tuple(stack)
+        entry["level"] = now
+        if stack:
+            entry["worse_revision"] = stack[-1][0]
+        out[(ref, check)] = entry
 
 
 def refs_touched(history: History, after: int, upto: int) -> set[str]:
