@@ -47,6 +47,7 @@ def news_lines(news: list[News]) -> tuple[list[str], list[str]]:
             continue
         if n.loads_again:
             good.append(f"✓ loads again: {n.file}")
+        bad.extend(f"! warning: {w}" for w in n.warnings)
         for e in n.events:
             if e["transition"] in ("newly-failing", "worse"):
                 word = "▲ newly failing" if e["transition"] == "newly-failing" else "▼ worse"

@@ -50,12 +50,14 @@ class News:
     author: str = ""
     revision: int = 0
     loads_again: bool = False             # it had an input error and loads now
+    warnings: tuple[str, ...] = ()        # what a save brought that `check` warns of (misspelt keys first)
 
     @classmethod
     def of(cls, u: Update) -> "News":
         o = u.outcome
         return cls(clean(o.file), o.valid, o.first_record, tuple(o.events), tuple(clean(e) for e in o.errors),
-                   clean(u.recorded.author), u.recorded.id, o.loads_again)
+                   clean(u.recorded.author), u.recorded.id, o.loads_again,
+                   tuple(clean(t) for t in o.misspelt) + tuple(clean(w) for w in o.new_warnings))
 
 
 @dataclass

@@ -19,7 +19,7 @@ from tracker.checks.readings import unmeasured
 from tracker.checks.site import SiteResult
 from tracker.history import History
 from tracker.history.query import failing_since, latest_acks, refs_touched, revisions_by_id
-from tracker.loading.errors import InputError
+from tracker.loading.errors import InputError, sort_problems
 from tracker.output.terminal_text import clean
 from tracker.tracking.state import EstateState
 from tui.wording import ACKED, NEW, STATES, change_text
@@ -88,6 +88,7 @@ class Snapshot:
     since: dict[tuple[str, str], dict]    # (ref, check) -> failing_since entry, for failing checks
     first_record: bool = False            # this start made the estate's first record
     files_in_force: frozenset = frozenset()   # site files whose (last good) content the results stand on
+    warnings: tuple = ()                  # what `check` warns of in the files as they load (LoadWarning)
 
     def site_of(self, ref: str) -> SiteResult | None:
         return self.sites.get(ref.split("/")[0])
@@ -276,8 +277,9 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     errors = tuple(e for rel in sorted(state.errors) for e in state.errors[rel])
     in_force = frozenset(f for sr in results for f in sr.site.files)
     head, _ = history.head()
+    warnings = tuple(sort_problems([w for files in state.good.values() for f in files.values() for w in f.warnings]))
     return Snapshot(tuple(rows), by_ref, {sr.site.id: sr for sr in results}, errors, counts,
-                    n_circuits, history.count(), head, kept_since, first_record, in_force)
+                    n_circuits, history.count(), head, kept_since, first_record, in_force, warnings)
 
 
 # -- the list's filters -------------------------------------------------------------------

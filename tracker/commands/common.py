@@ -67,6 +67,27 @@ def fail(exc: Exception) -> int:
     return EXIT_INPUT
 
 
+def warning_lines(outcome, recorded, as_json: bool) -> list[str]:
+    """Lines for what a save brought that `check` would warn of: a change that comes only from a
+    misspelt key first, then each new warning (a key not in the schema)."""
+    out = []
+    base = {"ref": outcome.site_id, "check": None, "file": outcome.file,
+            "revision": recorded.id if recorded else None, "at": recorded.at if recorded else None}
+    for text in getattr(outcome, "misspelt", ()):
+        out.append(json.dumps({"event": "check-spelling", "transition": "check-spelling", **base, "detail": text},
+                              ensure_ascii=False) if as_json else f"CHECK SPELLING  {clean(text)}")
+    for w in getattr(outcome, "new_warnings", ()):
+        out.append(json.dumps({"event": "warning", "transition": "warning", **base, "line": w.line, "col": w.col,
+                               "detail": str(w)}, ensure_ascii=False) if as_json else f"WARNING  {clean(w)}")
+    return out
+
+
+def state_warnings(state) -> list:
+    """Every warning of the files as the state holds them (those `check` gives), sorted."""
+    from tracker.loading.errors import sort_problems
+    return sort_problems([w for files in state.good.values() for result in files.values() for w in result.warnings])
+
+
 def loads_again_line(outcome, recorded, as_json: bool) -> str:
     """The line for a file that loads again after an input error (it may change no check)."""
     if as_json:

@@ -9,7 +9,7 @@ import threading
 from tracker.cli import EXIT_OK
 from tracker.progress import Progress
 from tracker.commands.common import (CommandError, check_root, db_path, event_line, fail, loads_again_line,
-                                     open_history)
+                                     open_history, state_warnings, warning_lines)
 from tracker.output.streams import stdout_gone
 from tracker.output.terminal_text import clean
 from tracker.history import shown_location
@@ -32,6 +32,8 @@ def emit_updates(updates, as_json: bool, verbose: bool = False) -> None:
             _print(f"· {clean(o.file)}: {tag} ({u.source}, by {clean(rec.author)}) {changes}")
         if o.loads_again:
             _print(loads_again_line(o, rec, as_json))
+        for line in warning_lines(o, rec, as_json):
+            _print(line)
         for e in o.events:
             _print(event_line(e, o, rec, as_json))
 
@@ -61,6 +63,8 @@ def run(args) -> int:
         for _, errs in sorted(state.errors.items()):
             for e in errs:
                 print(clean(e), file=sys.stderr)
+        for w in state_warnings(state):       # what `check` would warn of, as `check` writes it
+            print(clean(w), file=sys.stderr)
         failing = sum(1 for sr in state.site_results() for r in sr.circuits.values() if r.status == "fail")
         first = bool(updates) and all(u.outcome.first_record for u in updates)
         if args.json:

@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 from tracker.history import NewRevision
 from tracker.loading.errors import InputError
 from tracker.tracking.diff import Change
+from tracker.tracking.warnings import warnings_note
 
 
 @dataclass
@@ -24,6 +25,9 @@ class FileOutcome:
     results: list[tuple] = field(default_factory=list)
     rechecked: int = 0             # circuits whose checks were re-run
     first_record: bool = False     # the first record of the file (nothing before it to compare with)
+    warnings: list = field(default_factory=list)     # the file's warnings as it loads now (LoadWarning)
+    new_warnings: list = field(default_factory=list)  # those this save brought
+    misspelt: list[str] = field(default_factory=list)  # element changes that come only from an unknown key
     along: list["FileOutcome"] = field(default_factory=list)   # files saved with it: one change across files
     loads_again: bool = False      # the file had an input error and loads now
 
@@ -50,7 +54,7 @@ def to_revision(outcome: FileOutcome, source: str, author: str, note: str | None
     """The revision recording `outcome` (`source`: startup, watch, replace)."""
     return NewRevision(
         source=source, author=str(author), file=outcome.file, site=outcome.site_id, content=outcome.content,
-        content_hash=outcome.content_hash, valid=outcome.valid, note=note,
+        content_hash=outcome.content_hash, valid=outcome.valid, note=warnings_note(outcome, note),
         changes=[c.as_row() for c in outcome.changes], results=outcome.results, events=outcome.events,
         signature=getattr(author, "signature", None), signer=getattr(author, "signer", None),
     )

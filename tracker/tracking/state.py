@@ -28,6 +28,7 @@ from tracker.tracking import impact
 from tracker.tracking.diff import ADDED, REMOVED, Change, diff_file, elements
 from tracker.events import input_error_event
 from tracker.tracking.outcome import FileOutcome
+from tracker.tracking.warnings import note_warnings
 from tracker.tracking.transitions import compare
 
 __all__ = ["EstateState", "FileOutcome", "FolderSeed", "SiteState", "seed_folder", "seed_in_parallel"]
@@ -308,6 +309,7 @@ class EstateState:
         else:
             self.hashes[rel] = digest
         good = dict(self.good.get(folder, {}))
+        held = good.get(rel)
         if result is not None and result.errors:   # every problem at once, as `check` reports them
             errors = _problems_by_file(self.folder_name(folder), folder, {**good, rel: result}, {rel: result.errors})
             return self._input_error(rel, folder, raw, digest, errors[rel])
@@ -339,6 +341,8 @@ class EstateState:
         self.good[folder] = good
         outcome = self._take_site(rel, raw, digest, site_state, loaded.site, along)
         outcome.loads_again = had_errors and result is not None
+        if result is not None:
+            note_warnings(outcome, result.warnings, held.warnings if held is not None else ())
         return outcome
 
     def _saved_alongside(self, good: dict[str, FileResult], alongside: dict[str, bytes]) -> dict[str, tuple]:

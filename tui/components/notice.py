@@ -15,13 +15,16 @@ class Notice(Static):
     def __init__(self, **kwargs):
         super().__init__("", markup=False, **kwargs)
         self.errors: tuple[InputError, ...] = ()
+        self.warnings: tuple = ()
         self.failure = ""
         self.in_force: frozenset = frozenset()
         self.display = False
 
-    def show_errors(self, errors: tuple[InputError, ...], in_force: frozenset = frozenset()) -> None:
+    def show_errors(self, errors: tuple[InputError, ...], in_force: frozenset = frozenset(),
+                    warnings: tuple = ()) -> None:
         self.errors = tuple(errors)
         self.in_force = in_force
+        self.warnings = tuple(warnings)
         self._draw()
 
     def show_failure(self, text: str) -> None:
@@ -39,6 +42,9 @@ class Notice(Static):
             kept = ("the last good state of the file is kept" if first.file in self.in_force
                     else "its site is left out until it loads")
             lines.append(f"⚠ input error: {clean(first)}{tail} — {kept}")
+        if self.warnings and not self.errors:   # what `check` warns of (a misspelt key is ignored)
+            more = len(self.warnings) - 1
+            lines.append(f"! {clean(self.warnings[0])}" + (f" (+{more} more)" if more else ""))
         self.set_class(bool(self.failure), "-failure")
         self.display = bool(lines)
         self.update("\n".join(lines))

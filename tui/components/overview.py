@@ -75,7 +75,7 @@ class OverviewScreen(Screen):
         tally.checking = False
         tally.snapshot = snapshot
         self.query_one(FilterBar).set_counts(filter_counts(snapshot))
-        self.query_one(Notice).show_errors(snapshot.errors, snapshot.files_in_force)
+        self.query_one(Notice).show_errors(snapshot.errors, snapshot.files_in_force, snapshot.warnings)
         self._refilter()
         if self.view == ESTATE:
             self.query_one(EstateTree).show(snapshot)
