@@ -31,7 +31,7 @@ def rows(snapshot, on: datetime.date, show_done: bool = False) -> list[DueRow]:
     """Overdue first, then due soon, then the rest, each by date; done items only if asked."""
     items = []
     for sr in snapshot.sites.values():
-        items.extend(dues.site_items(sr.site, on))
+        items.extend(dues.site_items(sr.site, on, sr.notification))
     if not show_done:
         items = [i for i in items if i.status != dues.DONE]
     items.sort(key=lambda i: (ORDER[i.status], i.due, i.site, i.what))
@@ -42,6 +42,6 @@ def rows(snapshot, on: datetime.date, show_done: bool = False) -> list[DueRow]:
 def counts(snapshot, on: datetime.date) -> dict[str, int]:
     out = {s: 0 for s in dues.STATUSES}
     for sr in snapshot.sites.values():
-        for i in dues.site_items(sr.site, on):
+        for i in dues.site_items(sr.site, on, sr.notification):
             out[i.status] += 1
     return out

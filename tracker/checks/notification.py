@@ -201,14 +201,17 @@ def deadlines(site: Site, outcome: Outcome) -> list[dict]:
     return out
 
 
-def site_due(site: Site) -> list[dict]:
-    """`deadlines` of a site as it stands (its maximum demand computed only where a device has a
-    connection date)."""
+def site_due(site: Site, outcome: Outcome | None = None) -> list[dict]:
+    """`deadlines` of a site as it stands. `outcome`: the site's `origin_state` where its checks
+    have been run already (`SiteResult.notification`); without it the site is evaluated, and only
+    where a device has a connection date."""
     if not any(d.connected_on for d in devices(site)):
         return []
-    from tracker.checks.site import evaluate_site
+    if outcome is None:
+        from tracker.checks.site import evaluate_site
 
-    return deadlines(site, evaluate_site(site, explain=False).notification)
+        outcome = evaluate_site(site, explain=False).notification
+    return deadlines(site, outcome)
 
 
 def due_items(site: Site, outcome: Outcome, on: date, soon_days: int = SOON_DAYS) -> list[dict]:

@@ -55,8 +55,10 @@ def _observation_ref(site: Site, x: Inspection, o: Observation) -> str:
     return f"{site.id}/{o.ref}" if o.ref else inspection_ref(site.id, x)
 
 
-def site_items(site: Site, on: datetime.date) -> list[DueItem]:
-    """The site's deadlines on the day `on`, soonest first."""
+def site_items(site: Site, on: datetime.date, origin=None) -> list[DueItem]:
+    """The site's deadlines on the day `on`, soonest first. `origin`: the site's network-operator
+    outcome where its checks have been run already (`SiteResult.notification`: the site is then
+    not evaluated again)."""
     rules = ruleset_for(site.jurisdiction, site.tenure)
     duties = rules.duties if rules is not None else {}
     items = _next_inspection(site, on, duties)
@@ -68,18 +70,18 @@ def site_items(site: Site, on: datetime.date) -> list[DueItem]:
             continue
         for n, o in enumerate(x.observations, 1):
             items.extend(_observation_items(site, x, n, o, on, duties))
-    items.extend(_network_operator_items(site, on))
+    items.extend(_network_operator_items(site, on, origin))
     items.sort(key=lambda i: (i.due, i.what))
     return items
 
 
-def _network_operator_items(site: Site, on: datetime.date) -> list[DueItem]:
+def _network_operator_items(site: Site, on: datetime.date, origin=None) -> list[DueItem]:
     """Telling the network operator of a source, charge point or heat pump whose connection date is
     recorded (tracker/checks/notification.py: EREC G98/G99, the operators' connect-and-notify)."""
     from tracker.checks import notification
 
     out = []
-    for x in notification.site_due(site):
+    for x in notification.site_due(site, origin):
         done = datetime.date.fromisoformat(x["notified_on"]) if x["notified_on"] else None
         due = datetime.date.fromisoformat(x["due"])
         out.append(DueItem(site.id, x["what"], due, status_on(due, on, notification.SOON_DAYS, done),

@@ -12,10 +12,10 @@ from tracker.model import Site
 CHECK = "deadline"   # the check id the events carry (no circuit check has it)
 
 
-def _overdue(site: Site | None, on: datetime.date) -> dict[tuple, dues.DueItem]:
+def _overdue(site: Site | None, on: datetime.date, origin=None) -> dict[tuple, dues.DueItem]:
     if site is None:
         return {}
-    return {(i.ref, i.duty, i.about): i for i in dues.site_items(site, on) if i.status == dues.OVERDUE}
+    return {(i.ref, i.duty, i.about): i for i in dues.site_items(site, on, origin) if i.status == dues.OVERDUE}
 
 
 def _event(i: dues.DueItem, transition: str, on: datetime.date) -> dict:
@@ -26,10 +26,13 @@ def _event(i: dues.DueItem, transition: str, on: datetime.date) -> dict:
             "unit": "days", "compare": "<=", "detail": detail}
 
 
-def deadline_events(old: Site | None, new: Site | None, on: datetime.date) -> list[dict]:
+def deadline_events(old: Site | None, new: Site | None, on: datetime.date,
+                    old_origin=None, new_origin=None) -> list[dict]:
     """newly-failing for each deadline overdue after the change and not before it; cleared for
-    each overdue before and not after (done, or no longer asked for)."""
-    before, after = _overdue(old, on), _overdue(new, on)
+    each overdue before and not after (done, or no longer asked for). `old_origin`/`new_origin`:
+    the network-operator outcomes of the two evaluations the change already made
+    (`SiteResult.notification`), so neither site is evaluated again for its deadlines."""
+    before, after = _overdue(old, on, old_origin), _overdue(new, on, new_origin)
     out = [_event(i, "newly-failing", on) for k, i in after.items() if k not in before]
     out += [_event(i, "cleared", on) for k, i in before.items() if k not in after]
     return out

@@ -57,7 +57,7 @@ def _measurement_row(site_id: str, sr: SiteResult, m, test_c: float) -> dict:
 def section(sr: SiteResult, on: datetime.date) -> dict:
     """The `inspections` part of the report document for the day `on`."""
     site = sr.site
-    items = dues.site_items(site, on)
+    items = dues.site_items(site, on, sr.notification)
     remedial = {i.about: i for i in items if i.duty == "remedial"}
     records = []
     for x in reversed(site.inspections):             # newest first

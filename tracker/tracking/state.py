@@ -168,11 +168,15 @@ class EstateState:
         return explain_circuit(site_state.result.circuits[ref])
 
     def explain_events(self, events: list[dict], result: SiteResult | None) -> None:
-        """Give each event the working text of its check (the state keeps no text)."""
+        """Give each event the working text of its check (the state keeps no text): each circuit
+        with events is worded once, however many of its checks changed."""
+        worded: dict[str, object] = {}
         for e in events:
             r = result.circuits.get(e["ref"]) if result is not None else None
             if r is not None and not e.get("detail"):
-                full = explain_circuit(r).check(e["check"])
+                if e["ref"] not in worded:
+                    worded[e["ref"]] = explain_circuit(r)
+                full = worded[e["ref"]].check(e["check"])
                 if full is not None:
                     e["detail"] = full.detail
 
@@ -404,7 +408,9 @@ class EstateState:
         new_result = evaluate_site(new_site, old_result, recheck, explain=False)
         events, results = compare(old_result, new_result)
         self.explain_events(events, new_result)
-        events += deadline_events(old_site, new_site, self.today())
+        events += deadline_events(old_site, new_site, self.today(),
+                                  old_result.notification if old_result is not None else None,
+                                  new_result.notification)
         site_state.site, site_state.result = new_site, new_result
         self._place(site_state)
         rechecked = len(new_site.circuits) if recheck is None else len(recheck)
