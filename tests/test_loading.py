@@ -223,11 +223,14 @@ def test_misspelt_key_warns_but_loads(site_factory):
 
 def test_unreadable_file_is_an_error(site_factory, monkeypatch):
     root = site_factory(MINIMAL)
-    from pathlib import Path
+    import os
+    real_open = os.open
 
-    def refuse(self):
-        raise PermissionError(13, "Permission denied")
-    monkeypatch.setattr(Path, "read_bytes", refuse)
+    def refuse(path, *args, **kwargs):      # what mode 000 does to anyone but root
+        if str(path).endswith("site.yaml"):
+            raise PermissionError(13, "Permission denied")
+        return real_open(path, *args, **kwargs)
+    monkeypatch.setattr(os, "open", refuse)
     result = read_file(root / "flat-1" / "site.yaml", "flat-1/site.yaml")
     assert [str(e) for e in result.errors] == ["flat-1/site.yaml:1:1: cannot be read (Permission denied)"]
 

@@ -19,7 +19,7 @@ from tracker.checks.result import FAIL
 from tracker.checks.site import evaluate_site
 from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
 from tracker.loading.errors import InputError, sort_problems
-from tracker.loading.estate import EstateError, duplicate_site_id, load_site, site_folders
+from tracker.loading.estate import EstateError, duplicate_site_id, load_site, site_folders, split_problems
 from tracker.output.terminal_text import clean
 from tracker.parallel import each_in_runs
 from tracker.progress import Progress
@@ -151,7 +151,7 @@ def load_and_check(shared, item) -> SiteOut:
 def run(args) -> int:
     root = Path(args.path)
     try:
-        single, folders, warnings = site_folders(root)
+        single, folders, problems = site_folders(root)
     except EstateError as exc:
         print(f"izwatch: {clean(exc)}", file=sys.stderr)
         if args.json:
@@ -161,8 +161,7 @@ def run(args) -> int:
         return EXIT_INPUT
     out = _JsonOut(sys.stdout, sys.stdout.isatty()) if args.json else _TextOut(sys.stdout, args.problems)
     jobs = args.jobs if args.jobs else (os.cpu_count() or 1)
-    errors: list[InputError] = []
-    warnings = list(warnings)
+    errors, warnings = split_problems(problems)     # a site folder nested too deep: an error
     seen: dict[str, str] = {}
     failing = False
     progress = Progress(len(folders), "checking sites")

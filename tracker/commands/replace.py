@@ -17,6 +17,7 @@ from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
 from tracker.commands.common import (CommandError, check_root, disk_full, fail, folder_of_site, open_history,
                                      plain_name)
 from tracker.edit import EditError, format_number, set_scalar
+from tracker.loading.discover import read_regular
 from tracker.history import HistoryError
 from tracker.output import figures
 from tracker.output.terminal_text import clean
@@ -72,7 +73,7 @@ class FileSwap:
 
     def swap(self) -> None:
         try:
-            now = self.path.read_bytes()
+            now = read_regular(self.path)
         except OSError as exc:
             raise FileChanged(f"it cannot be read now ({exc.strerror})") from None
         if now != self.expected:
@@ -123,8 +124,14 @@ def _plan(root: Path, folder: str, history, ref: tuple, key: str, other: str, va
     site_id, board_id, circuit_id, load_id = ref
     if history is None:
         state = EstateState(root)
-        state.seed({rel: p.read_bytes() for rel, p in state.disk_files().items()
-                    if state.folder_of(rel) == folder})
+        contents = {}
+        for rel, p in state.disk_files().items():
+            if state.folder_of(rel) == folder:
+                try:
+                    contents[rel] = read_regular(p)
+                except OSError as exc:
+                    raise CommandError(f"{rel}: cannot be read ({exc.strerror})") from None
+        state.seed(contents)
     else:
         # Anything changed while nothing watched is recorded first, so the replacement is
         # diffed against the file as it really was.
@@ -140,7 +147,11 @@ def _plan(root: Path, folder: str, history, ref: tuple, key: str, other: str, va
     old_value = getattr(load, key) if getattr(load, key) is not None else getattr(load, other)
     old_key = key if getattr(load, key) is not None else other
     path = root / load.src.file
-    original = path.read_bytes()
+    try:
+        original = read_regular(path)      # a FIFO under the name never blocks
+    except OSError as exc:
+        raise CommandError(f"{load.src.file}: cannot be read ({exc.strerror}); its last good state is "
+                           "what the history holds, and nothing was changed") from None
     # Every byte but the value is kept: a byte-order mark (which libyaml does not count in its
     # positions) is set aside and put back; line ends are not translated (CRLF stays CRLF).
     bom = BOM if original.startswith(BOM) else b""

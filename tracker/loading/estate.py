@@ -20,14 +20,14 @@ from pathlib import Path, PurePosixPath
 
 from tracker.loading import build, schema_check, semantic, yamlread
 from tracker.loading.build import own_allowances
-from tracker.loading.discover import (SITE_FILE, STATE_DIR, EstateError, estate_files, inside, relative,
-                                      site_files, site_folders)
+from tracker.loading.discover import (SITE_FILE, STATE_DIR, EstateError, estate_files, inside, not_a_file,
+                                      read_regular, relative, site_files, site_folders, split_problems)
 from tracker.loading.errors import InputError, LoadWarning, sort_problems
 from tracker.model import Site
 
 __all__ = ["SITE_FILE", "STATE_DIR", "EstateError", "Estate", "FileResult", "SiteLoad", "assemble_site",
            "duplicate_site_id", "estate_files", "inside", "load_estate", "load_site", "read_content", "read_file",
-           "sha256_hex", "site_files", "site_folder_of", "site_folders"]
+           "sha256_hex", "site_files", "site_folder_of", "site_folders", "split_problems"]
 
 SITE_ID = re.compile(r"[a-z0-9][a-z0-9._-]*")      # matched whole (fullmatch): "flat-1\n" is no id
 
@@ -89,9 +89,13 @@ def sha256_hex(raw: bytes) -> str:
 # -- read, validate and build one file ----------------------------------------------------------
 
 def read_file(path: Path, rel: str) -> FileResult:
-    """Read one file from disk, then as :func:`read_content`."""
+    """Read one file from disk, then as :func:`read_content`. A name that holds no regular file
+    is an error naming what it holds, and is never opened (a FIFO would block)."""
+    what = not_a_file(path)
+    if what is not None:
+        return FileResult(rel, None, errors=[InputError(rel, 1, 1, f"is {what}, not a site file")])
     try:
-        raw = path.read_bytes()
+        raw = read_regular(path)
     except OSError as exc:
         return FileResult(rel, None, errors=[InputError(rel, 1, 1, f"cannot be read ({exc.strerror})")])
     return read_content(raw, rel)
@@ -262,8 +266,9 @@ def duplicate_site_id(site_id: str, first_file: str, other_file: str) -> InputEr
 def load_estate(root: Path | str) -> Estate:
     """Load every site under `root`. Raises EstateError when the path itself is unusable."""
     root = Path(root)
-    single, folders, warnings = site_folders(root)
-    estate = Estate(root=root, single_site=single, warnings=list(warnings))
+    single, folders, problems = site_folders(root)
+    errors, warnings = split_problems(problems)
+    estate = Estate(root=root, single_site=single, errors=errors, warnings=warnings)
     for folder, rel in folders:
         loaded = load_site(folder, rel, root)
         estate.loads[rel] = loaded
@@ -302,7 +307,7 @@ def site_folder_of(root: Path, site_id: str) -> str | None:
 def _declared_id(path: Path) -> str | None:
     """site.id as a site.yaml declares it, if it loads and says so."""
     try:
-        raw = path.read_bytes()
+        raw = read_regular(path)      # never blocks on a FIFO under the name
     except OSError:
         return None
     text, errors = yamlread.decode(raw, path.name)

@@ -12,6 +12,7 @@ import os
 from pathlib import Path
 
 from tracker.history import History
+from tracker.loading.discover import estate_problems, read_regular
 from tracker.loading.estate import read_content, sha256_hex
 from tracker.tracking.authors import Authors
 from tracker.tracking.diff import ADDED, Change, elements
@@ -52,14 +53,56 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
     `progress` (a tracker.progress.Progress, or None) is advanced once per site folder.
     """
     state = EstateState(root)
-    disk = {rel: p for rel, p in state.disk_files().items() if folders is None or state.folder_of(rel) in folders}
     recorded = history.latest_by_file()
     if folders is not None:
         recorded = {f: v for f, v in recorded.items() if state.folder_of(f) in folders}
+    # What leaves a part of the estate unread (a name that holds a FIFO, a folder or a dangling
+    # link; a file or site folder that cannot be read; a site folder nested too deep): never
+    # opened, never taken for a deletion. Its last good state stays in force, as when the watcher
+    # meets it live, and the input error is recorded (once) and shown.
+    problems = [p for p in estate_problems(root) if folders is None or state.folder_of(p.file) in folders]
+    odd = {p.file for p in problems if state.folder_of(p.file) is not None}
+    odd |= {rel for rel in recorded if _unlistable(root, state.folder_of(rel))}
+    disk = {rel: p for rel, p in state.disk_files().items()
+            if (folders is None or state.folder_of(rel) in folders) and rel not in odd}
     jobs = jobs if jobs else (os.cpu_count() or 1)
     if not recorded:
-        return state, _record_first(state, disk, history, authors, jobs, progress)
-    return state, _catch_up(state, disk, recorded, history, authors, jobs, progress)
+        done = _record_first(state, disk, history, authors, jobs, progress)
+    else:
+        done = _catch_up(state, disk, recorded, history, authors, jobs, progress, odd)
+    for rel in sorted(odd):
+        latest = recorded.get(rel)
+        if latest is not None and latest[1] is None and not latest[2]:
+            state.hashes.pop(rel, None)    # said already; whatever comes back under the name is news
+            continue
+        outcome = state.apply_disk(rel)
+        if outcome is not None:
+            recs = history.record_many(to_revisions(outcome, "startup", authors, "changed while nothing was watching"))
+            done += list(zip([*outcome.along, outcome], recs))
+    for problem in problems:
+        if problem not in state.errors.get(problem.file, []):
+            state.errors.setdefault(problem.file, []).append(problem)
+    return state, done
+
+
+def _unlistable(root: Path, folder: str | None) -> bool:
+    """Whether a site folder is there but its files cannot be listed (mode 000)."""
+    if folder is None:
+        return False
+    try:
+        os.scandir(root / folder if folder else root).close()
+    except FileNotFoundError:
+        return False
+    except OSError:
+        return True
+    return False
+
+
+def _read(path: Path) -> bytes | None:
+    try:
+        return read_regular(path)
+    except OSError:        # gone or made unreadable since it was listed: its next event says so
+        return None
 
 
 def _by_folder(state: EstateState, rels) -> dict[str, list[str]]:
@@ -72,7 +115,7 @@ def _by_folder(state: EstateState, rels) -> dict[str, list[str]]:
 def _record_first(state: EstateState, disk: dict[str, Path], history: History, authors: Authors, jobs: int,
                   progress) -> list[tuple]:
     """A history with nothing in it: every file on disk recorded as found."""
-    contents = {rel: p.read_bytes() for rel, p in disk.items()}
+    contents = {rel: raw for rel, raw in ((rel, _read(p)) for rel, p in disk.items()) if raw is not None}
     by_folder = _by_folder(state, contents)
     if progress is not None:
         progress.total = len(by_folder)
@@ -100,9 +143,13 @@ def _record_first(state: EstateState, disk: dict[str, Path], history: History, a
 
 
 def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history: History, authors: Authors,
-              jobs: int, progress) -> list[tuple]:
+              jobs: int, progress, odd: set[str] = frozenset()) -> list[tuple]:
     """A history with revisions: every folder seeded from disk; those that differ from the
-    history are set to their recorded state and brought up to date file by file."""
+    history are set to their recorded state and brought up to date file by file. A file of
+    `odd` (its name holds no regular file, or it cannot be read) stands at its last good
+    content: it is neither a change nor a deletion (its input error is recorded after)."""
+    stand_in = {rel: raw for rel in sorted(odd) if rel in recorded
+                and (raw := history.latest_good_content(rel)) is not None}
     on_disk = _by_folder(state, disk)
     known: dict[str, set[str]] = {}
     for rel in recorded:
@@ -130,8 +177,10 @@ def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history
     pending: list[tuple[str, bytes | None, dict]] = []
     for folder in redo:
         rels = set(on_disk.get(folder, ())) | known.get(folder, set())
-        current = {rel: disk[rel].read_bytes() for rel in on_disk.get(folder, ())}
-        pending += [(rel, raw, current) for rel, raw in _set_to_recorded(state, rels, current, recorded, history)]
+        current = {rel: raw for rel in on_disk.get(folder, ()) if (raw := _read(disk[rel])) is not None}
+        current |= {rel: raw for rel, raw in stand_in.items() if state.folder_of(rel) == folder}
+        rels -= odd - set(stand_in)
+        pending += [(rel, raw, current) for rel, raw in _set_to_recorded(state, rels, current, recorded, history, odd)]
     done = []
     for rel, raw, current in pending:
         # the folder's other files as they are now: a change made across files is one change
@@ -144,7 +193,7 @@ def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history
 
 
 def _set_to_recorded(state: EstateState, rels: set[str], current: dict[str, bytes], recorded: dict,
-                     history: History) -> list[tuple[str, bytes | None]]:
+                     history: History, odd: set[str] = frozenset()) -> list[tuple[str, bytes | None]]:
     """Seed one folder as the history last saw it; the files to apply since then, with their
     content now (None: removed)."""
     def loads_now(rel: str) -> bool:
@@ -152,7 +201,7 @@ def _set_to_recorded(state: EstateState, rels: set[str], current: dict[str, byte
 
     # a file is to be applied when its content differs from its latest revision, or when that
     # revision did not load and the file does now (with the others as they are)
-    changed = [rel for rel in sorted(rels)
+    changed = [rel for rel in sorted(rels - odd)
                if rel not in recorded or recorded[rel][1] != (sha256_hex(current[rel]) if rel in current else None)
                or (not recorded[rel][2] and loads_now(rel))]
     if not changed:   # unchanged, but a file does not load: keep its last good state in force

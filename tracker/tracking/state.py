@@ -9,6 +9,7 @@ old ones to find the events.
 from __future__ import annotations
 
 import datetime
+import os
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
@@ -17,7 +18,7 @@ import networkx as nx
 
 from tracker import graph
 from tracker.checks.site import SiteResult, evaluate_site, explain_circuit
-from tracker.loading.discover import site_files
+from tracker.loading.discover import is_site_folder, not_a_file, read_regular, site_files
 from tracker.loading.errors import InputError
 from tracker.loading.estate import (SITE_FILE, STATE_DIR, FileResult, SiteLoad, assemble_site, duplicate_site_id,
                                     estate_files, inside, read_content, sha256_hex)
@@ -107,7 +108,7 @@ def _seed_from_disk(root: Path, item: tuple) -> FolderSeed:
     files = {}
     for rel in rels:
         try:
-            files[rel] = (root / rel).read_bytes()
+            files[rel] = read_regular(root / rel)
         except OSError:
             continue
     return seed_folder(folder, folder_name, files)
@@ -124,7 +125,7 @@ class EstateState:
     def __init__(self, root: Path | str, single_site: bool | None = None):
         self.root = Path(root)
         if single_site is None:
-            single_site = (self.root / SITE_FILE).is_file()
+            single_site = is_site_folder(self.root)     # as the loader decides (site_folders)
         self.single_site = single_site
         self.sites: dict[str, SiteState] = {}        # by folder
         self.good: dict[str, dict[str, FileResult]] = {}   # folder -> rel -> last good file result
@@ -245,6 +246,14 @@ class EstateState:
         so `settle` is waited and the file read once more before its problems are recorded; only
         content read the same twice is called an input error."""
         path = self.root / rel
+        what = not_a_file(path) if self.folder_of(rel) is not None else None
+        if what is not None and (not path.is_symlink() or inside(self.root, path)):
+            # a FIFO, a folder or a dangling link under a site file's name: never opened, said
+            err = InputError(rel, 1, 1, f"is {what}, not a site file")
+            if self.errors.get(rel) == [err]:
+                return None
+            self.hashes.pop(rel, None)     # whatever comes back under the name is news
+            return self._input_error(rel, self.folder_of(rel), None, None, [err])
         try:
             raw = self._read_disk(rel, path)
         except OSError as exc:
@@ -269,19 +278,30 @@ class EstateState:
         if folder is None:
             return out
         where = self.root / folder if folder else self.root
-        for path in site_files(where, self.root)[0]:
+        for path in site_files(where, self.root, regular_only=True)[0]:
             other = path.relative_to(self.root).as_posix()
             if other == rel or self.folder_of(other) != folder:
                 continue
             try:
-                out[other] = path.read_bytes()
+                out[other] = read_regular(path)
             except OSError:
                 continue
         return out
 
     def _read_disk(self, rel: str, path: Path) -> bytes | None:
-        followed = not path.is_symlink() or inside(self.root, path)
-        return path.read_bytes() if followed and path.is_file() else None
+        """The file's bytes; None when it is gone (or a link out of the estate). A file that is
+        there but cannot be read (its folder or itself made unreadable) raises OSError: it is an
+        input error, not a deletion."""
+        try:
+            os.lstat(path)
+        except FileNotFoundError:
+            return None
+        if path.is_symlink() and not inside(self.root, path):
+            return None
+        try:
+            return read_regular(path)
+        except FileNotFoundError:
+            return None
 
     def apply_bytes(self, rel: str, raw: bytes | None, read_again: Callable[[], bytes | None] | None = None,
                     alongside: dict[str, bytes] | None = None) -> FileOutcome | None:
