@@ -18,7 +18,7 @@ from pathlib import Path
 from tracker.checks.result import FAIL
 from tracker.checks.site import evaluate_site
 from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
-from tracker.loading.errors import InputError, sort_problems
+from tracker.loading.errors import sort_problems
 from tracker.loading.estate import EstateError, duplicate_site_id, load_site, site_folders, split_problems
 from tracker.output.terminal_text import clean
 from tracker.parallel import each_in_runs
