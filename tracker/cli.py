@@ -11,6 +11,7 @@ import os
 import sys
 
 from tracker import __version__
+from tracker.parallel import JOBS_PER_CORE, available_cores, max_jobs
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
@@ -26,13 +27,6 @@ def _add_db(p: argparse.ArgumentParser, creates: bool = True) -> None:
                         + ("created on first use)" if creates else "only read; never created)"))
 
 
-JOBS_PER_CORE = 4   # --jobs at most this many worker processes per core (more only adds memory and waiting)
-
-
-def max_jobs() -> int:
-    return (os.cpu_count() or 1) * JOBS_PER_CORE
-
-
 def _jobs(text: str) -> int:
     try:
         n = int(text) if len(text) < 10 else -1
@@ -42,7 +36,7 @@ def _jobs(text: str) -> int:
         raise argparse.ArgumentTypeError(f"{text!r}: give a whole number of worker processes, 1 or more")
     if n > max_jobs():
         raise argparse.ArgumentTypeError(f"{text!r}: at most {max_jobs()} worker processes here "
-                                         f"({JOBS_PER_CORE} per core, {os.cpu_count() or 1} cores)")
+                                         f"({JOBS_PER_CORE} per core, {available_cores()} cores available)")
     return n
 
 

@@ -14,10 +14,27 @@
 """
 from __future__ import annotations
 
+import os
 import signal
 import sys
 import threading
 from contextlib import contextmanager
+
+
+JOBS_PER_CORE = 4   # worker processes at most per core (more only adds memory and waiting)
+
+
+def available_cores() -> int:
+    """Cores this process may run on (its CPU affinity where the system has one: a container or
+    `taskset` may allow fewer than the machine has)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):
+        return max(1, os.cpu_count() or 1)
+
+
+def max_jobs() -> int:
+    return available_cores() * JOBS_PER_CORE
 
 
 def _start_worker(initializer, initargs) -> None:
@@ -88,6 +105,7 @@ def each_in_runs(work, items: list, shared, jobs: int):
     items are worked here. `work` is a module-level function and `shared` is picklable (both go
     to each worker once, at its start).
     """
+    jobs = min(jobs, max_jobs())
     if jobs <= 1 or len(items) < MIN_ITEMS_FOR_WORKERS:
         for item in items:
             yield work(shared, item)

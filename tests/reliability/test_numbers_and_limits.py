@@ -5,7 +5,6 @@ watcher that goes on."""
 from __future__ import annotations
 
 import json
-import os
 import sqlite3
 import time
 
@@ -14,6 +13,7 @@ import pytest
 from tests.reliability.conftest import FIGURES, record
 from tests.watch_helpers import settle, start_watcher
 from tracker.cli import main
+from tracker.parallel import max_jobs
 
 SITE = "quill-court-2/site.yaml"
 
@@ -100,7 +100,7 @@ def test_jobs_has_an_upper_bound(demo_copy, capsys):
         main(["check", str(demo_copy), "--jobs", "5000"])
     assert caught.value.code == 2
     err = capsys.readouterr().err
-    assert f"at most {(os.cpu_count() or 1) * 4} worker processes" in err
+    assert f"at most {max_jobs()} worker processes" in err   # 4 per core available (README, limits)
 
 
 def test_history_rows_izwatch_did_not_write_are_said_plainly(demo_copy, capsys, tmp_path):

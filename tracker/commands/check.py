@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import gc
 import json
-import os
 import sys
 import textwrap
 from dataclasses import dataclass, field
@@ -21,7 +20,7 @@ from tracker.cli import EXIT_FAIL, EXIT_INPUT, EXIT_OK
 from tracker.loading.errors import sort_problems
 from tracker.loading.estate import EstateError, duplicate_site_id, load_site, site_folders, split_problems
 from tracker.output.terminal_text import clean
-from tracker.parallel import each_in_runs
+from tracker.parallel import available_cores, each_in_runs
 from tracker.progress import Progress
 
 
@@ -160,7 +159,7 @@ def run(args) -> int:
                                           "message": str(exc), "text": str(exc)}]}))
         return EXIT_INPUT
     out = _JsonOut(sys.stdout, sys.stdout.isatty()) if args.json else _TextOut(sys.stdout, args.problems)
-    jobs = args.jobs if args.jobs else (os.cpu_count() or 1)
+    jobs = args.jobs if args.jobs else available_cores()
     errors, warnings = split_problems(problems)     # a site folder nested too deep: an error
     seen: dict[str, str] = {}
     failing = False

@@ -16,11 +16,19 @@ from tracker.loading.errors import InputError
 MAX_FILE_BYTES = 8 * 1024 * 1024  # a board file of 1,000 circuits is about 0.6 MiB
 MAX_EXPANDED_NODES = 200_000      # bound on the size of a document once aliases are expanded
 MAX_DEPTH = 64                    # for documents with anchors; libyaml itself stops at 1,000 levels
-MAX_LIST_ITEMS = 5_000            # items of any one list: circuits per file, boards, loads, results
-# A bound checked on the text before parsing, so that a file made of a huge list is refused at
-# once instead of being built first: its lines and commas (a board file of 1,000 circuits has
-# about 15,000 lines and 20,000 commas; 5,000 circuits, the most a file may hold, five times that).
-MAX_LINES_AND_COMMAS = 400_000
+MAX_LIST_ITEMS = 2_000            # items of any one list: circuits per file, boards, loads, results
+# Bounds checked on the text before parsing, so that a file whose parsing alone would take seconds
+# and hundreds of MiB is refused at once (str.count over 8 MiB: milliseconds). A value in YAML
+# begins after a line break (libyaml also breaks lines at a lone CR, NEL, U+2028 and U+2029), ',',
+# '-', ':', '?', '[' or '{', so these marks bound the values a document holds (at most two per mark:
+# a key and its value). Measured on this project's files: the demo's files carry 50 to 90 marks per
+# circuit with their comments, the benchmark's generated ones 43, so 100,000 marks are 1,100 to
+# 2,300 circuits; a file of 100,000 marks of anything reads in about 2 s and 120 MiB at most.
+# '[' and '{' are bounded apart: libyaml's work per token grows with the depth of flow nesting
+# ("[[[[…"), and site files open three or four per circuit.
+MAX_MARKS = 100_000
+MAX_FLOW_OPENERS = 10_000
+_MARK_CHARS = ("\n", "\r", "\x85", "\u2028", "\u2029", ",", "-", ":", "?", "[", "{")
 MAX_DIGITS = 30                   # the longest number written in a site file is a few digits
 
 # YAML 1.1, which PyYAML reads, takes number forms that YAML 1.2 and people read otherwise:
@@ -185,7 +193,7 @@ def _short_list(node) -> None:
     if len(node.value) > MAX_LIST_ITEMS:
         m = node.start_mark
         raise _Refused(f"a list of {len(node.value):,} items; a site file's lists hold at most {MAX_LIST_ITEMS:,} "
-                       "(circuits per file, boards, loads): split the site into one file per board",
+                       "(circuits per file, boards, loads): split the site into more files (one file per board)",
                        m.line + 1, m.column + 1)
 
 
@@ -214,13 +222,29 @@ def _line_col_of_offset(raw: bytes, offset: int) -> tuple[int, int]:
     return line, offset - start + 1
 
 
+def marks(text: str) -> tuple[int, int]:
+    """(marks that can begin a value, flow openers '[' and '{') of a text; a CR LF is one break."""
+    counts = {ch: text.count(ch) for ch in _MARK_CHARS}
+    return sum(counts.values()) - text.count("\r\n"), counts["["] + counts["{"]
+
+
+def _bulk_problem(text: str) -> str | None:
+    total, openers = marks(text)
+    split = "split the site into more files (one file per board)"
+    if total > MAX_MARKS:
+        return (f"too large to read: {total:,} places where a value can begin (line breaks and ',' '-' ':' '?' "
+                f"'[' '{{'); a site file holds at most {MAX_MARKS:,}, about 1,500 circuits: {split}")
+    if openers > MAX_FLOW_OPENERS:
+        return (f"too large to read: {openers:,} '[' and '{{'; a site file holds at most {MAX_FLOW_OPENERS:,} "
+                f"(about four a circuit): {split}")
+    return None
+
+
 def parse(text: str, rel: str) -> tuple[object, list[InputError]]:
     """Text → document. Errors carry the file, line and column libyaml reports."""
-    bulk = text.count("\n") + text.count(",")
-    if bulk > MAX_LINES_AND_COMMAS:
-        return None, [InputError(rel, 1, 1, f"{bulk:,} lines and commas; a site file holds at most "
-                                            f"{MAX_LINES_AND_COMMAS:,} ({MAX_LIST_ITEMS:,} circuits per file at most): "
-                                            "split the site into one file per board")]
+    problem = _bulk_problem(text)
+    if problem:
+        return None, [InputError(rel, 1, 1, problem)]
     if not text.strip():
         return None, [InputError(rel, 1, 1, "file is empty; a site file is a YAML mapping "
                                             "(site, supply, boards, circuits)")]

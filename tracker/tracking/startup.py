@@ -18,6 +18,7 @@ from tracker.tracking.authors import Authors
 from tracker.tracking.diff import ADDED, Change, elements
 from tracker.events import input_error_event
 from tracker.tracking.outcome import FileOutcome, to_revision, to_revisions
+from tracker.parallel import available_cores
 from tracker.tracking.state import EstateState, seed_in_parallel
 from tracker.tracking.transitions import compare
 
@@ -65,7 +66,7 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
     odd |= {rel for rel in recorded if _unlistable(root, state.folder_of(rel))}
     disk = {rel: p for rel, p in state.disk_files().items()
             if (folders is None or state.folder_of(rel) in folders) and rel not in odd}
-    jobs = jobs if jobs else (os.cpu_count() or 1)
+    jobs = jobs if jobs else available_cores()
     if not recorded:
         done = _record_first(state, disk, history, authors, jobs, progress)
     else:
