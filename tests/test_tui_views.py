@@ -267,3 +267,45 @@ def test_a_cached_snapshot_equals_a_fresh_one_over_random_edits_and_acks(live):
             settle_file(w, root, path.relative_to(root).as_posix())
         cached, fresh = S.build(w.state, h, cache), S.build(w.state, h)
         assert (cached.rows, cached.counts, cached.since) == (fresh.rows, fresh.counts, fresh.since), step
+
+
+def test_a_patched_snapshot_is_the_fresh_one_after_every_edit(tmp_path):
+    """Sites' rows patched into the merged list, edit after edit (a circuit made to fail and put
+    right, on several sites, some acknowledged between), give what a snapshot built from nothing
+    gives: the same rows in the same order, counts, lookups and failing-since entries."""
+    import random
+
+    from tests.benchmark.generate import generate
+    from tracker.tracking.outcome import to_revision
+    from tracker.tracking.state import EstateState
+
+    root = tmp_path / "estate"
+    generate(root, 8, 12, seed=5)
+    st = EstateState(root)
+    st.seed({rel: p.read_bytes() for rel, p in st.disk_files().items()})
+    h = History.open(None)
+    cache = S.RowCache()
+    S.build(st, h, cache)
+    rng = random.Random(11)
+    texts = {rel: (root / rel).read_text() for rel in st.disk_files()}
+    site_files = sorted(rel for rel in texts if rel.endswith("/site.yaml"))
+    for step in range(14):
+        rel = rng.choice(site_files)
+        new = texts[rel].replace("kind: lighting, power_kw: ", "kind: lighting, power_kw: 6", 1) \
+            if step % 3 != 2 else texts[rel]
+        out = st.apply_bytes(rel, new.encode())
+        if out is not None:
+            h.record(to_revision(out, "watch", AUTHOR))
+        cached = S.build(st, h, cache)
+        if step % 4 == 3 and cached.counts[NEW]:                    # acknowledge the top row
+            top = cached.rows[0]
+            h.record(NewRevision(source="ack", author=AUTHOR, site=top.site_id, note="booked",
+                                 ack=(top.ref, list(top.open_checks))))
+            cached = S.build(st, h, cache)
+        fresh = S.build(st, h)
+        assert [r.ref for r in cached.rows] == [r.ref for r in fresh.rows]
+        assert (cached.rows, cached.counts, cached.circuits) == (fresh.rows, fresh.counts, fresh.circuits)
+        assert dict(cached.by_ref) == dict(fresh.by_ref) and dict(cached.since) == dict(fresh.since)
+        assert S.visible(cached.rows, S.SHOW_FAILING) == [r for r in fresh.rows if r.status == FAIL]
+        assert S.visible(cached.rows, S.SHOW_NEW) == [r for r in fresh.rows if r.state == NEW]
+    assert fresh.counts[NEW] + fresh.counts[ACKED] > 0          # the edits made something fail

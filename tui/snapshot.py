@@ -11,7 +11,10 @@ after the element's latest acknowledgement (or that was never acknowledged).
 """
 from __future__ import annotations
 
+from bisect import bisect_left
+from collections.abc import Mapping
 from dataclasses import dataclass, field
+from itertools import takewhile
 from operator import itemgetter
 
 from tracker.checks.result import FAIL, PASS
@@ -131,10 +134,115 @@ class _Piece:
         self.count: dict[str, int] = {}
 
 
+class _BySite(Mapping):
+    """A read-only mapping made of each site's own dict (by_ref, failing since), found through the
+    site id at the head of the key: a new snapshot shares the dicts of the sites that did not
+    change instead of copying every entry of the estate."""
+
+    __slots__ = ("_parts", "_len", "_site")
+
+    def __init__(self, parts: dict[str, dict], length: int, site_of):
+        self._parts, self._len, self._site = parts, length, site_of
+
+    def __getitem__(self, key):
+        try:
+            part = self._parts.get(self._site(key))
+        except (AttributeError, TypeError, IndexError):
+            raise KeyError(key) from None
+        if part is None:
+            raise KeyError(key)
+        return part[key]
+
+    def __iter__(self):
+        for part in self._parts.values():
+            yield from part
+
+    def __len__(self) -> int:
+        return self._len
+
+    def __repr__(self) -> str:
+        return f"_BySite({len(self._parts)} sites, {self._len} entries)"
+
+
+def _site_of_ref(ref: str) -> str:
+    return ref.split("/", 1)[0]
+
+
+def _site_of_key(key: tuple[str, str]) -> str:
+    return key[0].split("/", 1)[0]
+
+
+class _Merged:
+    """Every site's rows merged in list order, patched site by site: the failing rows of all
+    sites kept sorted by their key, the others in one list per state in site order, with each
+    site's share of it, so that a changed site's slice is replaced where it lies."""
+
+    def __init__(self, order: list[str], pieces: dict[str, _Piece]):
+        self.order = order
+        self.position = {sid: k for k, sid in enumerate(order)}
+        self.failing = {st: sorted((kr for sid in order for kr in pieces[sid].failing.get(st, ())), key=itemgetter(0))
+                        for st in (NEW, ACKED)}
+        self.others = {st: [r for sid in order for r in pieces[sid].by_state.get(st, ())]
+                       for st in STATES if st not in (NEW, ACKED)}
+        self.share = {st: [len(pieces[sid].by_state.get(st, ())) for sid in order] for st in self.others}
+        self.counts = {s: 0 for s in STATES}
+        self.circuits = 0
+        self.refs: dict[str, dict] = {}
+        self.kept: dict[str, dict] = {}
+        self.n_refs = self.n_kept = 0
+        for sid in order:
+            self._add(pieces[sid])
+
+    def _add(self, p: _Piece, sign: int = 1) -> None:
+        for st, n in p.count.items():
+            self.counts[st] += sign * n
+        self.circuits += sign * p.circuits
+        self.n_refs += sign * len(p.by_ref)
+        self.n_kept += sign * len(p.kept)
+        if sign > 0:
+            sid = p.sr.site.id
+            self.refs[sid], self.kept[sid] = p.by_ref, p.kept
+
+    def patch(self, old: _Piece, new: _Piece) -> None:
+        """Put `new` in the place of `old` (the same site)."""
+        sid = new.sr.site.id
+        k = self.position[sid]
+        for st, rows in self.failing.items():
+            gone, come = old.failing.get(st, ()), new.failing.get(st, ())
+            if not gone and not come:
+                continue
+            rows = list(rows)                       # the last snapshot keeps its own list
+            for key, _row in gone:
+                del rows[bisect_left(rows, (key,))]
+            for kr in come:
+                rows.insert(bisect_left(rows, (kr[0],)), kr)
+            self.failing[st] = rows
+        for st, rows in self.others.items():
+            share = self.share[st]
+            came = new.by_state.get(st, [])
+            if share[k] == 0 and not came:
+                continue
+            start = sum(share[:k])
+            self.others[st] = rows[:start] + came + rows[start + share[k]:]
+            share[k] = len(came)
+        self._add(old, -1)
+        self._add(new)
+
+    def rows(self) -> tuple[Row, ...]:
+        out: list[Row] = []
+        for st in STATES:
+            if st in self.failing:
+                out.extend(r for _, r in self.failing[st])
+            else:
+                out.extend(self.others[st])
+        return tuple(out)
+
+
 class RowCache:
     """What is kept between snapshots, so that a change costs what it touches, not the estate:
     the history's answers (failing since, latest acknowledgements), folded forward revision by
-    revision; and each site's rows, rebuilt only when its results or its history change."""
+    revision; each site's rows, rebuilt only when its results or its history change; and their
+    merge, patched where a site's rows changed."""
 
     def __init__(self):
         self._pieces: dict[str, _Piece] = {}
@@ -142,6 +250,7 @@ class RowCache:
         self._acks: dict[str, dict] = {}
         self._seen = 0                                   # the newest revision folded in
         self._versions: dict[str, int] = {}              # site id -> how often its history moved
+        self._merged: _Merged | None = None
 
     def fold(self, history: History) -> None:
         head, _ = history.head()
@@ -181,8 +290,8 @@ def _cause(ref: str, kind_: str, rev: dict) -> Cause:
     return Cause(rev["id"], rev["at"], clean(rev["author"]), clean(text), kind, None if note is None else clean(note))
 
 
-def _pieces_for(dirty: list[SiteResult], cache: RowCache, history: History) -> None:
-    """Build the rows of the sites whose results or history changed."""
+def _pieces_for(dirty: list[SiteResult], cache: RowCache, history: History) -> list[tuple[_Piece | None, _Piece]]:
+    """Build the rows of the sites whose results or history changed: (the piece replaced, the new one)."""
     since, acks = cache._since, cache._acks
     work = []
     wanted: set[int] = set()
@@ -202,6 +311,7 @@ def _pieces_for(dirty: list[SiteResult], cache: RowCache, history: History) -> N
         wanted.update(latest.values())
         work.append((piece, base, latest))
     revs = revisions_by_id(history, wanted)
+    replaced = []
     for piece, base, latest in work:
         sr = piece.sr
         site_id, site_name = sr.site.id, clean(sr.site.name)
@@ -227,7 +337,9 @@ def _pieces_for(dirty: list[SiteResult], cache: RowCache, history: History) -> N
             piece.by_ref[ref] = row
             piece.count[state_] = piece.count.get(state_, 0) + 1
             piece.circuits += kind == CIRCUIT
+        replaced.append((cache._pieces.get(site_id), piece))
         cache._pieces[site_id] = piece
+    return replaced
 
 
 def build(state: EstateState, history: History, cache: RowCache | None = None,
@@ -248,31 +360,18 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
         piece = pieces.get(sr.site.id)
         if piece is None or piece.sr is not sr or piece.version != cache._versions.get(sr.site.id, 0):
             dirty.append(sr)
-    if dirty:
-        _pieces_for(dirty, cache, history)
-    ordered = [pieces[sr.site.id] for sr in results]
-
-    rows: list[Row] = []
-    counts = {s: 0 for s in STATES}
-    for st in STATES:
-        if st in (NEW, ACKED):
-            keyed = [kr for p in ordered for kr in p.failing.get(st, ())]
-            keyed.sort(key=itemgetter(0))
-            rows.extend(r for _, r in keyed)
-        else:
-            for p in ordered:
-                part = p.by_state.get(st)
-                if part:
-                    rows.extend(part)
-    kept_since: dict[tuple[str, str], dict] = {}
-    by_ref: dict[str, Row] = {}
-    n_circuits = 0
-    for p in ordered:
-        kept_since.update(p.kept)
-        by_ref.update(p.by_ref)
-        n_circuits += p.circuits
-        for st, n in p.count.items():
-            counts[st] += n
+    replaced = _pieces_for(dirty, cache, history) if dirty else []
+    order = [sr.site.id for sr in results]
+    merged = cache._merged
+    if merged is None or merged.order != order or any(old is None for old, _ in replaced):
+        merged = cache._merged = _Merged(order, pieces)     # the first snapshot, or sites came or went
+    else:
+        for old, new in replaced:
+            merged.patch(old, new)
+    rows = merged.rows()
+    by_ref = _BySite(dict(merged.refs), merged.n_refs, _site_of_ref)
+    kept_since = _BySite(dict(merged.kept), merged.n_kept, _site_of_key)
+    counts, n_circuits = dict(merged.counts), merged.circuits
     # By file; within a file in the loader's order (its own errors before what they cause).
     errors = tuple(e for rel in sorted(state.errors) for e in state.errors[rel])
     in_force = frozenset(f for sr in results for f in sr.site.files)
@@ -289,12 +388,14 @@ FILTERS = (SHOW_NEW, SHOW_FAILING, SHOW_ALL)
 
 
 def visible(rows, which: str, needle: str = "") -> list[Row]:
-    """The rows a filter and a search leave, in list order."""
+    """The rows a filter and a search leave, in list order. `rows` are a snapshot's, in its
+    order: the failing ones (newly broken, then acknowledged) lead, so the failing filters read
+    only the rows they keep and the one after."""
     needle = needle.strip().lower()
     if which == SHOW_NEW:
-        out = [r for r in rows if r.state == NEW]
+        out = list(takewhile(lambda r: r.state == NEW, rows))
     elif which == SHOW_FAILING:
-        out = [r for r in rows if r.status == FAIL]
+        out = list(takewhile(lambda r: r.status == FAIL, rows))
     else:
         out = list(rows)
     if needle:

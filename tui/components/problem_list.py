@@ -1,7 +1,8 @@
 """The problem list: one row per circuit, board or origin, drawn line by line.
 
 An estate can hold 100,000 circuits, so the list holds plain `Row`s and draws only the lines on
-screen (Textual's line API) instead of building a widget or a table cell per row. Narrow
+screen (Textual's line API) instead of building a widget or a table cell per row; a new snapshot
+draws again only the lines whose rows changed. Narrow
 terminals get two lines per row (what and where / since when and why); wide ones get one.
 """
 from __future__ import annotations
@@ -13,7 +14,7 @@ from rich.style import Style
 from rich.text import Text
 from textual import events
 from textual.binding import Binding
-from textual.geometry import Size
+from textual.geometry import Region, Size
 from textual.reactive import reactive
 from textual.scroll_view import ScrollView
 from textual.strip import Strip
@@ -57,6 +58,10 @@ def checks_text(row: Row) -> str:
     return "—"
 
 
+def _same(a: Row | None, b: Row | None) -> bool:
+    return a is b or (a is not None and b is not None and a == b)
+
+
 def _fit(text: str, width: int) -> str:
     if width <= 0:
         return ""
@@ -92,6 +97,11 @@ class ProblemList(ScrollView, can_focus=True):
         self.clock = clock
         self.empty_text = "Checking every circuit…"
 
+    AGES_REDRAWN_S = 30.0   # lines not changed by a snapshot are drawn again this often, for their ages
+
+    def on_mount(self) -> None:
+        self.set_interval(self.AGES_REDRAWN_S, self.refresh)
+
     # -- content ------------------------------------------------------------------------
 
     @property
@@ -103,19 +113,49 @@ class ProblemList(ScrollView, can_focus=True):
         return self.rows[self.cursor] if 0 <= self.cursor < len(self.rows) else None
 
     def set_rows(self, rows: list[Row], keep: str | None = None, empty_text: str | None = None) -> None:
-        """Show `rows`; the cursor stays on the row with ref `keep` where it is still listed."""
-        old_index = self.cursor
+        """Show `rows`; the cursor stays on the row with ref `keep` where it is still listed.
+        Where the cursor stays on the same line, only the lines whose rows changed are drawn again."""
+        old_rows, old_index = self.rows, self.cursor
         self.rows = rows
+        text_changed = empty_text is not None and empty_text != self.empty_text
         if empty_text is not None:
             self.empty_text = empty_text
         index = None
         if keep is not None:
-            index = next((i for i, r in enumerate(rows) if r.ref == keep), None)
+            if 0 <= old_index < len(rows) and rows[old_index].ref == keep:
+                index = old_index                   # still where it was: no need to look further
+            else:
+                index = next((i for i, r in enumerate(rows) if r.ref == keep), None)
         if index is None:
             index = min(old_index, len(rows) - 1) if rows else 0
         self._update_size()
-        self.cursor = max(0, index)
-        self.refresh()
+        index = max(0, index)
+        if index != old_index or not rows or not old_rows or text_changed:
+            self.cursor = index
+            self.refresh()
+            return
+        if not _same(old_rows[old_index] if old_index < len(old_rows) else None, rows[index]):
+            self.post_message(RowFocused(self.current))
+        self._refresh_changed(old_rows)
+
+    def _refresh_changed(self, old_rows: list[Row]) -> None:
+        """Draw again the lines on screen whose row is not the one drawn there before."""
+        h = self.row_height
+        width = self.size.width
+        top = self.scroll_offset.y
+        start = None
+        for y in range(1, self.size.height):
+            index = (top + y - 1) // h
+            before = old_rows[index] if index < len(old_rows) else None
+            now = self.rows[index] if index < len(self.rows) else None
+            changed = not _same(before, now)
+            if changed and start is None:
+                start = y
+            elif not changed and start is not None:
+                self.refresh(Region(0, start, width, y - start))
+                start = None
+        if start is not None:
+            self.refresh(Region(0, start, width, self.size.height - start))
 
     def _update_size(self) -> None:
         self.virtual_size = Size(self.size.width, len(self.rows) * self.row_height + 1)
