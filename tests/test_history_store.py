@@ -27,7 +27,8 @@ def store(tmp_path):
     h.close()
 
 
-# The schema as schema/history/0001-initial.sql and 0002-people-outside-the-chain.sql declare it,
+# The schema as schema/history/0001-initial.sql, 0002-people-outside-the-chain.sql and
+# 0003-revisions-of-the-date.sql declare it,
 # written out here by hand so that a table, index or trigger added, renamed or dropped without
 # this test changing fails it.
 EXPECTED_SQLITE_OBJECTS = {
@@ -59,7 +60,7 @@ EXPECTED_COLUMNS = {
 
 def test_exact_schema_version_and_wal(store):
     db = store.db
-    assert db.execute("PRAGMA user_version").fetchone()[0] == 2   # two migrations applied
+    assert db.execute("PRAGMA user_version").fetchone()[0] == 3   # three migrations applied
     assert db.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
     objects = {(t, n) for t, n in db.execute("SELECT type, name FROM sqlite_master")
                if not n.startswith("sqlite_autoindex_")}    # SQLite's own indexes of keys and UNIQUE
@@ -67,7 +68,11 @@ def test_exact_schema_version_and_wal(store):
     for table, columns in EXPECTED_COLUMNS.items():
         assert [c.name for c in db[table].columns] == columns, table
     assert db.execute("SELECT name FROM _sqlite_migrations").fetchall() == [("0001-initial",),
-                                                                            ("0002-people-outside-the-chain",)]
+                                                                            ("0002-people-outside-the-chain",),
+                                                                            ("0003-revisions-of-the-date",)]
+    # migration 3 widened the sources a revision may have: 'date', for what the passing of a day did
+    sql = db.execute("SELECT sql FROM sqlite_master WHERE name = 'revisions'").fetchone()[0]
+    assert "CHECK (source IN ('watch', 'replace', 'startup', 'ack', 'date'))" in sql
     # the partial unique index of a file's succession keeps its WHERE clause
     sql = db.execute("SELECT sql FROM sqlite_master WHERE name = 'revisions_file_succession'").fetchone()[0]
     assert "UNIQUE" in sql and "WHERE file IS NOT NULL" in sql
@@ -77,7 +82,7 @@ def test_migrations_are_not_reapplied(tmp_path):
     path = tmp_path / "h.sqlite"
     History.open(path).close()
     h = History.open(path)
-    assert h.db.execute("SELECT count(*) FROM _sqlite_migrations").fetchone()[0] == 2
+    assert h.db.execute("SELECT count(*) FROM _sqlite_migrations").fetchone()[0] == 3
     h.close()
 
 
@@ -122,12 +127,13 @@ def test_a_failing_migration_leaves_the_history_as_it_was(tmp_path):
     path = tmp_path / "h.sqlite"
     folder = _copy_of_migrations(tmp_path)
     History.open(path, migrations=folder).close()
-    (folder / f"{len(migration_files(folder)) + 1:04d}-broken.sql").write_text(
+    shipped = len(migration_files(folder))
+    (folder / f"{shipped + 1:04d}-broken.sql").write_text(
         "CREATE TABLE fine (a);\nCREATE TABLE revisions (a);\n")
     with pytest.raises(HistoryError):
         History.open(path, migrations=folder)
     conn = sqlite3.connect(path)
-    assert conn.execute("PRAGMA user_version").fetchone()[0] == 2
+    assert conn.execute("PRAGMA user_version").fetchone()[0] == shipped
     assert conn.execute("SELECT count(*) FROM sqlite_master WHERE name = 'fine'").fetchone()[0] == 0
     conn.close()
 

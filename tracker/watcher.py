@@ -13,12 +13,16 @@ directory is scanned (a new site folder); a removed one re-checks every file kno
 Only the events that can mean a change are asked of the kernel: not opens and closes without a
 write, or the watcher's own reading of every file at start would flood the kernel's queue.
 
+The watcher also knows the date: at start, and whenever the local date has changed, the deadlines
+the date made overdue are recorded (tracker/tracking/datepassed.py) and handed on like a change.
+
 Events can still be lost: the queue overflows in a burst of saves. Watchdog then says so in its
 log; the watcher listens for that and rescans every site file. Every minute a scan of file sizes
 and times, in a thread of its own, catches anything else that slipped through.
 """
 from __future__ import annotations
 
+import datetime
 import gc
 import logging
 import os
@@ -37,6 +41,7 @@ from tracker.history import History
 from tracker.history.store import Recorded
 from tracker.loading.discover import STATE_DIR
 from tracker.tracking.authors import Authors
+from tracker.tracking.datepassed import DatePassed, record_date
 from tracker.tracking.outcome import FileOutcome, to_revisions
 from tracker.tracking.startup import start
 from tracker.tracking.state import EstateState
@@ -94,8 +99,10 @@ class Watcher:
     """Keeps an EstateState and the history in step with the files of an estate."""
 
     def __init__(self, root: Path, history: History, authors: Authors | None = None,
-                 debounce_s: float = DEBOUNCE_S):
+                 debounce_s: float = DEBOUNCE_S, today=None):
         self.root = Path(root)
+        self.today = today or datetime.date.today   # the local date (tests give a fake one)
+        self._day: datetime.date | None = None       # the last day whose deadlines were recorded
         self.abs_root = self.root.resolve()
         self.history = history
         self.authors = authors or Authors(self.root)
@@ -129,7 +136,7 @@ class Watcher:
         # large estate a full collection over it would take seconds and stall every edit.
         gc.disable()
         try:
-            self.state, done = start(self.root, self.history, self.authors, progress=progress)
+            self.state, done = start(self.root, self.history, self.authors, progress=progress, today=self.today)
             first = self._stat_all()
         finally:
             gc.freeze()
@@ -272,6 +279,19 @@ class Watcher:
                 updates.append(Update(o, rec, rec.source if rec.duplicate else "watch"))
         return updates
 
+    def date_passed(self) -> list[DatePassed]:
+        """At the first call, and whenever the local date has changed since the last: record the
+        deadlines overdue today that the history does not hold as overdue (a revision of the date
+        per site, never twice). Cheap when the date is unchanged: it only reads the clock."""
+        day = self.today()
+        if day == self._day or self.state is None:
+            return []
+        sites = [(s.site, s.result.notification if s.result is not None else None)
+                 for s in self.state.sites.values() if s.site is not None]
+        passed = record_date(sites, self.history, day)
+        self._day = day      # after the record: a write that failed is tried again
+        return passed
+
     def on_problem(self, text: str) -> None:
         """Say something went wrong with one file (the terminal UI shows it in its own way)."""
         print(text, file=sys.stderr, flush=True)
@@ -280,10 +300,14 @@ class Watcher:
         """Wait the settle interval before a file that did not load is read once more."""
         self._stop.wait(self.debounce_s)
 
-    def run(self, on_update, stop: threading.Event | None = None) -> None:
-        """Process changes until stopped, handing each Update to `on_update`."""
+    def run(self, on_update, stop: threading.Event | None = None, on_date=None) -> None:
+        """Process changes until stopped, handing each Update to `on_update`; and, where `on_date`
+        is given, the deadlines a change of date made overdue (each DatePassed) to it."""
         stop = stop or self._stop
         while not stop.is_set() and not self._stop.is_set():
+            if on_date is not None:
+                for d in self.date_passed():
+                    on_date(d)
             for u in self.wait_and_process(timeout=0.5):
                 on_update(u)
 

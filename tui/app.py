@@ -42,6 +42,10 @@ def news_lines(news: list[News]) -> tuple[list[str], list[str]]:
     """(problem lines, good-news lines) announcing what saves did."""
     bad, good = [], []
     for n in news:
+        if n.passed_on:        # no file and no person: the day passed these deadlines
+            bad.extend(f"▲ overdue: {clean(e['ref'])} {clean(e.get('what') or e.get('detail') or '')} — the last "
+                       f"day was {e.get('due')} (the date passed: {n.passed_on})" for e in n.events)
+            continue
         if not n.valid:
             bad.append(f"⚠ input error in {n.file}: " + (n.errors[0] if n.errors else "it does not load"))
             continue

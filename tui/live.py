@@ -17,6 +17,7 @@ from tracker.history import History, HistoryError
 from tracker.output.terminal_text import clean
 from tracker.progress import Progress
 from tracker.tracking.authors import Authors
+from tracker.tracking.datepassed import DatePassed
 from tracker.watcher import DEBOUNCE_S, Update, Watcher
 from tui.snapshot import RowCache, Snapshot, build
 
@@ -51,6 +52,12 @@ class News:
     revision: int = 0
     loads_again: bool = False             # it had an input error and loads now
     warnings: tuple[str, ...] = ()        # what a save brought that `check` warns of (misspelt keys first)
+    passed_on: str = ""                   # the date's own revision: deadlines the day made overdue
+
+    @classmethod
+    def of_date(cls, d: DatePassed) -> "News":
+        return cls(clean(d.site), True, False, tuple(d.events), author=clean(d.recorded.author),
+                   revision=d.recorded.id, passed_on=d.on.isoformat())
 
     @classmethod
     def of(cls, u: Update) -> "News":
@@ -74,6 +81,7 @@ class LiveEstate:
     db_path: Path
     authors: Authors | None = None
     debounce_s: float = DEBOUNCE_S
+    today: Callable | None = None         # the local date (tests give a fake one)
     _recheck: threading.Event = field(default_factory=threading.Event)
     _refresh: threading.Event = field(default_factory=threading.Event)
 
@@ -133,15 +141,17 @@ class LiveEstate:
             label = "checking every circuit…" if reason == "start" else "re-checking every circuit…"
             cb.status(label)
             t0 = time.monotonic()
-            watcher = Watcher(self.root, history, self.authors or Authors(self.root), self.debounce_s)
+            watcher = Watcher(self.root, history, self.authors or Authors(self.root), self.debounce_s, self.today)
             updates = self._start(watcher, stopped, StatusProgress(cb.status, label.split()[0]))
             if updates is None:
                 return True
             try:
                 first = bool(updates) and all(u.outcome.first_record for u in updates)
+                passed = watcher.date_passed()       # overdue since the history last looked
                 cb.snapshot(build(watcher.state, history, cache, first_record=first), reason)
                 cb.status(f"{'checked' if reason == 'start' else 're-checked'} in {time.monotonic() - t0:.1f} s")
                 news = [News.of(u) for u in updates if not (u.outcome.first_record and u.outcome.valid)]
+                news += [News.of_date(d) for d in passed]
                 if news:
                     cb.news(news)
                 self._watch(watcher, history, cache, cb, stopped)
@@ -155,8 +165,9 @@ class LiveEstate:
         head = history.head()[0]
         next_head_check = time.monotonic() + HEAD_CHECK_S
         while not stopped() and not self._recheck.is_set():
+            passed = watcher.date_passed()          # the local date changed: deadlines it passed
             updates = watcher.wait_and_process(timeout=POLL_S)
-            rebuild = bool(updates)
+            rebuild = bool(updates) or bool(passed)
             if self._refresh.is_set():
                 self._refresh.clear()
                 rebuild = True
@@ -167,6 +178,6 @@ class LiveEstate:
                 continue
             snap = build(watcher.state, history, cache)
             head = snap.head
-            cb.snapshot(snap, "change" if updates else "refresh")
-            if updates:
-                cb.news([News.of(u) for u in updates])
+            cb.snapshot(snap, "change" if updates or passed else "refresh")
+            if updates or passed:
+                cb.news([News.of(u) for u in updates] + [News.of_date(d) for d in passed])

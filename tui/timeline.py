@@ -13,7 +13,8 @@ from tui.wording import change_text, number
 
 MAX_CHANGE_LINES = 6
 
-HEADLINES = {"watch": "saved", "replace": "replacement logged", "startup": "found at start", "ack": "acknowledged"}
+HEADLINES = {"watch": "saved", "replace": "replacement logged", "startup": "found at start", "ack": "acknowledged",
+             "date": "the date passed"}
 EVENT_MARK = {"newly-failing": "▲", "worse": "▼", "cleared": "✓", "input-error": "⚠"}
 EVENT_WORDS = {"newly-failing": "newly failing", "worse": "worse", "cleared": "cleared", "input-error": "input error"}
 CHANGE_MARK = {"added": "+", "removed": "−", "modified": "~"}
@@ -40,6 +41,8 @@ class Entry:
 def _event_text(e: dict, ref: str) -> str:
     if e["transition"] == "input-error":
         return e.get("detail") or "the file did not load"
+    if e.get("check") == "deadline" and e.get("detail"):
+        return f"deadline: {e['detail']}"
     where = "" if e["ref"] == ref else f"{e['ref'].split('/', 1)[-1] if '/' in e['ref'] else 'origin'} "
     figures = ""
     if e.get("value") is not None and e.get("limit") is not None:

@@ -5,7 +5,7 @@ colour a stylesheet adds is a second cue, and with NO_COLOR the words carry it a
 """
 from __future__ import annotations
 
-from datetime import datetime, timezone
+from datetime import date, datetime, timezone
 
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.output import figures
@@ -103,3 +103,8 @@ def stamp(at: str | None) -> str:
 
 def utc_now() -> datetime:
     return datetime.now(timezone.utc)
+
+
+def local_day(moment: datetime) -> date:
+    """The local date of a moment (a deadline's day is the local day, as `izwatch due` takes it)."""
+    return moment.astimezone().date() if moment.tzinfo is not None else moment.date()

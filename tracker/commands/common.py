@@ -116,10 +116,41 @@ def event_line(e: dict, outcome, recorded, as_json: bool) -> str:
     who = f" by {clean(recorded.author)}" if recorded else ""
     if e["transition"] == "input-error":
         return f"INPUT ERROR  {clean(e['detail'])}  (last good state kept; {clean(outcome.file)}{who})"
+    if e.get("check") == "deadline" and e.get("what"):   # a deadline in words, not as "days against 0"
+        return f"{deadline_words(e)}  ({clean(outcome.file)}{who})"
     mark = {"newly-failing": "NEWLY FAILING", "cleared": "cleared", "worse": "WORSE"}[e["transition"]]
     need = {"<=": "at most", ">=": "at least"}.get(e.get("compare"), "limit")
     return (f"{mark:<13} {clean(e['ref'])}  {e['check']}: {figures.quantity(e.get('value'), e.get('unit'))}, needs {need} "
             f"{figures.quantity(e.get('limit'), e.get('unit'))}  ({clean(outcome.file)}{who})")
+
+
+def date_lines(passed, as_json: bool) -> list[str]:
+    """The printed lines of the deadlines a change of date made overdue (a DatePassed): one per item.
+    `--json`: the event's fields as `event_line` gives them, with no file, source `date` and the day."""
+    rec, out = passed.recorded, []
+    for e in passed.events:
+        if as_json:
+            out.append(json.dumps({
+                "event": e["transition"], "ref": e["ref"], "check": e.get("check"), "transition": e["transition"],
+                "value": e.get("value"), "limit": e.get("limit"), "unit": e.get("unit"), "compare": e.get("compare"),
+                "detail": e.get("detail"), "file": None, "revision": rec.id, "at": rec.at, "author": rec.author,
+                "source": rec.source, "cause": "date-passed", "on": passed.on.isoformat(), "site": passed.site,
+                "what": e.get("what"), "due": e.get("due")}, ensure_ascii=False))
+            continue
+        out.append(f"{deadline_words(e)}  (the date passed: {passed.on.isoformat()}; revision {rec.id}, "
+                   f"{clean(rec.author)})")
+    return out
+
+
+def deadline_words(e: dict) -> str:
+    """A deadline event in words: `OVERDUE  REF  WHAT: the last day was DATE, N days ago`, or
+    `deadline met  REF  WHAT` once it is put right."""
+    what = clean(e.get("what") or e.get("detail") or "")
+    if e["transition"] == "cleared":
+        return f"{'deadline met':<13} {clean(e['ref'])}  {what}"
+    late = int(e.get("value") or 0)
+    return (f"{'OVERDUE':<13} {clean(e['ref'])}  {what}: the last day was {e.get('due')}, "
+            f"{late} day{'s' if late != 1 else ''} ago")
 
 
 def plain_name(option: str, text: str) -> str:
@@ -131,4 +162,7 @@ def plain_name(option: str, text: str) -> str:
                            "give the name as plain text")
     if not text.strip():
         raise CommandError(f"{option} is empty: say who")
+    if text.strip().casefold().startswith("izwatch ("):
+        raise CommandError(f"{option} {clean(text)!s}: names beginning 'izwatch (' are izwatch's own, for what no "
+                           "person did; give your name")
     return text.strip()

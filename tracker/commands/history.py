@@ -17,7 +17,8 @@ DATE = re.compile(r"\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?Z?")    
 def render(revisions: list[dict], filtered: bool = False) -> str:
     lines = []
     for r in revisions:
-        what = clean(r["file"] or (f"acknowledgement of {r['ack']['ref']}" if r.get("ack") else ""))
+        what = clean(r["file"] or (f"acknowledgement of {r['ack']['ref']}" if r.get("ack") else "")
+                     or (f"{r['site']}: deadlines the date passed (no file changed)" if r["source"] == "date" else ""))
         note = f" — {clean(r['note'])}" if r["note"] else ""
         signed = r.get("signature")
         commit = ""
@@ -34,6 +35,8 @@ def render(revisions: list[dict], filtered: bool = False) -> str:
         for e in r["events"]:
             if e["transition"] == "input-error":
                 lines.append(f"    ! input error: {clean(e['detail'])}")
+            elif e["check"] == "deadline" and e.get("detail"):    # what, its last day and its rule, in words
+                lines.append(f"    ! {clean(e['ref'])} deadline {e['transition']}: {clean(e['detail'])}")
             else:
                 lines.append(f"    ! {clean(e['ref'])} {e['check']} {e['transition']}")
         if r.get("ack"):

@@ -8,8 +8,8 @@ import threading
 
 from tracker.cli import EXIT_OK
 from tracker.progress import Progress
-from tracker.commands.common import (CommandError, check_root, db_path, event_line, fail, loads_again_line,
-                                     open_history, state_warnings, warning_lines)
+from tracker.commands.common import (CommandError, check_root, date_lines, db_path, event_line, fail,
+                                     loads_again_line, open_history, state_warnings, warning_lines)
 from tracker.output.streams import stdout_gone
 from tracker.output.terminal_text import clean
 from tracker.history import shown_location
@@ -38,6 +38,12 @@ def emit_updates(updates, as_json: bool, verbose: bool = False) -> None:
             _print(event_line(e, o, rec, as_json))
 
 
+def emit_dates(passed, as_json: bool) -> None:
+    for d in passed:
+        for line in date_lines(d, as_json):
+            _print(line)
+
+
 def run(args) -> int:
     try:
         root = check_root(args.path)
@@ -57,6 +63,7 @@ def run(args) -> int:
         updates = watcher.start(progress)
         progress.close()
         emit_updates(updates, args.json, args.verbose)
+        emit_dates(watcher.date_passed(), args.json)    # overdue since the history last looked
         state = watcher.state
         n_sites = len([s for s in state.sites.values() if s.site is not None])
         n_circuits = sum(len(s.site.circuits) for s in state.sites.values() if s.site is not None)
@@ -81,7 +88,12 @@ def run(args) -> int:
             if stdout_gone():   # nobody reads what the watcher says (`watch | head`): stop as a pipe expects
                 stop.set()
 
-        watcher.run(on_update, stop)
+        def on_date(d) -> None:
+            emit_dates([d], args.json)
+            if stdout_gone():
+                stop.set()
+
+        watcher.run(on_update, stop, on_date)
     finally:
         watcher.stop()
         history.close()

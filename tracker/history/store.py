@@ -145,7 +145,7 @@ MIGRATION_STEPS: dict = {}
 
 @dataclass
 class NewRevision:
-    source: str
+    source: str                  # watch | replace | startup | ack | date (tracker/history/datepassed.py)
     author: str
     file: str | None = None
     site: str | None = None
@@ -351,7 +351,7 @@ class History:
             if not pending:
                 return
             self._ensure_migrations_table()
-            from tracker.history import people  # noqa: F401  (registers migration 2's step)
+            from tracker.history import datepassed, people  # noqa: F401  (register migrations 2 and 3's steps)
             for name, sql in pending:
                 self._run_migration_sql(sql)
                 step = MIGRATION_STEPS.get(name)
@@ -495,6 +495,20 @@ class History:
         with self._write():
             head_id, head_hash = self.head()
             for rev in revs:
+                rec = self._insert(rev, head_id, head_hash)
+                if not rec.duplicate:
+                    head_id, head_hash = rec.id, self._hash_of(rec.id)
+                out.append(rec)
+        return out
+
+    def record_checked(self, make) -> list[Recorded]:
+        """Write the revisions `make(self)` returns, deciding and writing in one transaction under
+        the write lock: what `make` reads of the history is what the revisions follow, whatever
+        another process does (the date's revisions: tracker/history/datepassed.py)."""
+        out = []
+        with self._write():
+            head_id, head_hash = self.head()
+            for rev in make(self):
                 rec = self._insert(rev, head_id, head_hash)
                 if not rec.duplicate:
                     head_id, head_hash = rec.id, self._hash_of(rec.id)

@@ -19,7 +19,7 @@ from tracker.output import figures
 CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'"
 
 SOURCE_TEXT = {"watch": "seen by the watcher", "replace": "replacement", "ack": "acknow\u00adledgement",
-               "startup": "found at start"}
+               "startup": "found at start", "date": "the date passed (no file changed)"}
 TRANSITION_MARK = {"newly-failing": FAIL, "worse": FAIL, "cleared": PASS, "input-error": WARN}
 # What Iz is held against, where it is not simply the device (for a rewirable fuse that is In/0.725).
 BASIS_TEXT = {"ring": "ring", "design-current": "on Ib"}
@@ -430,6 +430,10 @@ def _what_it_did(r: dict, site_id: str) -> Safe:
         word = el("b", TRANSITION_WORD.get(e["transition"], e["transition"]))
         if e["transition"] == "input-error":
             out.append(el("li", mark(m), " ", word, ": ", e["detail"] or ""))
+            continue
+        if e["check"] == "deadline" and e.get("detail"):     # the deadline in words: what, its last day, its rule
+            out.append(el("li", mark(m), " ", el("code", _short(e["ref"], site_id)), " deadline ", word, ": ",
+                          e["detail"]))
             continue
         figure = ""
         if e.get("value") is not None and e.get("unit"):

@@ -1,8 +1,8 @@
 """Bringing the state and the history together at start.
 
-First use: every file is recorded as found (source `startup`), with its elements as added and
-the failing checks as newly failing. Later starts: a site whose files all match the history is
-taken from disk as it is (the common case, and as fast as a plain check); a site with files
+First use: every file is recorded as found (source `startup`), with its elements as added, the
+failing checks as newly failing and the deadlines overdue that day as newly overdue. Later starts:
+a site whose files all match the history is taken from disk as it is (the common case, and as fast as a plain check); a site with files
 changed, added or removed while nothing watched is first set to its recorded state and then
 brought up to date file by file, each change recorded like any other.
 """
@@ -17,6 +17,7 @@ from tracker.loading.estate import read_content, sha256_hex
 from tracker.tracking.authors import Authors
 from tracker.tracking.diff import ADDED, Change, elements
 from tracker.events import input_error_event
+from tracker.inspection.events import deadline_events
 from tracker.tracking.outcome import FileOutcome, to_revision, to_revisions
 from tracker.parallel import available_cores
 from tracker.tracking.state import EstateState, seed_in_parallel
@@ -42,18 +43,23 @@ def _first_record(state: EstateState, contents: dict[str, bytes]):
             if rel == site.files[0]:
                 out.events, out.results = compare(None, site_state.result)
                 state.explain_events(out.events, site_state.result)
+                out.events += deadline_events(None, site, state.today(),      # overdue as found
+                                              new_origin=site_state.result.notification)
         yield out
 
 
 def start(root: Path, history: History, authors: Authors, folders: set[str] | None = None,
-          jobs: int | None = None, progress=None) -> tuple[EstateState, list[tuple]]:
+          jobs: int | None = None, progress=None, today=None) -> tuple[EstateState, list[tuple]]:
     """(state, [(outcome, recorded)]) with every difference between disk and history recorded.
 
     `folders` limits the work to some site folders (a `replace` or `ack` needs only its site);
     `jobs` worker processes seed the folders (default: one per core; 1: in this process);
-    `progress` (a tracker.progress.Progress, or None) is advanced once per site folder.
+    `progress` (a tracker.progress.Progress, or None) is advanced once per site folder;
+    `today` (a function giving a date; default the local date) is the day deadlines are judged on.
     """
     state = EstateState(root)
+    if today is not None:
+        state.today = today
     recorded = history.latest_by_file()
     if folders is not None:
         recorded = {f: v for f, v in recorded.items() if state.folder_of(f) in folders}

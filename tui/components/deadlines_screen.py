@@ -15,7 +15,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Static
 
 from tui import deadlines
-from tui.wording import utc_now
+from tui.wording import local_day, utc_now
 
 NOTE = ("Deadlines as izwatch reads the regulations cited beside each (tracker/data/deadlines.yaml); "
         "[recalled] marks a rule not confirmed. The law in force decides.")
@@ -38,7 +38,7 @@ class DeadlinesScreen(ModalScreen[None]):
             yield Button("Close", id="deadlines-close", compact=True)
 
     def _body(self) -> Group:
-        on = self.clock().date()
+        on = local_day(self.clock())
         found = deadlines.rows(self.snapshot, on, self.show_done)
         c = deadlines.counts(self.snapshot, on)
         head = Text(f"on {on.isoformat()}: {c['overdue']} overdue, {c['due-soon']} due soon, {c['ok']} ok, "

@@ -1,0 +1,9 @@
+-- izwatch history, migration 3: revisions the date makes (source 'date').
+-- A deadline that becomes overdue only because a day passed is no change of any file and no
+-- person's act: the watcher records it as a revision of its own, source 'date', with no file,
+-- attributed to "izwatch (date passed)", its events the deadline events (check 'deadline').
+-- SQLite cannot alter a CHECK constraint in SQL: the Python step of this migration
+-- (tracker/history/datepassed.py) widens revisions.source's list in the table's definition,
+-- the procedure SQLite's documentation gives for a change that leaves the stored rows as they
+-- are (https://www.sqlite.org/lang_altertable.html, "Making Other Kinds Of Table Schema Changes").
+-- Nothing else changes: no row is touched, so every hash of the chain stays as it was.
