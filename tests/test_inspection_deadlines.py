@@ -201,3 +201,50 @@ def test_no_rules_for_owner_occupied_only_the_inspectors_date():
 def test_outcome_unsatisfactory_while_a_c1_c2_or_fi_is_open(codes, done, expected):
     x = _inspection(observations=[Observation(c, "x", done_on=d) for c, d in zip(codes, done)])
     assert outcome.outcome(x, D(2026, 4, 1)) == expected
+
+
+# -- the other tenures: HMOs, and social landlords in Wales and Scotland ---------------------
+
+def test_england_hmo_dated_example():
+    # SI 2020/312 applies to a house in multiple occupation let as a specified tenancy: the same
+    # duties as any private tenancy. Inspection 2026-03-11 with an FI:
+    x = _inspection(observations=[Observation("FI", "Neutral-earth insulation fault on a lighting circuit")])
+    items = due.site_items(_site(tenure="hmo", inspections=[x]), D(2026, 3, 12))
+    # reg. 3(4)(a): 28 days starting with the date of the inspection → 2026-04-07
+    assert _item(items, "remedial").due == D(2026, 4, 7) and "2020/312" in _item(items, "remedial").source
+    # reg. 3(3)(b): a copy within 28 days of the inspection (its day not counted) → 2026-04-08
+    assert _item(items, "copy of the").due == D(2026, 4, 8)
+    # reg. 3(1)(b): intervals of no more than 5 years → 2031-03-11
+    assert _item(items, "next inspection").due == D(2031, 3, 11)
+
+
+def test_england_hmo_overdue_the_day_after_the_last_day():
+    x = _inspection(observations=[Observation("C1", "Exposed live parts at a broken accessory")])
+    # reg. 3(4)(a): the last day is 2026-04-07, overdue on 2026-04-08
+    assert _item(due.site_items(_site(tenure="hmo", inspections=[x]), D(2026, 4, 7)), "remedial").status \
+        == due.DUE_SOON
+    assert _item(due.site_items(_site(tenure="hmo", inspections=[x]), D(2026, 4, 8)), "remedial").status \
+        == due.OVERDUE
+
+
+def test_wales_social_and_hmo_as_private():
+    # The Renting Homes (Wales) Act 2016 covers every occupation contract, community landlords and
+    # HMOs alike: WSI 2022/6 reg. 6(4), a copy before the end of 7 days starting with 2026-03-11
+    # → 2026-03-17; reg. 6(2)(b), 5 years beginning with 2026-03-11 → 2031-03-10.
+    x = _inspection()
+    for tenure in ("social-rented", "hmo"):
+        items = due.site_items(_site("wales", tenure, [x]), D(2026, 3, 12))
+        assert _item(items, "copy of the").due == D(2026, 3, 17), tenure
+        assert _item(items, "next inspection").due == D(2031, 3, 10), tenure
+        assert "WSI 2022/6" in _item(items, "next inspection").source
+
+
+def test_scotland_hmo_as_private_and_social_by_the_quality_standard():
+    x = _inspection(observations=[Observation("C2", "No RCD on the socket circuits")])
+    # Housing (Scotland) Act 2006 s. 19A covers an HMO let privately: intervals of no more than
+    # 5 years → 2031-03-11
+    hmo = due.site_items(_site("scotland", "hmo", [x]), D(2026, 3, 12))
+    assert [(i.due, "19A" in i.source) for i in hmo] == [(D(2031, 3, 11), True)]
+    # social landlords: the SHQS's 5 years, held as recalled and said so beside the date
+    social = due.site_items(_site("scotland", "social-rented", [x]), D(2026, 3, 12))
+    assert [i.due for i in social] == [D(2031, 3, 11)] and "[recalled]" in social[0].source
