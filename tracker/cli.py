@@ -249,6 +249,11 @@ def _call(args) -> int:
         if os.environ.get("IZWATCH_DEBUG"):
             raise
         from tracker.commands.common import disk_full
+        from tracker.history.store import HistoryError
+        if isinstance(exc, HistoryError):    # said in its own words (damaged, full, read-only, …): not a bug
+            from tracker.output.terminal_text import clean_lines
+            print(f"izwatch: {clean_lines(exc)}", file=sys.stderr)
+            return EXIT_INPUT
         if disk_full(exc):   # a write refused: SQLite rolled its transaction back, nothing is half-written
             print(f"izwatch: disk full ({exc}): nothing was recorded by this command; free some space and run it "
                   "again", file=sys.stderr)

@@ -481,7 +481,14 @@ class History:
 
     def blob(self, digest: str) -> bytes | None:
         row = self.db.execute("SELECT content FROM blobs WHERE hash = ?", [digest]).fetchone()
-        return zlib.decompress(row[0]) if row else None
+        if row is None:
+            return None
+        try:
+            return zlib.decompress(row[0])
+        except (zlib.error, TypeError):     # not what izwatch writes
+            raise HistoryError(f"the file content recorded as {digest[:12]}… is not what izwatch writes (not zlib "
+                               "data): the history was changed outside izwatch; run `izwatch verify`",
+                               "damaged") from None
 
     # -- writing -------------------------------------------------------------------------
 

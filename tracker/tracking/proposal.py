@@ -36,7 +36,8 @@ def _validator():
     schema = dict(schema_json(SCHEMA_FILE))
     schema["$defs"] = {**schema_json("site.schema.json")["$defs"], **schema["$defs"]}
     jsonschema.Draft202012Validator.check_schema(schema)
-    return jsonschema.Draft202012Validator(schema)
+    from tracker.loading.schema_check import whole_patterns
+    return whole_patterns(jsonschema.Draft202012Validator)(schema)     # "$" is the very end: "7\n" is no id
 
 
 @dataclass
