@@ -38,6 +38,8 @@ class ContinuityWorking:
 CHECK = CheckSpec(
     id=ID, rank=140, stage=110, name="continuity against the model", unit="ohm", compare="<=",
     gauge=None, record=ContinuityWorking,
+    fix=("trace the route: look for a hidden joint, an unrecorded spur or a broken ring conductor; put the "
+         "wiring or the record right and test again (common practice)"),
 )
 
 _FIELDS = {'r1_r2_measured_ohm': 'r1_r2_measured_ohm', 'r1_r2_expected_ohm': 'r1_r2_expected_ohm', 'implied_length_m': 'implied_length_m', 'measured_on': 'continuity_measured_on'}

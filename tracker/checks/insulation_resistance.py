@@ -26,6 +26,8 @@ class InsulationWorking:
 CHECK = CheckSpec(
     id=ID, rank=120, stage=110, name="insulation resistance", unit=UNIT, compare=">=",
     gauge=None, record=InsulationWorking,
+    fix=("find and clear the insulation fault: disconnect the equipment, test the circuit in sections to "
+         "locate it, repair or renew the damaged cable or accessory, then test again (common practice)"),
 )
 
 _FIELDS = {'ir_mohm': 'ir_mohm', 'ir_min_mohm': 'ir_min_mohm', 'measured_on': 'ir_measured_on'}

@@ -31,6 +31,9 @@ class MeasuredZsWorking:
 CHECK = CheckSpec(
     id=ID, rank=110, stage=110, name="measured earth fault loop, Zs", unit="ohm", compare="<=",
     gauge="reading/max", record=MeasuredZsWorking,
+    fix=("find why the reading is high before anything is changed (a loose or corroded connection at the "
+         "board or an accessory, a longer route or a smaller cpc than recorded), put it right and measure Zs "
+         "again; if the route is as recorded, the design changes of the circuit bring Zs down (common practice)"),
 )
 
 _FIELDS = {'measured_zs_ohm': 'measured_zs_ohm', 'measured_on': 'measured_on', 'max_zs_ohm': 'measured_max_zs_ohm', 'zs_at_operating_ohm': 'zs_at_operating_ohm'}

@@ -26,6 +26,8 @@ class RcdOperationWorking:
 CHECK = CheckSpec(
     id=ID, rank=130, stage=110, name="RCD operating time", unit=UNIT, compare="<=",
     gauge="time / limit", record=RcdOperationWorking,
+    fix=("test the RCD again with the circuit's loads disconnected; if it is still too slow, replace it and "
+         "test the new one (common practice)"),
 )
 
 _FIELDS = {'rcd_ms': 'rcd_ms', 'rcd_max_ms': 'rcd_max_ms', 'measured_on': 'rcd_measured_on'}

@@ -76,6 +76,10 @@ class CheckSpec:
     record: type | None = None    # its typed working record (tracker.checks.working)
     # Which remedy changes can put a failure of it right (REMEDY_CHANGES); empty: none on the circuit.
     helps: frozenset[str] = frozenset()
+    # What to do about a failure no change of the circuit's sizes puts right (the checks on
+    # readings: find the cause and test again), in the remedy's words; empty: the failing lines
+    # themselves say what to fit (a requirement such as an RCD type).
+    fix: str = ""
     # Whether more load can make it fail, given the circuit's capacity basis (headroom, load limits).
     load_dependent: Callable[[str], bool] = _never
     # The ids of the checks whose outcomes `run` reads, for this circuit.

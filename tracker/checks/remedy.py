@@ -88,10 +88,15 @@ def _sized(check_id: str) -> bool:
 
 
 def _requirement_fixes(result: CircuitResult) -> list[str]:
-    """The failing lines of the failing checks no size change helps, as their details word them."""
+    """What to do about the failing checks no size change helps: the check's `fix` where it declares
+    one (the checks on readings), else its failing lines as its detail words them."""
     out = []
     for r in result.checks:
         if r.status == FAIL and not _sized(r.id):
+            spec = registry.spec(r.id)
+            if spec is not None and spec.fix:
+                out.append(f"{r.id}: {spec.fix}")
+                continue
             lines = [part[len("[fail] "):] for part in r.detail.split("; ") if part.startswith("[fail] ")]
             out += lines or [f"{r.id}: {r.detail or 'see the check'}"]
     return out
@@ -364,6 +369,16 @@ def find(result: CircuitResult) -> dict | None:
         cand, trial = chosen
         # a device alone first, then fewer circuits grouped, a split ring, a new cable, a new route
         options.append((0 if cand.cable.csa_mm2 == c.cable.csa_mm2 else 4, _describe(c, cand, trial), cand))
+    if chosen is not None and fallback is not None and fallback is not chosen:
+        # a change that passes with a caution the circuit did not have (30 mA RCD protection on a TN
+        # circuit whose loop is too long: fault protection then relies on the RCD) is still one an
+        # electrician may prefer to a new cable: offered after the clean ones, with its caution named
+        cand, trial = fallback
+        added = sorted(_with(trial, WARN) - cautions)
+        words = _describe(c, cand, trial)
+        if added:
+            words[-1] += f" (then with a caution on {', '.join(added)}: {_caution_words(trial, added)})"
+        options.append((6, words, cand))
     if local:
         seen_ranks = set()
         for rank, words, cand in itertools.chain(_device_kind_changes(result), _route_changes(result, failing)):
@@ -408,6 +423,14 @@ def find(result: CircuitResult) -> dict | None:
                 text.append(f"or keep the circuit as it is and limit its load to {limit_kw:.2f} kW")
     out["text"] = "; ".join(fixes + text)
     return out
+
+
+def _caution_words(trial: CircuitResult, ids: list[str]) -> str:
+    """The caution a fallback change brings, in a few words (fault protection by an RCD named)."""
+    if "fault-loop" in ids and trial.circuit.rcd_ma is not None:
+        return (f"fault protection relies on the {trial.circuit.rcd_ma:g} mA RCD, Zs ≤ 50 V / IΔn, "
+                "BS 7671 Table 41.5")
+    return "see the check"
 
 
 def _no_change_why(result: CircuitResult, failing: set[str]) -> str:
