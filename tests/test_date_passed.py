@@ -301,3 +301,23 @@ def test_a_saves_deadline_events_are_worded_as_deadlines(site_factory):
                                "the last day was 2026-04-07, 13 days ago  (flat-1/site.yaml")
     # the first inspection (SI 2020/312 reg. 1(3)(b): by 1 April 2021) is met by this one
     assert lines[1].startswith("deadline met  flat-1  first inspection and test (none recorded)")
+
+
+def test_the_dates_revision_on_a_team_history(site_factory, pg_schema):
+    """On PostgreSQL (migration 3 replaces the sources' constraint): the date's revision is recorded
+    once by two watchers on one server history, and verifies."""
+    root = site_factory(RENTED + INSPECTION)
+    clock = Clock(EVE)
+    w1, h1 = _watcher(root, clock, db=pg_schema)
+    w2, h2 = _watcher(root, clock, db=pg_schema)
+    try:
+        clock.day = FIRST_LATE
+        found = w1.date_passed() + w2.date_passed()
+        assert [(d.recorded.source, d.recorded.author, [e["ref"] for e in d.events]) for d in found] == [
+            ("date", DATE_AUTHOR, ["flat-1/CU1/1"])]
+        assert _date_events(h2) == [("date", DATE_AUTHOR, None, "flat-1/CU1/1", "newly-failing")]
+        assert verify(h1).ok
+    finally:
+        for w, h in ((w1, h1), (w2, h2)):
+            w.stop()
+            h.close()
