@@ -19,14 +19,15 @@ from tracker.loading.estate import sha256_hex
 # Written out by hand, as for SQLite (tests/test_history_store.py): a table, index or trigger
 # added, renamed or dropped without this test changing fails it.
 EXPECTED_TABLES = {"revisions", "blobs", "changes", "results", "events", "acks", "_izwatch_migrations", "people",
-                   "notes", "rechained"}
+                   "notes", "rechained", "verified_heads"}
 EXPECTED_INDEXES = {
     "revisions_pkey", "revisions_hash_key", "revisions_file_succession", "revisions_file", "revisions_at",
     "blobs_pkey", "changes_pkey", "changes_ref", "results_pkey", "results_ref", "events_pkey", "events_ref",
     "acks_pkey", "acks_ref", "_izwatch_migrations_pkey", "_izwatch_migrations_migration_set_name_key",
-    "people_pkey", "people_name", "notes_pkey", "notes_actor", "rechained_pkey",
+    "people_pkey", "people_name", "notes_pkey", "notes_actor", "rechained_pkey", "verified_heads_pkey",
 }
-EXPECTED_TRIGGERS = {f"{t}_{kind}" for t in ("revisions", "changes", "results", "events", "acks", "blobs", "rechained")
+EXPECTED_TRIGGERS = {f"{t}_{kind}" for t in ("revisions", "changes", "results", "events", "acks", "blobs", "rechained",
+                                               "verified_heads")
                      for kind in ("append_only", "no_truncate")} | {
     "people_erase_only", "people_no_truncate", "notes_erase_only", "notes_no_truncate"}
 

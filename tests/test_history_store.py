@@ -28,18 +28,19 @@ def store(tmp_path):
 
 
 # The schema as schema/history/0001-initial.sql, 0002-people-outside-the-chain.sql and
-# 0003-revisions-of-the-date.sql declare it,
+# 0003-revisions-of-the-date.sql and 0004-verified-heads.sql declare it,
 # written out here by hand so that a table, index or trigger added, renamed or dropped without
 # this test changing fails it.
 EXPECTED_SQLITE_OBJECTS = {
     ("table", "revisions"), ("table", "blobs"), ("table", "changes"), ("table", "results"),
     ("table", "events"), ("table", "acks"), ("table", "_sqlite_migrations"),
     ("table", "people"), ("table", "notes"), ("table", "rechained"), ("view", "named_revisions"),
+    ("table", "verified_heads"),
     ("index", "revisions_file_succession"), ("index", "revisions_file"), ("index", "revisions_at"),
     ("index", "changes_ref"), ("index", "results_ref"), ("index", "events_ref"), ("index", "acks_ref"),
     ("index", "idx__sqlite_migrations_migration_set_name"), ("index", "people_name"), ("index", "notes_actor"),
     *(("trigger", f"{t}_append_only_{op}") for t in ("revisions", "changes", "results", "events", "acks", "blobs",
-                                                      "rechained") for op in "ud"),
+                                                      "rechained", "verified_heads") for op in "ud"),
     ("trigger", "people_keep"), ("trigger", "people_erase_only"), ("trigger", "notes_keep"),
     ("trigger", "notes_erase_only"),
 }
@@ -49,6 +50,7 @@ EXPECTED_COLUMNS = {
     "people": ["actor", "name", "salt", "erased_at"],
     "notes": ["digest", "actor", "text", "salt", "erased_at"],
     "rechained": ["revision_id", "old_hash", "at"],
+    "verified_heads": ["revision_id", "hash", "verified_at", "tool_version"],
     "blobs": ["hash", "size", "content"],
     "changes": ["revision_id", "seq", "ref", "change", "field", "old", "new"],
     "results": ["revision_id", "ref", "status", "checks"],
@@ -60,7 +62,7 @@ EXPECTED_COLUMNS = {
 
 def test_exact_schema_version_and_wal(store):
     db = store.db
-    assert db.execute("PRAGMA user_version").fetchone()[0] == 3   # three migrations applied
+    assert db.execute("PRAGMA user_version").fetchone()[0] == 4   # four migrations applied
     assert db.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
     objects = {(t, n) for t, n in db.execute("SELECT type, name FROM sqlite_master")
                if not n.startswith("sqlite_autoindex_")}    # SQLite's own indexes of keys and UNIQUE
@@ -69,7 +71,8 @@ def test_exact_schema_version_and_wal(store):
         assert [c.name for c in db[table].columns] == columns, table
     assert db.execute("SELECT name FROM _sqlite_migrations").fetchall() == [("0001-initial",),
                                                                             ("0002-people-outside-the-chain",),
-                                                                            ("0003-revisions-of-the-date",)]
+                                                                            ("0003-revisions-of-the-date",),
+                                                                            ("0004-verified-heads",)]
     # migration 3 widened the sources a revision may have: 'date', for what the passing of a day did
     sql = db.execute("SELECT sql FROM sqlite_master WHERE name = 'revisions'").fetchone()[0]
     assert "CHECK (source IN ('watch', 'replace', 'startup', 'ack', 'date'))" in sql
@@ -82,7 +85,7 @@ def test_migrations_are_not_reapplied(tmp_path):
     path = tmp_path / "h.sqlite"
     History.open(path).close()
     h = History.open(path)
-    assert h.db.execute("SELECT count(*) FROM _sqlite_migrations").fetchone()[0] == 3
+    assert h.db.execute("SELECT count(*) FROM _sqlite_migrations").fetchone()[0] == 4
     h.close()
 
 

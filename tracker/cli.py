@@ -254,6 +254,11 @@ def _call(args) -> int:
             from tracker.output.terminal_text import clean_lines
             print(f"izwatch: {clean_lines(exc)}", file=sys.stderr)
             return EXIT_INPUT
+        from tracker.history.store import is_damage
+        if is_damage(exc):   # a damaged page met by a read: every open checks only what is cheap (README)
+            print(f"izwatch: {_history_named(args)}: the history database is damaged ({exc}); it is left as it is "
+                  "— run izwatch verify, and restore it from a backup (see README, 'Reliability')", file=sys.stderr)
+            return EXIT_INPUT
         if disk_full(exc):   # a write refused: SQLite rolled its transaction back, nothing is half-written
             print(f"izwatch: disk full ({exc}): nothing was recorded by this command; free some space and run it "
                   "again", file=sys.stderr)
@@ -261,6 +266,16 @@ def _call(args) -> int:
         print(f"izwatch: internal error: {type(exc).__name__}: {exc} "
               "(set IZWATCH_DEBUG=1 for details, and please report it)", file=sys.stderr)
         return EXIT_INTERNAL
+
+
+def _history_named(args) -> str:
+    """The history a command was using, to name in a message."""
+    try:
+        from tracker.commands.common import db_path
+        from tracker.history import shown_location
+        return shown_location(db_path(args))
+    except Exception:  # noqa: BLE001 - naming it is a courtesy
+        return "the history"
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -119,6 +119,45 @@ print(json.dumps({arg: {"median_s": statistics.median(acc["times"]), "min_s": mi
 """
 
 
+GROW_HISTORY = """
+import random, re, sys
+from pathlib import Path
+from tracker.history import History
+from tracker.tracking.authors import Authors
+from tracker.tracking.outcome import to_revision
+from tracker.tracking.startup import start
+
+# A history grown to a number of revisions as a watcher grows it: the first record of the estate,
+# then edits of sites' files each followed by its undoing (so that the files on disk stay what
+# the history last recorded), one in two breaking a circuit (a newly-failing, then a cleared
+# event). The site reported on (`keep`) gets its own 20 revisions first, the same at every size.
+root, db, target, keep = Path(sys.argv[1]), Path(sys.argv[2]), int(sys.argv[3]), sys.argv[4]
+history = History.open(db)
+state, _ = start(root, history, Authors(root), jobs=1)
+rng = random.Random(11)
+others = sorted(f for f in state.sites if f != keep)
+
+def revisions():
+    k = 0
+    while history_count[0] + k < target:
+        folder = keep if k < 20 else rng.choice(others)
+        rel = folder + '/site.yaml'
+        text = (root / rel).read_text()
+        new = re.sub('kind: lighting, power_kw: [0-9.]+', 'kind: lighting, power_kw: ' + ('60' if k % 4 == 0 else '0.1'),
+                     text, count=1)
+        if new == text:
+            continue
+        for raw in (new, text):
+            out = state.apply_bytes(rel, raw.encode())
+            yield to_revision(out, 'watch', 'benchmark')
+            k += 1
+
+history_count = [history.count()]
+history.record_many(revisions())
+print(history.count())
+"""
+
+
 def run_timed(cmd: list[str], stdout=subprocess.DEVNULL, ok=(0, 1)) -> tuple[float, float, str]:
     """(wall seconds, peak RSS MiB, stdout) of a child process."""
     t = time.perf_counter()

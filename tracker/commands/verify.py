@@ -1,10 +1,14 @@
-"""`izwatch verify PATH [--db FILE]`: exit 0 when the history's chain is intact, 1 otherwise."""
+"""`izwatch verify PATH [--db FILE]`: exit 0 when the history's chain is intact, 1 otherwise.
+
+A verification that finds the history intact records the head it reached (migration 4's
+`verified_heads`), where the history can be written: a report then recomputes only the revisions
+after it."""
 from __future__ import annotations
 
 from tracker.cli import EXIT_FAIL, EXIT_OK
 from tracker.commands.common import CommandError, check_root, db_path
 from tracker.history import History, HistoryError, location_exists, shown_location
-from tracker.history.verify import verify
+from tracker.history.verify import record_verified_head, verify
 
 
 def _open(args) -> History:
@@ -64,6 +68,11 @@ def run(args) -> int:
         return EXIT_FAIL
     report = verify(history)
     anchor = _against_head(history, args.head) if report.ok and getattr(args, "head", None) else None
+    if report.ok and (anchor is None or anchor[0]):
+        try:   # reports then recompute only the revisions after this head
+            record_verified_head(history, report)
+        except HistoryError:
+            pass   # a history that cannot be written (a role without INSERT): the verdict stands
     history.close()
     if report.ok and anchor is not None and not anchor[0]:
         print(f"izwatch verify: FAILED — {anchor[1]}")

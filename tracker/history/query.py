@@ -98,19 +98,29 @@ def _load(text, rid: int | None = None):
                            "changed outside izwatch; run `izwatch verify`", "damaged") from None
 
 
+def _below(column: str, ref: str | None) -> tuple[str, list]:
+    """A condition on `column` for REF itself or anything below it (the range [REF/, REF0), which
+    the indexes on ref serve), and its arguments; nothing for no REF."""
+    if ref is None:
+        return "", []
+    return f" AND ({column} = ? OR ({column} >= ? AND {column} < ?))", [ref, ref + "/", ref + "0"]
+
+
 def latest_acks(history: History, into: dict | None = None, after: int = 0,
-                upto: int | None = None) -> dict[str, dict]:
+                upto: int | None = None, ref: str | None = None) -> dict[str, dict]:
     """ref -> its latest acknowledgement {revision, at, author, note, checks}.
 
     With `into` and `after`, the acknowledgements of revisions after `after` (and up to `upto`)
     are folded into an earlier answer: the history only grows, so the result is the same.
+    `ref` (a site, say): only the acknowledgements of it and what is below it, read by index.
     """
     out = {} if into is None else into
-    for rid, ref, checks, at, author, note in history.db.execute(
+    cond, args = _below("a.ref", ref)
+    for rid, ref_, checks, at, author, note in history.db.execute(
             "SELECT a.revision_id, a.ref, a.checks, r.at, r.author, r.note FROM acks a "
-            f"JOIN {named(history)} r ON r.id = a.revision_id WHERE a.revision_id > ? AND a.revision_id <= ? "
-            "ORDER BY a.revision_id", [after, _upto(upto)]):
-        out[ref] = {"revision": rid, "at": at, "author": author, "note": note, "checks": _load(checks, rid)}
+            f"JOIN {named(history)} r ON r.id = a.revision_id WHERE a.revision_id > ? AND a.revision_id <= ?{cond} "
+            "ORDER BY a.revision_id", [after, _upto(upto), *args]):
+        out[ref_] = {"revision": rid, "at": at, "author": author, "note": note, "checks": _load(checks, rid)}
     return out
 
 
@@ -119,7 +129,7 @@ def _upto(upto: int | None) -> int:
 
 
 def failing_since(history: History, into: dict | None = None, after: int = 0,
-                  upto: int | None = None) -> dict[tuple[str, str], dict]:
+                  upto: int | None = None, ref: str | None = None) -> dict[tuple[str, str], dict]:
     """(ref, check) -> the revision of its latest newly-failing event, with the cause, and
     (`worse_revision`) the latest "worse" not undone since.
 
@@ -130,15 +140,17 @@ def failing_since(history: History, into: dict | None = None, after: int = 0,
     its limit). `worse` keeps, for each "worse" still in force, its revision and how badly the
     check failed before it; `level`, how badly it failed at the latest of these events.
 
-    `into`, `after`, `upto`: folded into an earlier answer, as for `latest_acks`.
+    `into`, `after`, `upto`: folded into an earlier answer, as for `latest_acks`; `ref` (a site,
+    say): only it and what is below it, read by index.
     """
     out = {} if into is None else into
+    cond, args = _below("e.ref", ref)
     rows = history.db.execute(
         "SELECT e.revision_id, e.ref, e.check_id, e.transition, e.value, e.limit_value, r.at, r.author, r.note, "
         f"r.file FROM events e JOIN {named(history)} r ON r.id = e.revision_id "
-        "WHERE e.revision_id > ? AND e.revision_id <= ? "
+        f"WHERE e.revision_id > ? AND e.revision_id <= ?{cond} "
         "AND e.transition IN ('newly-failing', 'worse', 'cleared') ORDER BY e.revision_id, e.seq",
-        [after, _upto(upto)]).fetchall()
+        [after, _upto(upto), *args]).fetchall()
     steps = [(row[0], 0, row) for row in rows]
     # The recorded results of the elements with a "worse" in force: how each later revision left them.
     watched = {k[0] for k, v in out.items() if v.get("worse")} | {row[1] for row in rows if row[3] == "worse"}

@@ -138,6 +138,73 @@ def shown_location(location) -> str:
     return str(location)
 
 
+# What every open checks, at a cost that does not grow with the history (README, "Reliability"):
+# the file's header (SQLite file format, section 1.3: SQLite refuses a foreign magic string or an
+# impossible page size; here, a file at least as long as the page count its header gives), the
+# schema read back, and the
+# first and last row of every table (the b-tree's root and both edges read). `PRAGMA quick_check`
+# reads every page: it runs on open only while the files are small enough for it to be cheap.
+# A damaged page met later by a read is reported where it is met (`is_damage`); `izwatch verify`
+# runs SQLite's full integrity check.
+QUICK_CHECK_UP_TO_BYTES = 4 << 20
+
+
+def _log_in_use(path: Path) -> bool:
+    """Whether the history's write-ahead log holds anything (a checkpoint may then be writing the
+    file: its header and its length are not compared)."""
+    try:
+        return os.stat(path.with_name(path.name + "-wal")).st_size > 0
+    except OSError:
+        return False
+
+
+def header_problem(conn: sqlite3.Connection, path: Path) -> str:
+    """What the SQLite header says is wrong with the file ('' when nothing), read through SQLite:
+    a header that is not SQLite's or gives an impossible page size is refused by SQLite itself
+    ("file is not a database"); here, a file shorter than the page count its header gives (SQLite
+    file format, sqlite.org/fileformat.html, 1.3.9) — truncated. The file is never opened
+    beside SQLite's connection (closing another descriptor of it would drop SQLite's POSIX locks),
+    only its length read; and the count is compared only while no write-ahead log is in use,
+    before and after it is read (a checkpoint writes the first page before the file grows)."""
+    quiet = not _log_in_use(path)
+    page_size = conn.execute("PRAGMA page_size").fetchone()[0]
+    pages = conn.execute("PRAGMA page_count").fetchone()[0]
+    size = os.stat(path).st_size
+    quiet = quiet and not _log_in_use(path)
+    if quiet and pages * page_size > size:
+        return (f"the file is shorter than its header says ({size} bytes for {pages} pages of {page_size}): "
+                "it was truncated")
+    return ""
+
+
+def is_damage(exc: BaseException) -> bool:
+    """An SQLite error that means the file's pages are damaged (not a lock, a full disk or a
+    permission)."""
+    low = str(exc).lower()
+    return isinstance(exc, sqlite3.DatabaseError) and ("malformed" in low or "not a database" in low
+                                                       or "disk image" in low)
+
+
+def open_check(conn: sqlite3.Connection, path: Path) -> str:
+    """The checks of every open ('' when all pass): the header, the schema, each table's first and
+    last row, and `PRAGMA quick_check` while the history and its log are at most
+    QUICK_CHECK_UP_TO_BYTES together."""
+    problem = header_problem(conn, path)
+    if problem:
+        return problem
+    tables = [name for (name,) in conn.execute(
+        "SELECT name FROM sqlite_master WHERE type = 'table' AND rootpage > 0 AND name NOT LIKE 'sqlite_%'")]
+    for name in tables:
+        conn.execute(f"SELECT min(rowid), max(rowid) FROM [{name}]").fetchone()
+    wal = path.with_name(path.name + "-wal")
+    size = path.stat().st_size + (wal.stat().st_size if os.path.exists(wal) else 0)
+    if size <= QUICK_CHECK_UP_TO_BYTES:
+        found = [r[0] for r in conn.execute("PRAGMA quick_check").fetchall()]
+        if found != ["ok"]:
+            return found[0]
+    return ""
+
+
 # Python steps that a migration runs after its SQL, in the same transaction (data moved between
 # tables): migration name -> function(history). Registered by the modules that own the data.
 MIGRATION_STEPS: dict = {}
@@ -214,9 +281,9 @@ class History:
             conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
             db = sqlite_utils.Database(conn)
-            bad = [r[0] for r in db.execute("PRAGMA integrity_check").fetchall()]
-            if bad != ["ok"]:
-                raise HistoryError(f"{path}: the history database is damaged ({bad[0]}); it is left as it "
+            bad = open_check(conn, path)
+            if bad:
+                raise HistoryError(f"{path}: the history database is damaged ({bad}); it is left as it "
                                    "is — restore it from a backup (see README, 'Reliability')", "damaged")
             store = cls(db, path, migrations)
             pending = store._pending()     # refuses a foreign or newer file before anything is written
@@ -252,14 +319,15 @@ class History:
             raise HistoryError(f"{path}: no history recorded yet", "missing")
         if path.stat().st_size == 0:
             raise HistoryError(f"{path}: the history file is empty (truncated?)", "damaged")
+        conn = None
         try:
             conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
             conn.execute("PRAGMA query_only = ON")
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
-            bad = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall()]
-            if bad != ["ok"]:
+            bad = open_check(conn, path)
+            if bad:
                 conn.close()
-                raise HistoryError(f"{path}: the history database is damaged ({bad[0]})", "damaged")
+                raise HistoryError(f"{path}: the history database is damaged ({bad})", "damaged")
             version = conn.execute("PRAGMA user_version").fetchone()[0]
             known = len(migration_files(migrations_dir()))
             if version != known and not (older and 0 < version < known):
@@ -268,7 +336,10 @@ class History:
                                    + (" (open it once with `watch` or `verify` to bring it up to date)"
                                       if 0 < version < known else ""))
         except sqlite3.DatabaseError as exc:
-            raise HistoryError(f"{path}: not a usable izwatch history ({exc})") from None
+            if conn is not None:
+                conn.close()
+            raise HistoryError(f"{path}: not a usable izwatch history ({exc})",
+                               "damaged" if is_damage(exc) else "unusable") from None
         return cls(sqlite_utils.Database(conn), path)
 
     @classmethod
@@ -463,8 +534,17 @@ class History:
     def count(self) -> int:
         return self.db.execute("SELECT count(*) FROM revisions").fetchone()[0]
 
-    def latest_by_file(self) -> dict[str, tuple[int, str | None, bool]]:
-        """file -> (revision id, content hash, valid) of its latest revision."""
+    def latest_by_file(self, files=None) -> dict[str, tuple[int, str | None, bool]]:
+        """file -> (revision id, content hash, valid) of its latest revision; `files`: of these
+        files only, each read by index."""
+        if files is not None:
+            out = {}
+            for f in files:
+                row = self.db.execute("SELECT id, content_hash, valid FROM revisions WHERE file = ? "
+                                      "ORDER BY id DESC LIMIT 1", [f]).fetchone()
+                if row is not None:
+                    out[f] = (row[0], row[1], bool(row[2]))
+            return out
         rows = self.db.execute(
             "SELECT r.file, r.id, r.content_hash, r.valid FROM revisions r "
             "JOIN (SELECT file, max(id) AS id FROM revisions WHERE file IS NOT NULL GROUP BY file) m "

@@ -7,6 +7,7 @@ so and why instead of leaving it out.
 """
 from __future__ import annotations
 
+import sqlite3
 from datetime import datetime, timezone
 from pathlib import Path
 
@@ -21,7 +22,8 @@ from tracker.checks.site import SiteResult, board_spare_kw, evaluate_site, origi
 from tracker.graph import BOARD, CIRCUIT, LOAD, build_graph, kind_of
 from tracker.history import History, HistoryError, history_location, location_exists, shown_location
 from tracker.history import query
-from tracker.history.verify import verify
+from tracker.history.store import is_damage
+from tracker.history.verify import verify_tail
 from tracker.model import PHASES, Site
 from tracker.output.figures import rounded
 from tracker.output.json_out import CAUTION, circuit_entry
@@ -30,6 +32,23 @@ from tracker.report import inspections as inspection_record
 SCHEMA = "izwatch.report/1"
 STATUSES = (PASS, FAIL, WARN, NOT_ASSESSED)
 VERIFY_SCOPE = "the whole history file (every site recorded in it)"
+
+
+def damaged_read(db, exc: BaseException) -> str:
+    """A damaged page met while reading the history, in words."""
+    return (f"{shown_location(db)}: the history database is damaged ({exc}); it is left as it is — run izwatch "
+            "verify, and restore it from a backup")
+
+
+def verify_scope(verified_head: dict | None) -> str:
+    """What a report's verification covered, in words (verify.verify_tail)."""
+    if verified_head is None:
+        return ("the whole history file (every site recorded in it): every revision's hash recomputed now; "
+                "SQLite's own integrity check of the file is run by `izwatch verify`")
+    n = verified_head["revision"]
+    return (f"the whole history file (every site recorded in it): the hashes of the revisions after #{n} recomputed "
+            f"now; revisions #1 to #{n} checked in full by `izwatch verify` on {verified_head['at']} (SQLite's "
+            f"integrity check and every hash), and revision #{n} still has the hash it had then")
 
 
 
@@ -235,8 +254,11 @@ class HistoryReader:
     every site of the estate — failure causes, acknowledgements, files' latest states, the chain's
     verification — worked out once; `for_site` adds the site's own revisions. Never writes."""
 
-    def __init__(self, db: Path):
+    def __init__(self, db: Path, site: str | None = None):
+        """`site`: the report of that site only — its failures, acknowledgements and files are read
+        by index, so that the cost follows the site's rows and not the history's."""
         self.db = history_location(db)
+        self.site = site
         self.history = None
         self.error: str | None = None
         if not location_exists(self.db):
@@ -246,13 +268,17 @@ class HistoryReader:
         except HistoryError as exc:
             self.error = str(exc)
             return
-        self.report = verify(self.history)
         try:
-            self.failing = query.failing_since(self.history)
-            self.acks = query.latest_acks(self.history)
-            self.latest = self.history.latest_by_file()
+            self.report = verify_tail(self.history)
+            self.failing = query.failing_since(self.history, ref=site)
+            self.acks = query.latest_acks(self.history, ref=site)
+            self.latest = None if site else self.history.latest_by_file()
         except HistoryError as exc:   # rows izwatch did not write: the report says so (verify names where)
             self.error = str(exc)
+        except sqlite3.DatabaseError as exc:
+            if not is_damage(exc):
+                raise
+            self.error = damaged_read(self.db, exc)
 
     def close(self) -> None:
         if self.history is not None:
@@ -264,7 +290,7 @@ class HistoryReader:
         out = {"state": "none", "path": shown_location(db), "reason": None, "since": since, "revisions": [],
                "revisions_of_site": 0, "latest_at": None, "failing": {}, "acks": {}, "by_id": {}, "files": None,
                "verification": {"state": "none", "ok": None, "revisions": None, "head_hash": None,
-                                "problem": None, "first_bad": None, "scope": VERIFY_SCOPE}}
+                                "problem": None, "first_bad": None, "scope": VERIFY_SCOPE, "verified_in_full": None}}
         if self.history is None and self.error is None:
             out["reason"] = f"no history recorded yet ({shown_location(db)} does not exist)"
             out["verification"]["problem"] = "no history to verify"
@@ -277,6 +303,15 @@ class HistoryReader:
             return out
         try:
             everything = query.revisions(self.history, ref=site.id)
+            latest = self.history.latest_by_file(site_files) if self.latest is None else self.latest
+        except sqlite3.DatabaseError as exc:
+            if not is_damage(exc):
+                raise
+            problem = damaged_read(self.db, exc)
+            out.update(state="unreadable", reason=problem)
+            out["verification"].update(state="unreadable", ok=False, problem=problem)
+            out["files"] = _file_states(site_files, None)
+            return out
         except HistoryError as exc:
             out.update(state="unreadable", reason=str(exc))
             out["verification"].update(state="unreadable", ok=False, problem=str(exc))
@@ -288,18 +323,19 @@ class HistoryReader:
         out["revisions"] = ([r for r in everything if r["at"] >= since] if since else everything)
         out["failing"] = self.failing
         out["acks"] = {ref: a for ref, a in self.acks.items() if ref.split("/")[0] == site.id}
-        out["files"] = _file_states(site_files, {f: v for f, v in self.latest.items() if f in site_files})
+        out["files"] = _file_states(site_files, {f: v for f, v in latest.items() if f in site_files})
         rep = self.report
         out["verification"].update(state="intact" if rep.ok else "broken", ok=rep.ok, revisions=rep.revisions,
                                    head_hash=rep.head_hash or None, problem=rep.problem or None,
-                                   first_bad=rep.first_bad)
+                                   first_bad=rep.first_bad, scope=verify_scope(rep.verified_head),
+                                   verified_in_full=rep.verified_head)
         out["state"] = "recorded"
         return out
 
 
 def _read_history(db: Path, site: Site, site_files: dict, since: str | None) -> dict:
     """What the report of one site needs from the history, read in one go."""
-    reader = HistoryReader(db)
+    reader = HistoryReader(db, site=site.id)
     try:
         return reader.for_site(site, site_files, since)
     finally:
@@ -383,6 +419,6 @@ def index(docs: list[tuple[dict, str]], failed: list[tuple[str, list]], estate: 
     if verification is None:
         verification = docs[0][0]["verification"] if docs else {
             "state": "none", "ok": None, "revisions": None, "head_hash": None, "problem": "no site loaded",
-            "first_bad": None, "scope": VERIFY_SCOPE}
+            "first_bad": None, "scope": VERIFY_SCOPE, "verified_in_full": None}
     return {"schema": INDEX_SCHEMA, "generated_at": _iso(now), "tool": {"name": "izwatch", "version": __version__},
             "caution": CAUTION, "estate": estate, "verification": verification, "sites": sites}

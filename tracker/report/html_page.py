@@ -487,8 +487,16 @@ def _integrity(doc: dict) -> Safe:
     v = doc["verification"]
     head = el("h2", "6. Integrity of the history", id="integrity")
     if v["state"] == "intact":
-        result = cat(badge(PASS, "Intact."), f" The hash chain of all {v['revisions']} revisions and SQLite's own "
-                     "integrity check agree: no recorded revision has been changed or removed.")
+        full = v.get("verified_in_full")
+        if full is None:
+            result = cat(badge(PASS, "Intact."), f" The hash chain of all {v['revisions']} revisions recomputes: no "
+                         "recorded revision has been changed or removed. SQLite's own integrity check of the file "
+                         "is run by izwatch verify.")
+        else:
+            result = cat(badge(PASS, "Intact."), f" The hash chain of all {v['revisions']} revisions holds: the "
+                         f"revisions after #{full['revision']} recompute now, and #{full['revision']} still has the "
+                         f"hash it had when izwatch verify checked revisions #1 to #{full['revision']} in full "
+                         f"({when(full['at'])}).")
     elif v["state"] == "broken":
         result = cat(badge(FAIL, "Does not verify."), " ", v["problem"] or "",
                      f" (first revision that does not match: #{v['first_bad']})." if v["first_bad"] else ".",
