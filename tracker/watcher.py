@@ -39,7 +39,8 @@ from watchdog.observers import Observer
 
 from tracker.history import History
 from tracker.history.store import Recorded
-from tracker.loading.discover import STATE_DIR
+from tracker.loading.discover import STATE_DIR, EstateError, site_folders, split_problems
+from tracker.output.terminal_text import clean
 from tracker.tracking.authors import Authors
 from tracker.tracking.datepassed import DatePassed, record_date
 from tracker.tracking.outcome import FileOutcome, to_revisions
@@ -111,6 +112,7 @@ class Watcher:
         self._pending: dict[str, float] = {}  # path -> when it is due (monotonic seconds)
         self._dirs: set[str] = set()          # folders created, moved or removed: expanded by the main thread
         self._rescan = False
+        self._nesting = False                 # folders came or went: look for site folders nested too deep
         self._scanner: threading.Thread | None = None
         self._cond = threading.Condition()
         self._stop = threading.Event()
@@ -227,8 +229,12 @@ class Watcher:
         for rel in self._dirs:
             d = self.root / rel
             found = [p.relative_to(self.root).as_posix() for p in d.glob("*.yaml")] if d.is_dir() else []
+            if rel.endswith(".yaml"):
+                found.append(rel)          # a folder under a site file's name: an error naming it
             for r in found + [r for r in self.state.hashes if r.startswith(rel + "/")]:
                 self._pending[r] = now + self.debounce_s
+        if self._dirs:
+            self._nesting = True
         self._dirs.clear()
 
     def _due(self) -> tuple[list[str], float | None]:
@@ -263,6 +269,9 @@ class Watcher:
 
     def process(self, rels: list[str]) -> list[Update]:
         updates = []
+        if self._nesting or any(self.state.folder_of(rel) is None for rel in rels):
+            self._nesting = False
+            self.check_nesting()
         for rel in rels:
             try:
                 outcome = self.state.apply_disk(rel, self._settle)
@@ -291,6 +300,23 @@ class Watcher:
         passed = record_date(sites, self.history, day)
         self._day = day      # after the record: a write that failed is tried again
         return passed
+
+    def check_nesting(self) -> None:
+        """Site folders nested deeper than site folders are read, met while watching: each is an
+        input error of the state (the UI lists it) and said once, as at the start; one moved
+        away or hidden is taken off."""
+        try:
+            _, _, problems = site_folders(self.root)
+        except EstateError:
+            return
+        errors = split_problems(problems)[0]
+        for err in errors:
+            if self.state.errors.get(err.file) != [err]:
+                self.state.errors[err.file] = [err]
+                self.on_problem(f"izwatch: {clean(err)}")
+        now = {err.file for err in errors}
+        for rel in [r for r in self.state.errors if self.state.folder_of(r) is None and r not in now]:
+            del self.state.errors[rel]
 
     def on_problem(self, text: str) -> None:
         """Say something went wrong with one file (the terminal UI shows it in its own way)."""

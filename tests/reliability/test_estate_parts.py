@@ -244,3 +244,50 @@ def test_an_unreadable_site_folder_is_an_error_not_a_deletion(tmp_path, capsys, 
     assert main(["verify", str(root)]) == 0
     record("a site folder that cannot be read (mode 000)", "exit 2 naming it; the watcher records an input error, "
                                                            "not a deletion")
+
+
+def test_the_watcher_says_what_is_left_out_as_it_happens(tmp_path):
+    """A site folder nested too deep and a folder under a site file's name, made while the
+    watcher runs: each said at once (the UI lists it) rather than at the next start."""
+    root = _estate(tmp_path)
+    w, h, _ = start_watcher(root)
+    said = []
+    w.on_problem = said.append
+    try:
+        (root / "block-b" / "flat-9").mkdir(parents=True)
+        (root / "block-b" / "flat-9" / "site.yaml").write_text(MINIMAL)
+        settle(w, seconds=3)
+        assert any("block-b/flat-9/site.yaml:1:1: not read: block-b/flat-9/ is a site folder" in s for s in said), said
+        assert "block-b/flat-9/site.yaml" in w.state.errors
+        (root / "flat-1" / "extra.yaml").mkdir()
+        got = settle(w, until=lambda g: g)
+        assert got and [str(e) for e in got[0].outcome.errors] == ["flat-1/extra.yaml:1:1: " + WHAT["folder"]]
+        (root / "block-b" / "flat-9").rename(root / "block-b" / ".flat-9")     # hidden: left out on purpose
+        settle(w, seconds=3)
+        assert "block-b/flat-9/site.yaml" not in w.state.errors
+    finally:
+        w.stop()
+        h.close()
+
+
+def test_an_unreadable_estate_is_said_plainly_by_every_command(tmp_path, capsys, monkeypatch):
+    """An estate folder of mode 000 (simulated, as above): every command names it and what is
+    wrong (exit 2; `verify` gives no verdict on a chain it did not read), never exit 3."""
+    root = _estate(tmp_path)
+    w, h, _ = start_watcher(root)
+    w.stop()
+    h.close()
+    with monkeypatch.context() as m:
+        _unreadable(m, root)
+        for argv in (["check", str(root)], ["watch", str(root)], ["due", str(root)], ["history", str(root)],
+                     ["report", str(root), "--all-sites", "--format", "json", "-o", str(tmp_path / "out")],
+                     ["ack", str(root), "flat-1/CU1/1", "--by", "T", "--note", "booked"],
+                     ["replace", str(root), "flat-1/CU1/1/sockets", "--power-kw", "1", "--by", "T"]):
+            code = main(argv)
+            err = capsys.readouterr().err
+            assert code == 2 and f"{root}: cannot be read (Permission denied)" in err, (argv[0], err)
+        assert main(["verify", str(root)]) == 1
+        out = capsys.readouterr().out
+        assert "not verified" in out and "FAILED" not in out
+    record("an estate folder that cannot be read (mode 000)", "8 of 8 commands name it (exit 2; verify: not "
+                                                              "verified, exit 1), none exits 3")

@@ -52,8 +52,8 @@ def _against_head(history: History, path: str) -> tuple[bool, str]:
 def run(args) -> int:
     try:
         check_root(args.path)
-    except CommandError as exc:
-        print(f"izwatch verify: FAILED — {exc}")
+    except CommandError as exc:        # the estate's path, not the chain: no verdict on it
+        print(f"izwatch verify: not verified — {exc}")
         return EXIT_FAIL
     if not location_exists(db_path(args)):
         print(f"no history at {shown_location(db_path(args))}: nothing to verify")
