@@ -9,6 +9,12 @@ writer that keeps the file open gives no close. Content that does not load is re
 the settle interval before it is recorded as an input error, so a file caught half-written (a
 second writer, or a write still going on at a close) is not called one. A created or moved
 directory is scanned (a new site folder); a removed one re-checks every file known under it.
+An attribute change (a file or folder made readable again) is looked at as a touch is.
+
+A site file may be a link to a file elsewhere inside the estate (or lie in a linked site folder):
+the kernel reports an edit under the target's path, so the watcher keeps a map from each target
+to the site files that lead to it (made at start, kept up as such files are looked at, and
+redone by the safety scan) and looks at those site files too.
 
 Only the events that can mean a change are asked of the kernel: not opens and closes without a
 write, or the watcher's own reading of every file at start would flood the kernel's queue.
@@ -32,9 +38,9 @@ import time
 from dataclasses import dataclass
 from pathlib import Path
 
-from watchdog.events import (DirCreatedEvent, DirDeletedEvent, DirMovedEvent, FileClosedEvent, FileCreatedEvent,
-                             FileDeletedEvent, FileModifiedEvent, FileMovedEvent, FileSystemEvent,
-                             FileSystemEventHandler)
+from watchdog.events import (DirAttribEvent, DirCreatedEvent, DirDeletedEvent, DirMovedEvent, FileAttribEvent,
+                             FileClosedEvent, FileCreatedEvent, FileDeletedEvent, FileModifiedEvent, FileMovedEvent,
+                             FileSystemEvent, FileSystemEventHandler)
 from watchdog.observers import Observer
 
 from tracker.history import History
@@ -49,9 +55,10 @@ from tracker.tracking.state import EstateState
 
 DEBOUNCE_S = 0.15
 SAFETY_SCAN_S = 60.0
-# The events that can mean a site file changed (the kernel is asked for nothing else).
-EVENTS = [FileCreatedEvent, FileModifiedEvent, FileClosedEvent, FileDeletedEvent, FileMovedEvent,
-          DirCreatedEvent, DirDeletedEvent, DirMovedEvent]
+# The events that can mean a site file changed (the kernel is asked for nothing else). An
+# attribute change counts: a file or a site folder made readable again (chmod) has news to read.
+EVENTS = [FileCreatedEvent, FileModifiedEvent, FileClosedEvent, FileDeletedEvent, FileMovedEvent, FileAttribEvent,
+          DirCreatedEvent, DirDeletedEvent, DirMovedEvent, DirAttribEvent]
 
 
 @dataclass
@@ -75,8 +82,9 @@ class _Handler(FileSystemEventHandler):
             dest = getattr(event, "dest_path", "")
             if dest:
                 paths.append(dest)
-            # a file closed after writing, or moved into place, is complete: look at it now
-            now = event.event_type == "closed"
+            # a file closed after writing, or moved into place, is complete: look at it now; so is
+            # one whose attributes changed (made readable again: no write is going on)
+            now = event.event_type in ("closed", "attrib")
             for i, p in enumerate(paths):
                 self.watcher.touch(Path(p if isinstance(p, str) else p.decode()), event.is_directory,
                                    now or (i == 1 and event.event_type == "moved"))
@@ -118,6 +126,9 @@ class Watcher:
         self._stop = threading.Event()
         self._observer = None
         self._listener = _OverflowListener(self)
+        # target rel -> site files (rels) that are links to it or lie in a linked folder; replaced
+        # whole (never changed in place) so the observer thread reads it without the lock
+        self._linked: dict[str, frozenset[str]] = {}
 
     # -- start ----------------------------------------------------------------------------
 
@@ -193,14 +204,20 @@ class Watcher:
         closed after writing or moved into place, so it is due at once; otherwise it is due when
         it has been quiet for the settle interval."""
         rel = self._rel(path)
-        if rel is None or not (is_directory or rel.endswith(".yaml")):
+        if rel is None:
+            return
+        through = () if is_directory else self._linked.get(rel, ())   # site files that are links to it
+        if not (is_directory or rel.endswith(".yaml") or through):
             return
         due = time.monotonic() + (0.0 if complete else self.debounce_s)
         with self._cond:
             if is_directory:
                 self._dirs.add(rel)
             else:
-                self._pending[rel] = due
+                if rel.endswith(".yaml"):
+                    self._pending[rel] = due
+                for link in through:
+                    self._pending[link] = due
             self._cond.notify_all()
 
     def request_rescan(self) -> None:
@@ -209,14 +226,47 @@ class Watcher:
             self._cond.notify_all()
 
     def _stat_all(self) -> dict[str, tuple]:
-        out = {}
+        """Size, times and inode of every site file (a link's target's), and the link map redone."""
+        out: dict[str, tuple] = {}
+        found: dict[str, set[str]] = {}
+        folders: dict = {}
         for rel, path in self.state.disk_files().items():
             try:
                 st = os.stat(path)
+                target = self._target_of(path, folders)
             except OSError:
                 continue
-            out[rel] = (st.st_size, st.st_mtime_ns, st.st_ino)
+            # the change time moves on any write and any change of mode: a file made readable again
+            out[rel] = (st.st_size, st.st_mtime_ns, st.st_ctime_ns, st.st_ino)
+            if target is not None and target != rel:
+                found.setdefault(target, set()).add(rel)
+        self._linked = {t: frozenset(rels) for t, rels in found.items()}
         return out
+
+    def _target_of(self, path: Path, linked_folders: dict) -> str | None:
+        """The rel of the file a site file leads to when it is a link or lies in a linked folder
+        (None when it is neither, or leads out of the estate)."""
+        folder = path.parent
+        linked = linked_folders.get(folder)
+        if linked is None:
+            linked = linked_folders[folder] = folder.is_symlink()
+        if not (linked or path.is_symlink()):
+            return None
+        return self._rel(Path(os.path.realpath(path)))
+
+    def _relink(self, rel: str) -> None:
+        """Keep the link map right for one site file just looked at (made, removed or re-pointed)."""
+        try:
+            target = self._target_of(self.root / rel, {})
+        except OSError:
+            target = None
+        old = {t for t, rels in self._linked.items() if rel in rels}
+        if old == ({target} if target and target != rel else set()):
+            return
+        new = {t: rels - {rel} for t, rels in self._linked.items()}
+        if target and target != rel:
+            new[target] = new.get(target, frozenset()) | {rel}
+        self._linked = {t: rels for t, rels in new.items() if rels}
 
     def _expand(self) -> None:
         """Main thread, lock held: turn folder events and a rescan request into files to look at
@@ -273,6 +323,7 @@ class Watcher:
             self._nesting = False
             self.check_nesting()
         for rel in rels:
+            self._relink(rel)
             try:
                 outcome = self.state.apply_disk(rel, self._settle)
             except Exception as exc:  # noqa: BLE001 - one file the watcher cannot take never stops it
