@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from tracker.checks.context import Facts
 from tracker.checks.registry import BREAKING, CheckSpec, Outcome
-from tracker.checks.result import CheckResult, not_assessed, verdict
+from tracker.checks.result import CheckResult, not_assessed, verdict, words
 from tracker.checks.working import figure, record
 
 ID = "breaking-capacity"
@@ -37,7 +37,8 @@ CHECK = CheckSpec(
 
 
 def run(f: Facts, done) -> Outcome:
-    return Outcome(_verdict(f), BreakingCapacityWorking(pfc_ka=fault_ka(f.ctx, f.circuit)))
+    result, text = _verdict(f)
+    return Outcome(result, BreakingCapacityWorking(pfc_ka=fault_ka(f.ctx, f.circuit)), text)
 
 
 def _where(f: Facts, pfc: float) -> tuple[str, bool]:
@@ -59,7 +60,8 @@ def _where(f: Facts, pfc: float) -> tuple[str, bool]:
     return f"{pfc:.2f} kA line-neutral{through} (origin: pfc_line_neutral_ka)", False
 
 
-def _verdict(f: Facts) -> CheckResult:
+def _verdict(f: Facts):
+    """(result, its deferred text or None)."""
     ctx, dev = f.ctx, f.circuit.device
     pfc = fault_ka(ctx, f.circuit)
     where, bound = _where(f, pfc)
@@ -71,7 +73,7 @@ def _verdict(f: Facts) -> CheckResult:
     cond = ctx.conditional_rating_ka
     if device_ka is None and cond is None:
         return not_assessed(ID, "kA", "<=", f"prospective fault current {where}; the {f.label}'s breaking "
-                                            "capacity is not given (device.breaking_ka)", value=pfc)
+                                            "capacity is not given (device.breaking_ka)", value=pfc), None
     if cond is not None and (device_ka is None or cond > device_ka):
         limit, limit_how = cond, f"{cond:g} kA rated conditional short-circuit current of board {ctx.board_id} (536.4.202)"
     else:
@@ -82,6 +84,9 @@ def _verdict(f: Facts) -> CheckResult:
         settle = ("measure the line-neutral fault current at the origin (supply.pfc_line_neutral_ka)"
                   if not f.circuit.three_phase else "give the three-phase fault current at the origin (supply.pfc_ka)")
         return not_assessed(ID, "kA", "<=", f"PFC {where} > {limit_how}, but that figure is only an upper bound: "
-                                            f"{settle}", value=pfc, limit=limit)
-    detail = f"PFC {where} {'≤' if ok else '>'} {limit_how} — 434.5.1" if f.explain else ""
-    return CheckResult(ID, verdict(ok), pfc, limit, "kA", "<=", detail)
+                                            f"{settle}", value=pfc, limit=limit), None
+    return CheckResult(ID, verdict(ok), pfc, limit, "kA", "<=", ""), words(_text, where, ok, limit_how)
+
+
+def _text(where: str, ok: bool, limit_how: str) -> str:
+    return f"PFC {where} {'≤' if ok else '>'} {limit_how} — 434.5.1"

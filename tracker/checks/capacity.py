@@ -13,7 +13,7 @@ from tracker import catalogue
 from tracker.checks import rules
 from tracker.checks.context import Facts
 from tracker.checks.registry import RATING, SIZE, CheckSpec, Outcome
-from tracker.checks.result import FAIL, NOT_ASSESSED, CheckResult, fmt, not_assessed, verdict
+from tracker.checks.result import FAIL, NOT_ASSESSED, CheckResult, fmt, not_assessed, verdict, words
 from tracker.checks.working import IF_KNOWN, figure, record
 from tracker.engine import factors as rating_factors
 from tracker.engine import three_phase
@@ -131,9 +131,9 @@ def run(f: Facts, done) -> Outcome:
         iz, how = iz * ch, f"{how} × Ch {ch:g} ({note})"
         fac = {**fac, "ch": ch, **({"neutral_a": neutral_a} if neutral_a is not None else {})}
     line = done.get("line-adiabatic")
-    result, basis = _verdict(f, iz, how, (done["cpc-adiabatic"].result, line.result if line else None),
-                             harmonics[1] if harmonics else None)
-    return Outcome(result, CapacityWorking(**fac, iz_a=iz, basis=basis))
+    result, basis, text = _verdict(f, iz, how, (done["cpc-adiabatic"].result, line.result if line else None),
+                                   harmonics[1] if harmonics else None)
+    return Outcome(result, CapacityWorking(**fac, iz_a=iz, basis=basis), text)
 
 
 def device_requirement_a(f: Facts) -> float:
@@ -162,9 +162,9 @@ def _harmonics(f: Facts) -> tuple[float, float | None, str] | None:
                          f"{neutral:.2f} A, Table 4Aa")
 
 
-def _verdict(f: Facts, iz: float | None, how: str, adiabatic, neutral_a: float | None = None
-             ) -> tuple[CheckResult, str]:
-    """(result, basis). `neutral_a`: a neutral current the cable must carry as well (harmonics)."""
+def _verdict(f: Facts, iz: float | None, how: str, adiabatic, neutral_a: float | None = None):
+    """(result, basis, its deferred text or None). `neutral_a`: a neutral current the cable must
+    carry as well (harmonics)."""
     c = f.circuit
     basis, required, why = DEVICE, f.in_a, f"In {f.in_a:g} A ({f.label}) — 433.1.1(ii)"
     if c.device.kind == "fuse-semi-enclosed":
@@ -190,10 +190,8 @@ def _verdict(f: Facts, iz: float | None, how: str, adiabatic, neutral_a: float |
             exempt_note = "; overload_exempt set but not needed: Iz reaches what the device requires"
         elif iz is not None and iz < f.ib_a:
             # Overloaded in normal service: no fault data can change that (433.1.1(i)).
-            detail = (f"Iz = {how} = {iz:.2f} A < Ib {f.ib_a:.2f} A: the cable, sized on Ib (433.3.1(ii)), "
-                      "cannot carry even the design current and is overloaded in normal service — 433.1.1"
-                      ) if f.explain else ""
-            return CheckResult(ID, FAIL, iz, f.ib_a, "A", ">=", detail, ib_limit_a=iz), DESIGN
+            return (CheckResult(ID, FAIL, iz, f.ib_a, "A", ">=", "", ib_limit_a=iz), DESIGN,
+                    words(_overloaded_text, how, iz, f.ib_a))
         elif FAIL in (cpc.status, line.status):
             failing = " and ".join(r.id for r in adiabatic if r.status == FAIL)
             exempt_note = (f"; sizing on Ib (433.3.1(ii)) needs fault protection shown, but {failing} fails, "
@@ -201,7 +199,7 @@ def _verdict(f: Facts, iz: float | None, how: str, adiabatic, neutral_a: float |
         elif iz is not None and iz < f.in_a and NOT_ASSESSED in (cpc.status, line.status):
             return (not_assessed(ID, "A", ">=", f"cable sized on Ib {f.ib_a:.2f} A under 433.3.1(ii) "
                                  f"(Iz {iz:.2f} A < In {f.in_a:g} A), which needs both adiabatic checks to pass; "
-                                 "they could not be assessed", value=iz, limit=f.ib_a), DESIGN)
+                                 "they could not be assessed", value=iz, limit=f.ib_a), DESIGN, None)
         else:
             basis, required = DESIGN, f.ib_a
             why = (f"Ib {f.ib_a:.2f} A — cable sized on the design current, not on In {f.in_a:g} A "
@@ -210,10 +208,19 @@ def _verdict(f: Facts, iz: float | None, how: str, adiabatic, neutral_a: float |
         required = neutral_a
         why = f"the neutral current {neutral_a:.2f} A (Appendix 4 section 5.5: it exceeds {why})"
     if iz is None:
-        return not_assessed(ID, "A", ">=", how, limit=required), basis
+        return not_assessed(ID, "A", ">=", how, limit=required), basis, None
     ok = iz >= required
-    detail = f"Iz = {how} = {iz:.2f} A {'≥' if ok else '<'} {why}{exempt_note}" if f.explain else ""
     status = verdict(ok)
     ib_limit = iz if basis == DESIGN else None
-    return CheckResult(ID, status, iz, required, "A", ">=", detail, ib_limit_a=ib_limit), basis
+    return (CheckResult(ID, status, iz, required, "A", ">=", "", ib_limit_a=ib_limit), basis,
+            words(_text, how, iz, ok, why, exempt_note))
+
+
+def _text(how: str, iz: float, ok: bool, why: str, exempt_note: str) -> str:
+    return f"Iz = {how} = {iz:.2f} A {'≥' if ok else '<'} {why}{exempt_note}"
+
+
+def _overloaded_text(how: str, iz: float, ib_a: float) -> str:
+    return (f"Iz = {how} = {iz:.2f} A < Ib {ib_a:.2f} A: the cable, sized on Ib (433.3.1(ii)), "
+            "cannot carry even the design current and is overloaded in normal service — 433.1.1")
 

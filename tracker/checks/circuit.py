@@ -25,7 +25,7 @@ class CircuitResult(NamedTuple):
     in_a: float
     iz_a: float | None
     basis: str
-    working: CircuitWorking     # the checks' typed records (empty where evaluated without explanation)
+    working: CircuitWorking     # the checks' typed records (empty where evaluated without text)
     vd_end_v: float | None      # volts dropped from the origin to the far end (sub-mains: at the fed board)
     v_per_a: float | None       # this circuit's own volts per ampere
     vd_slack_v: float | None = None   # volts left before the voltage-drop limit (for headroom upstream)
@@ -35,6 +35,7 @@ class CircuitResult(NamedTuple):
     fed_phases_a: tuple | None = None
     ib_phases_a: tuple | None = None
     vd_phase_end_v: tuple | None = None
+    explained: bool = True            # False: verdicts and figures only (`site.explain_circuit` words it)
 
     @property
     def site_id(self) -> str:
@@ -68,17 +69,17 @@ def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = N
              explain: bool = True, readings=None,
              fed_phases_a: tuple | None = None) -> tuple[CircuitResult, Facts]:
     """Every check of the circuit that applies, in the registry's order; with explain=False the
-    details and the working records are left out (faster, for searches and for a state that only
-    needs the verdicts and figures)."""
-    f = build_facts(circuit, ctx, fed_demand_a, explain, readings, fed_phases_a)
+    checks' deferred texts (`Outcome.words`) are not built and the working records are not kept
+    (faster, for searches and for a state that only needs the verdicts and figures)."""
+    f = build_facts(circuit, ctx, fed_demand_a, readings, fed_phases_a)
     plan = registry.plan(circuit)
     done: dict[str, Outcome] = {}
     for spec in plan.run:
         done[spec.id] = spec.run(f, done)
-    checks = tuple(done[spec.id].result for spec in plan.listed)
-    if not explain:
-        # verdicts and figures only: the text (and the working) are produced when a circuit is shown
-        checks = tuple(c if not c.detail else c._replace(detail="") for c in checks)
+    if explain:
+        checks = tuple(done[spec.id].worded() for spec in plan.listed)
+    else:
+        checks = tuple(done[spec.id].result for spec in plan.listed)
     capacity_rec = _record(done, "capacity")
     vd_rec = _record(done, "voltage-drop")
     result = CircuitResult(
@@ -91,7 +92,7 @@ def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = N
         vd_end_v=vd_rec.end_v if vd_rec else None, v_per_a=vd_rec.per_a_v if vd_rec else None,
         vd_slack_v=vd_rec.vd_slack_v if vd_rec else None, readings=readings,
         fed_phases_a=fed_phases_a, ib_phases_a=f.ib_phases_a,
-        vd_phase_end_v=vd_rec.end_phase_v if vd_rec else None,
+        vd_phase_end_v=vd_rec.end_phase_v if vd_rec else None, explained=explain,
     )
     return result, f
 

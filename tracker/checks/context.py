@@ -227,7 +227,6 @@ class Facts:
     zln_why: str
     t_req_s: float
     cpc_route: str = "core"      # core | bunched | separate | armour: where the cpc runs (sets its k)
-    explain: bool = True         # False: statuses and figures only, no working text (remedy trials)
     readings: object = None      # tracker.checks.readings.Readings: the latest measurements, if any
     ib_phases_a: tuple | None = None   # three-phase circuits: current in L1, L2, L3 (Ib is the largest)
 
@@ -272,7 +271,7 @@ def _armour_cpc(cable, three_phase_circuit: bool = False) -> tuple[float | None,
 
 
 def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
-                explain: bool = True, readings=None, fed_phases_a: tuple | None = None) -> Facts:
+                readings=None, fed_phases_a: tuple | None = None) -> Facts:
     sup = ctx.supply
     kind = catalogue.cable_kind(circuit.cable.kind)
     info = catalogue.device_info(circuit.device.kind)
@@ -326,7 +325,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         sockets=sockets, lighting=rules.has_kind(circuit, "lighting"), distribution=circuit.is_submain,
         rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how, cpc_route=route,
         r_line_mohm_per_m=r_line, r_cpc_mohm_per_m=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
-        zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, explain=explain, readings=readings,
+        zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, readings=readings,
         ib_phases_a=ib_phases,
         rcds=_rcd_at(circuit, "this circuit") + ctx.rcds, system=system,
         electrode_ohm=circuit.electrode_ohm if own_electrode else sup.electrode_ohm,

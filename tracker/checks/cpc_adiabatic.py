@@ -14,7 +14,7 @@ from tracker import catalogue
 from tracker.checks import protection
 from tracker.checks.context import ARMOUR, BUNCHED, SEPARATE, Facts
 from tracker.checks.registry import CURVE, RATING, RCD, SIZE, CheckSpec, Outcome
-from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult, not_assessed
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult, not_assessed, words
 from tracker.checks.working import IF_KNOWN, figure, record
 from tracker.engine import adiabatic
 
@@ -97,20 +97,26 @@ def run(f: Facts, done) -> Outcome:
     if e.upper_a2s is None and e.lower_a2s is None:
         return Outcome(not_assessed(ID, "mm2", ">=", f"earth fault current {e.current_a:.0f} A at the {where}: "
                                                       f"{e.how}", value=f.cpc_mm2), rec)
-    if not f.explain:
-        return Outcome(CheckResult(ID, w.status, f.cpc_mm2, w.min_mm2, "mm2", ">=", ""), rec)
     where_txt = f"at the {where}" if len(trials) > 1 else "at the far end"
-    working = f"earth fault {where_txt}: I = U0/Z = {u0:g}/{z:.3f} = {e.current_a:.0f} A; {e.how}; {k_how}"
+    if w.status in (PASS, FAIL):
+        return Outcome(CheckResult(ID, w.status, f.cpc_mm2, w.min_mm2, "mm2", ">=", ""), rec,
+                       words(_text, f.cpc_mm2, where_txt, u0, z, e, k_how, w, deciding, k, extra))
+    need = f"S ≥ {w.min_mm2:.2f} mm² > cpc {f.cpc_mm2:g} mm²" if w.min_mm2 is not None else "no figure"
+    return Outcome(not_assessed(ID, "mm2", ">=", f"{_working_text(where_txt, u0, z, e, k_how)}: {need}; "
+                                + protection.undecided_reason(w, "the cpc", f.label,
+                                                              f.circuit.device.kind in protection.BREAKERS)
+                                + extra,
+                                value=f.cpc_mm2, limit=w.min_mm2), rec)
+
+
+def _working_text(where_txt: str, u0: float, z: float, e, k_how: str) -> str:
+    return f"earth fault {where_txt}: I = U0/Z = {u0:g}/{z:.3f} = {e.current_a:.0f} A; {e.how}; {k_how}"
+
+
+def _text(cpc_mm2: float, where_txt: str, u0: float, z: float, e, k_how: str, w, deciding: float, k: float,
+          extra: str) -> str:
+    working = _working_text(where_txt, u0, z, e, k_how)
     if w.status == PASS:
-        detail = (f"{working}: S ≥ √(I²t)/k = {w.min_mm2:.2f} mm² ≤ cpc {f.cpc_mm2:g} mm² — 543.1.3{extra}")
-    elif w.status == FAIL:
-        detail = (f"{working}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > cpc "
-                  f"{f.cpc_mm2:g} mm² (k²S² = {(k * f.cpc_mm2) ** 2:,.0f} A²s) — 543.1.3{extra}")
-    else:
-        need = f"S ≥ {w.min_mm2:.2f} mm² > cpc {f.cpc_mm2:g} mm²" if w.min_mm2 is not None else "no figure"
-        return Outcome(not_assessed(ID, "mm2", ">=", f"{working}: {need}; "
-                                    + protection.undecided_reason(w, "the cpc", f.label,
-                                                                  f.circuit.device.kind in protection.BREAKERS)
-                                    + extra,
-                                    value=f.cpc_mm2, limit=w.min_mm2), rec)
-    return Outcome(CheckResult(ID, w.status, f.cpc_mm2, w.min_mm2, "mm2", ">=", detail), rec)
+        return f"{working}: S ≥ √(I²t)/k = {w.min_mm2:.2f} mm² ≤ cpc {cpc_mm2:g} mm² — 543.1.3{extra}"
+    return (f"{working}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > cpc "
+            f"{cpc_mm2:g} mm² (k²S² = {(k * cpc_mm2) ** 2:,.0f} A²s) — 543.1.3{extra}")

@@ -5,7 +5,7 @@ from typing import TYPE_CHECKING
 
 from tracker.checks import rules
 from tracker.checks.registry import RATING_UP, CheckSpec, Outcome, always_on_load
-from tracker.checks.result import WARN, CheckResult, not_assessed, verdict
+from tracker.checks.result import WARN, CheckResult, not_assessed, verdict, words
 from tracker.checks.working import figure, record
 from tracker.engine import three_phase
 from tracker.engine.current import design_current_a
@@ -152,19 +152,23 @@ def run(f: Facts, done) -> Outcome:
         return Outcome(not_assessed(ID, "A", "<=", f"{f.ib_how}: Ib unknown (list the loads or give design_current_a)",
                                     limit=f.in_a), rec)
     ok = f.ib_a <= f.in_a
-    word = "≤" if ok else ">"
-    detail = f"{f.ib_how}; Ib {f.ib_a:.2f} A {word} In {f.in_a:g} A ({f.label}) — 433.1.1(i)" if f.explain else ""
     rounding = None if ok else rounded_rating(f.circuit, f.in_a, f.ctx.supply.u0_v)
     if rounding:
         # A nameplate's kW is the rated current times the voltage, rounded: over In only by that
         # rounding is not shown to exceed it (and a larger device is not the answer).
-        return Outcome(not_assessed(ID, "A", "<=", f"{detail}; but {rounding}", value=f.ib_a, limit=f.in_a), rec)
+        return Outcome(not_assessed(ID, "A", "<=", f"{_text(f, ok, '')}; but {rounding}", value=f.ib_a,
+                                    limit=f.in_a), rec)
     status = verdict(ok)
     start = _starting_trip(f)
     if start:
-        detail = f"{detail}; {start}" if f.explain else ""
         status = WARN if ok else status
-    return Outcome(CheckResult(ID, status, f.ib_a, f.in_a, "A", "<=", detail, ib_limit_a=f.in_a), rec)
+    return Outcome(CheckResult(ID, status, f.ib_a, f.in_a, "A", "<=", "", ib_limit_a=f.in_a), rec,
+                   words(_text, f, ok, start))
+
+
+def _text(f: Facts, ok: bool, start: str) -> str:
+    text = f"{f.ib_how}; Ib {f.ib_a:.2f} A {'≤' if ok else '>'} In {f.in_a:g} A ({f.label}) — 433.1.1(i)"
+    return f"{text}; {start}" if start else text
 
 
 def _starting_trip(f: Facts) -> str:

@@ -4,7 +4,7 @@ from __future__ import annotations
 from tracker.checks import protection, rules
 from tracker.checks.context import Facts
 from tracker.checks.registry import CURVE, RATING, RCD, SIZE, CheckSpec, Outcome
-from tracker.checks.result import FAIL, PASS, WARN, CheckResult, not_assessed, verdict
+from tracker.checks.result import FAIL, PASS, WARN, CheckResult, not_assessed, verdict, words
 from tracker.checks.working import figure, record
 from tracker.engine import disconnection
 
@@ -38,10 +38,15 @@ def _zs_how(f: Facts) -> str:
 def run(f: Facts, done) -> Outcome:
     if f.zs_ohm is None:
         return Outcome(not_assessed(ID, "ohm", "<=", f.zs_why))
-    how = _zs_how(f) if f.explain else ""
     limit, limit_how, _ = protection.max_zs_ohm(f)
     rec = FaultLoopWorking(zs_ohm=f.zs_ohm, r1_r2_ohm=f.loop_ohm, t_required_s=f.t_req_s, max_zs_ohm=limit)
-    return Outcome(_verdict(f, how, limit, limit_how), rec)
+    # The verdict without the working of Zs; its text, the same verdict with it, when shown.
+    result = _verdict(f, "", limit, limit_how)
+    return Outcome(result._replace(detail=""), rec, words(_text, f, limit, limit_how))
+
+
+def _text(f: Facts, limit: float | None, limit_how: str) -> str:
+    return _verdict(f, _zs_how(f), limit, limit_how).detail
 
 
 def _verdict(f: Facts, how: str, limit: float | None, limit_how: str) -> CheckResult:

@@ -15,7 +15,7 @@ from tracker import catalogue
 from tracker.checks import protection
 from tracker.checks.context import Facts
 from tracker.checks.registry import CURVE, RATING, SIZE, CheckSpec, Outcome
-from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult, not_assessed
+from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, CheckResult, not_assessed, words
 from tracker.checks.working import IF_KNOWN, figure, record
 from tracker.engine import adiabatic
 
@@ -63,13 +63,16 @@ def run(f: Facts, done) -> Outcome:
     # 434.5.2 at the board too for a cable sized on Ib: nothing else protects it there. (A circuit
     # not deemed for another reason — a device that cannot break the PFC, a cable too small for
     # In — fails on that reason's own check.)
-    result, rec = _computed(f, board_end=f.circuit.overload_exempt and not deemed)
-    if not deemed or result.status == PASS:
-        return Outcome(result, rec)
-    detail = (f"deemed protected against short-circuit: the {f.label} protects the conductors against overload "
-              f"and can break the prospective fault current (435.1); by 434.5.2 alone: {result.detail}"
-              ) if f.explain else ""
-    return Outcome(CheckResult(ID, PASS, f.circuit.cable.csa_mm2, None, "mm2", ">=", detail), rec)
+    computed = _computed(f, board_end=f.circuit.overload_exempt and not deemed)
+    if not deemed or computed.result.status == PASS:
+        return computed
+    return Outcome(CheckResult(ID, PASS, f.circuit.cable.csa_mm2, None, "mm2", ">=", ""), computed.record,
+                   words(_deemed_text, f.label, computed))
+
+
+def _deemed_text(label: str, computed: Outcome) -> str:
+    return (f"deemed protected against short-circuit: the {label} protects the conductors against overload "
+            f"and can break the prospective fault current (435.1); by 434.5.2 alone: {computed.worded().detail}")
 
 
 def _k_line(f: Facts) -> tuple[float, str]:
@@ -82,13 +85,15 @@ def _k_line(f: Facts) -> tuple[float, str]:
     return kf.k.value, f"k {kf.k.value:g}{note} ({kf.initial_c:g} → {kf.final_c:g} °C, Table {kf.table})"
 
 
-def _computed(f: Facts, board_end: bool) -> tuple[CheckResult, LineAdiabaticWorking | None]:
+def _computed(f: Facts, board_end: bool) -> Outcome:
+    """434.5.2 by itself: the adiabatic equation at the far end (and at the board for a cable
+    sized on Ib)."""
     c = f.circuit
     csa = c.cable.csa_mm2
     if f.kind is None:
-        return not_assessed(ID, "mm2", ">=", f"cable kind {c.cable.kind} not in the catalogue"), None
+        return Outcome(not_assessed(ID, "mm2", ">=", f"cable kind {c.cable.kind} not in the catalogue"))
     if f.zln_far_ohm is None:
-        return not_assessed(ID, "mm2", ">=", f.zln_why, value=csa), None
+        return Outcome(not_assessed(ID, "mm2", ">=", f.zln_why, value=csa))
     u0 = f.ctx.supply.u0_v
     k, k_how = _k_line(f)
     # An RCD does not see a line-neutral fault: only the overcurrent device counts here.
@@ -107,22 +112,26 @@ def _computed(f: Facts, board_end: bool) -> tuple[CheckResult, LineAdiabaticWork
                                line_let_through_a2s=deciding,
                                short_circuit_board_a=trials[1][2].energy.current_a if len(trials) > 1 else None)
     if e.upper_a2s is None and e.lower_a2s is None:
-        return not_assessed(ID, "mm2", ">=", f"{where} {e.current_a:.0f} A: {e.how}", value=csa), rec
-    if not f.explain:
-        return CheckResult(ID, w.status, csa, w.min_mm2, "mm2", ">=", ""), rec
-    if z == f.zln_far_ohm:
-        working = f"{where} = {u0:g}/{z:.3f} = {e.current_a:.0f} A; {e.how}; {k_how}"
-    else:
-        working = f"{where} {e.current_a / 1000:.2f} kA (cable sized on Ib: checked at its origin too); {e.how}; {k_how}"
-    if w.status == PASS:
-        return CheckResult(ID, PASS, csa, w.min_mm2, "mm2", ">=",
-                           f"{working}: S ≥ {w.min_mm2:.2f} mm² ≤ {csa:g} mm² — 434.5.2"), rec
-    if w.status == FAIL:
-        return CheckResult(ID, FAIL, csa, w.min_mm2, "mm2", ">=",
-                           f"{working}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > "
-                           f"{csa:g} mm² (k²S² = {(k * csa) ** 2:,.0f} A²s) — 434.5.2"), rec
+        return Outcome(not_assessed(ID, "mm2", ">=", f"{where} {e.current_a:.0f} A: {e.how}", value=csa), rec)
+    working = words(_working_text, where, z == f.zln_far_ohm, u0, z, e, k_how)
+    if w.status in (PASS, FAIL):
+        return Outcome(CheckResult(ID, w.status, csa, w.min_mm2, "mm2", ">=", ""), rec,
+                       words(_text, working, w, csa, deciding, k))
     need = f"S ≥ {w.min_mm2:.2f} mm² > {csa:g} mm²" if w.min_mm2 is not None else "no figure"
-    return not_assessed(ID, "mm2", ">=", f"{working}: {need}; "
-                        + protection.undecided_reason(w, "the conductors", f.label,
-                                                     f.circuit.device.kind in protection.BREAKERS),
-                        value=csa, limit=w.min_mm2), rec
+    return Outcome(not_assessed(ID, "mm2", ">=", f"{working.text()}: {need}; "
+                                + protection.undecided_reason(w, "the conductors", f.label,
+                                                             f.circuit.device.kind in protection.BREAKERS),
+                                value=csa, limit=w.min_mm2), rec)
+
+
+def _working_text(where: str, far_end: bool, u0: float, z: float, e, k_how: str) -> str:
+    if far_end:
+        return f"{where} = {u0:g}/{z:.3f} = {e.current_a:.0f} A; {e.how}; {k_how}"
+    return f"{where} {e.current_a / 1000:.2f} kA (cable sized on Ib: checked at its origin too); {e.how}; {k_how}"
+
+
+def _text(working, w, csa: float, deciding: float, k: float) -> str:
+    if w.status == PASS:
+        return f"{working.text()}: S ≥ {w.min_mm2:.2f} mm² ≤ {csa:g} mm² — 434.5.2"
+    return (f"{working.text()}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > "
+            f"{csa:g} mm² (k²S² = {(k * csa) ** 2:,.0f} A²s) — 434.5.2")

@@ -19,7 +19,7 @@ from dataclasses import dataclass, replace
 from functools import cache
 from typing import TYPE_CHECKING, NamedTuple
 
-from tracker.checks.result import CheckResult
+from tracker.checks.result import CheckResult, Words
 
 if TYPE_CHECKING:
     from tracker.model import Circuit
@@ -37,11 +37,17 @@ REMEDY_CHANGES = frozenset({RATING, RATING_UP, CURVE, SIZE, RCD, BREAKING})
 
 
 class Outcome(NamedTuple):
-    """What a check's `run` returns: its verdict and its typed working record (None: it stopped
-    before any figure of its own)."""
+    """What a check's `run` returns: its verdict, its typed working record (None: it stopped
+    before any figure of its own), and where the verdict's text is built only when shown, how to
+    build it (`result.Words`; the verdict's own detail is then empty)."""
 
     result: CheckResult
     record: object | None = None
+    words: Words | None = None
+
+    def worded(self) -> CheckResult:
+        """The verdict with its text."""
+        return self.result if self.words is None else self.result._replace(detail=self.words.text())
 
 
 def _nothing(circuit: Circuit) -> tuple[str, ...]:

@@ -1,6 +1,7 @@
 """Check results and their statuses."""
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import NamedTuple
 
 PASS, FAIL, WARN, NOT_ASSESSED = "pass", "fail", "warn", "not-assessed"
@@ -36,6 +37,26 @@ class CheckResult(NamedTuple):
         return {"id": self.id, "status": self.status,
                 "value": _round(self.value, digits), "limit": _round(self.limit, digits),
                 "unit": self.unit, "compare": self.compare, "detail": self.detail}
+
+
+class Words(NamedTuple):
+    """A check's working text, built only where it is shown: a function of the check's module and
+    the values it reads. A check whose text costs formatting returns its verdict with an empty
+    detail and its `Words` beside it (`registry.Outcome.words`); the circuit's evaluation calls
+    `text()` only when the text is asked for (`check`, the report, an event, the UI's working),
+    never in remedy trials or for a state kept in memory. A reason that is the verdict itself (why
+    a check is not assessed) is written at once."""
+
+    build: Callable[..., str]
+    args: tuple = ()
+
+    def text(self) -> str:
+        return self.build(*self.args)
+
+
+def words(build: Callable[..., str], *args) -> Words:
+    """The text `build(*args)`, deferred until it is shown."""
+    return Words(build, args)
 
 
 def _round(x, digits):

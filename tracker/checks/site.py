@@ -55,8 +55,9 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
     `tracker.tracking.impact`), every other circuit keeps its earlier results unchanged. Board
     demand and the conditions at each board are always recomputed (they are sums over a site).
 
-    explain=False leaves the circuit checks' working text empty (for a state kept in memory for a
-    whole estate: `explain_circuit` gives the text of any one circuit when it is shown).
+    explain=False leaves the circuit checks' deferred texts unbuilt and their working records out
+    (for a state kept in memory for a whole estate, and for trials: `explain_circuit` gives the
+    text of any one circuit when it is shown).
     """
     sup = supply_context(site.supply, site.premises == "domestic", site.premises, site.diversity)
     allow = demand_checks.allowances(site.premises, site.diversity)
@@ -184,7 +185,7 @@ def _margins(out: SiteResult, on_board: dict[str, list[Circuit]], origin_boards:
 def explain_circuit(result: CircuitResult) -> CircuitResult:
     """The same circuit's results with the working text of every check (a pure re-evaluation from
     the inputs the result holds: the circuit, the conditions at its board, the demand it feeds)."""
-    if all(c.detail for c in result.checks):
+    if result.explained:
         return result
     explained, _ = circuit_checks.evaluate(result.circuit, result.ctx, result.fed_demand_a, True, result.readings,
                                             result.fed_phases_a)

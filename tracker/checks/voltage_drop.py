@@ -12,7 +12,7 @@ from __future__ import annotations
 from tracker.checks import rules
 from tracker.checks.context import Facts
 from tracker.checks.registry import SIZE, CheckSpec, Outcome, always_on_load
-from tracker.checks.result import CheckResult, fmt, not_assessed, verdict
+from tracker.checks.result import CheckResult, fmt, not_assessed, verdict, words
 from tracker.checks.working import IF_KNOWN, INTERNAL, figure, record
 from tracker.engine import three_phase as tp
 from tracker.engine import voltage_drop as vd
@@ -103,21 +103,8 @@ def run(f: Facts, done) -> Outcome:
     total_v = upstream_v + volts
     pct = total_v / sup.u0_v * 100.0
     limit_v = limit_pct / 100.0 * sup.u0_v
-    length = f"{c.cable.length_m:g} m" + (" / 4 (ring, load at the midpoint)" if c.is_ring else "")
-    ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
-    on_line = f" on {c.phase}" if f.ctx.vd_phase_v is not None and c.phase else ""
-    upstream = f" + {upstream_v:.2f} V upstream{on_line} = {total_v:.2f} V" if upstream_v else ""
     ok = pct <= limit_pct
-    corrected = ""
-    if ct is not None:
-        strict_pct = (upstream_v + strict_v) / sup.u0_v * 100.0
-        corrected = (f" × Ct {ct:.3f} (conductor below its maximum temperature, Appendix 4 section 6.1) = "
-                     f"{volts:.2f} V")
-    detail = (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {length} = {strict_v:.2f} V{corrected}{upstream} = "
-              f"{pct:.2f} % of {sup.u0_v:g} V {'≤' if ok else '>'} {limit_pct:g} % ({use}, {src}; "
-              "Appendix 4 Table 4Ab)"
-              + (f"; at the tabulated maximum conductor temperature {strict_pct:.2f} %" if ct is not None else "")
-              ) if f.explain else ""
+    text = words(_text, f, mv_note, strict_v, ct, volts, upstream_v, total_v, pct, ok, limit_pct, use, src)
     # Extra current on this circuit also flows through every sub-main above it.
     slope = per_a + f.ctx.v_per_a
     ib_limit = None
@@ -129,7 +116,27 @@ def run(f: Facts, done) -> Outcome:
     rec = VoltageDropWorking(vd_circuit_v=volts, vd_strict_v=strict_v if ct is not None else None, ct=ct,
                              vd_upstream_v=upstream_v, vd_total_pct=pct, mv_per_a_m=mv_note,
                              vd_slack_v=limit_v - total_v, end_v=total_v, per_a_v=per_a)
-    return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), rec)
+    return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", "", ib_limit_a=ib_limit), rec, text)
+
+
+def _text(f: Facts, mv_note: str, strict_v: float, ct: float | None, volts: float, upstream_v: float,
+          total_v: float, pct: float, ok: bool, limit_pct: float, use: str, src: str) -> str:
+    c, sup = f.circuit, f.ctx.supply
+    length = f"{c.cable.length_m:g} m" + (" / 4 (ring, load at the midpoint)" if c.is_ring else "")
+    ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
+    on_line = f" on {c.phase}" if f.ctx.vd_phase_v is not None and c.phase else ""
+    upstream = f" + {upstream_v:.2f} V upstream{on_line} = {total_v:.2f} V" if upstream_v else ""
+    corrected = ""
+    if ct is not None:
+        corrected = (f" × Ct {ct:.3f} (conductor below its maximum temperature, Appendix 4 section 6.1) = "
+                     f"{volts:.2f} V")
+    text = (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {length} = {strict_v:.2f} V{corrected}{upstream} = "
+            f"{pct:.2f} % of {sup.u0_v:g} V {'≤' if ok else '>'} {limit_pct:g} % ({use}, {src}; "
+            "Appendix 4 Table 4Ab)")
+    if ct is not None:
+        strict_pct = (upstream_v + strict_v) / sup.u0_v * 100.0
+        text += f"; at the tabulated maximum conductor temperature {strict_pct:.2f} %"
+    return text
 
 
 def _ct_function(f: Facts, capacity=None):
@@ -207,16 +214,7 @@ def _run_three_phase(f: Facts) -> Outcome:
     pct = total_v / sup.u0_v * 100.0
     limit_v = limit_pct / 100.0 * sup.u0_v
     ok = pct <= limit_pct
-    detail = ""
-    if f.explain:
-        ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
-        upstream = ctx.vd_phase_v[worst_k]
-        n_note = f", neutral {neutral:.2f} A" if neutral > 0.005 else ""
-        detail = (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {c.cable.length_m:g} m = {volts:.2f} V line to line; "
-                  f"worst line {PHASES[worst_k]}: {upstream:.2f} V upstream + its share {total_v - upstream:.2f} V"
-                  f"{n_note} = {total_v:.2f} V to neutral = {pct:.2f} % of {sup.u0_v:g} V (as % of U_L "
-                  f"{u_line:g} V for balanced lines) {'≤' if ok else '>'} {limit_pct:g} % ({use}, {src}; "
-                  "Appendix 4 Table 4Ab)")
+    text = words(_three_phase_text, f, mv_note, volts, worst_k, neutral, total_v, pct, u_line, ok, limit_pct, use, src)
     slope = per_a + ctx.v_per_a
     ib_limit = None
     if f.ib_a is not None and slope > 0:
@@ -224,4 +222,17 @@ def _run_three_phase(f: Facts) -> Outcome:
     rec = VoltageDropWorking(vd_circuit_v=volts, vd_upstream_v=ctx.vd_phase_v[worst_k], vd_total_pct=pct,
                              mv_per_a_m=mv_note, vd_slack_v=limit_v - total_v, end_v=total_v, per_a_v=per_a,
                              end_phase_v=ends)
-    return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", detail, ib_limit_a=ib_limit), rec)
+    return Outcome(CheckResult(ID, verdict(ok), pct, limit_pct, "%", "<=", "", ib_limit_a=ib_limit), rec, text)
+
+
+def _three_phase_text(f: Facts, mv_note: str, volts: float, worst_k: int, neutral: float, total_v: float,
+                      pct: float, u_line: float, ok: bool, limit_pct: float, use: str, src: str) -> str:
+    c, sup = f.circuit, f.ctx.supply
+    ib_note = "" if f.ib_a is not None else " (Ib unknown: In used)"
+    upstream = f.ctx.vd_phase_v[worst_k]
+    n_note = f", neutral {neutral:.2f} A" if neutral > 0.005 else ""
+    return (f"{mv_note} × {f.ib_vd_a:.2f} A{ib_note} × {c.cable.length_m:g} m = {volts:.2f} V line to line; "
+            f"worst line {PHASES[worst_k]}: {upstream:.2f} V upstream + its share {total_v - upstream:.2f} V"
+            f"{n_note} = {total_v:.2f} V to neutral = {pct:.2f} % of {sup.u0_v:g} V (as % of U_L "
+            f"{u_line:g} V for balanced lines) {'≤' if ok else '>'} {limit_pct:g} % ({use}, {src}; "
+            "Appendix 4 Table 4Ab)")
