@@ -113,12 +113,12 @@ def _computed(f: Facts, board_end: bool) -> Outcome:
                                short_circuit_board_a=trials[1][2].energy.current_a if len(trials) > 1 else None)
     if e.upper_a2s is None and e.lower_a2s is None:
         return Outcome(not_assessed(ID, "mm2", ">=", f"{where} {e.current_a:.0f} A: {e.how}", value=csa), rec)
-    working = words(_working_text, where, z == f.zln_far_ohm, u0, z, e, k_how)
+    working = (where, z == f.zln_far_ohm, u0, z, e, k_how)
     if w.status in (PASS, FAIL):
         return Outcome(CheckResult(ID, w.status, csa, w.min_mm2, "mm2", ">=", ""), rec,
                        words(_text, working, w, csa, deciding, k))
     need = f"S ≥ {w.min_mm2:.2f} mm² > {csa:g} mm²" if w.min_mm2 is not None else "no figure"
-    return Outcome(not_assessed(ID, "mm2", ">=", f"{working.text()}: {need}; "
+    return Outcome(not_assessed(ID, "mm2", ">=", f"{_working_text(*working)}: {need}; "
                                 + protection.undecided_reason(w, "the conductors", f.label,
                                                              f.circuit.device.kind in protection.BREAKERS),
                                 value=csa, limit=w.min_mm2), rec)
@@ -130,8 +130,8 @@ def _working_text(where: str, far_end: bool, u0: float, z: float, e, k_how: str)
     return f"{where} {e.current_a / 1000:.2f} kA (cable sized on Ib: checked at its origin too); {e.how}; {k_how}"
 
 
-def _text(working, w, csa: float, deciding: float, k: float) -> str:
+def _text(working: tuple, w, csa: float, deciding: float, k: float) -> str:
     if w.status == PASS:
-        return f"{working.text()}: S ≥ {w.min_mm2:.2f} mm² ≤ {csa:g} mm² — 434.5.2"
-    return (f"{working.text()}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > "
+        return f"{_working_text(*working)}: S ≥ {w.min_mm2:.2f} mm² ≤ {csa:g} mm² — 434.5.2"
+    return (f"{_working_text(*working)}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > "
             f"{csa:g} mm² (k²S² = {(k * csa) ** 2:,.0f} A²s) — 434.5.2")
