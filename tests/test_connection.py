@@ -56,8 +56,9 @@ def test_proposed_charge_point_that_overloads_the_supplier_fuse_needs_an_applica
     allowances, tracker/data/diversity.yaml). Adding a 32 A charge point at 100 % (722.311):
     84.04 A > 60 A."""
     o = _outcome(site_factory, house(fuse=60), house(charger(), fuse=60))
-    assert o.demand_before_a == pytest.approx(32 + 10 + 0.3 * (10000 / 230 - 10))
-    assert o.demand_a == pytest.approx(o.demand_before_a + 32)
+    # 10 000 W / 230 V = 43.478 A; 32 + 10 + 0.3 × 33.478 = 52.043 A (worked above)
+    assert o.demand_before_a == pytest.approx(52.043, abs=0.0005)
+    assert o.demand_a == pytest.approx(84.043, abs=0.0005)             # 52.043 + 32 A
     assert o.route == rule.APPLY_BEFORE
     assert any("supplier's fuse 60 A" in r for r in o.reasons)
 

@@ -6,8 +6,6 @@ Every expected number is worked by hand from the published figure cited beside i
 """
 from __future__ import annotations
 
-import math
-
 import pytest
 
 from tracker.checks.site import evaluate_site
@@ -62,7 +60,8 @@ def test_b6_lighting_circuit_near_the_origin_passes(site_factory):
     r = evaluate(site_factory, LIGHTING_B6)["t/DB1/1"]
     assert r.status == "pass", [(c.id, c.status, c.detail) for c in r.checks if c.status != "pass"]
     cpc = r.check("cpc-adiabatic")
-    assert cpc.limit == pytest.approx(math.sqrt(90 + 1120 * 14910 / 2970) / 115, rel=1e-4)
+    # 90 + 1120 × 14 910 / 2970 = 5712.6 A²s; √5712.6 = 75.582; ÷ 115 = 0.65723 mm² (worked above)
+    assert cpc.limit == pytest.approx(0.65723, rel=1e-4)
     assert "[derived]" in cpc.detail and "3 kA row" in cpc.detail
     assert r.check("line-adiabatic").status == "pass"
 
@@ -83,7 +82,8 @@ def test_b32_ring_near_the_origin_passes(site_factory):
 """)["t/DB1/1"]
     cpc = r.check("cpc-adiabatic")
     assert cpc.status == "pass"
-    assert cpc.limit == pytest.approx(math.sqrt(2560 + 990 * 15440 / 2840) / 115, rel=1e-4)
+    # 2560 + 990 × 15 440 / 2840 = 7942.3 A²s; √7942.3 = 89.119; ÷ 115 = 0.77495 mm² (worked above)
+    assert cpc.limit == pytest.approx(0.77495, rel=1e-4)
 
 
 SPUR = """\
@@ -104,7 +104,8 @@ def test_cable_sized_on_ib_behind_b16_at_8_ka_fails_at_its_origin(site_factory):
     row (70 000 A²s, seen) of class 3, type B up to 16 A; even 35 000 > 115² × 1² = 13 225 A²s."""
     results = evaluate(site_factory, SPUR.format(extra=""), pfc=8.0)
     line = check(results, "1", "line-adiabatic")
-    assert line.status == "fail" and line.limit == pytest.approx(math.sqrt(35000) / 115)
+    # √35 000 A²s = 187.08; ÷ k 115 (Table 43.1) = 1.6268 mm²
+    assert line.status == "fail" and line.limit == pytest.approx(1.6268, abs=0.00005)
     assert "prospective fault current at the board 8.00 kA" in line.detail
     assert check(results, "1", "capacity").status == "fail"          # the exemption falls: Iz 13 A < In 16 A
 
@@ -115,7 +116,8 @@ def test_the_same_spur_at_a_low_fault_level_passes(site_factory):
     the exemption holds, the cable is held against Ib."""
     results = evaluate(site_factory, SPUR.format(extra=""), ze=0.35, pfc=2.0)
     line = check(results, "1", "line-adiabatic")
-    assert line.status == "pass" and line.limit == pytest.approx(math.sqrt(640 + 1920 * 14360 / 2920) / 115)
+    # √10 082.2 A²s = 100.41; ÷ k 115 (Table 43.1) = 0.87313 mm²
+    assert line.status == "pass" and line.limit == pytest.approx(0.87313, abs=0.000005)
     assert results["t/DB1/1"].status == "pass" and results["t/DB1/1"].basis == "design-current"
 
 
@@ -138,7 +140,7 @@ def test_makers_let_through_settles_it(site_factory):
     bad = evaluate(site_factory, SPUR.format(extra=", let_through_a2s: 20000"), pfc=8.0)
     assert check(bad, "1", "line-adiabatic").status == "fail"
     cpc = check(bad, "1", "cpc-adiabatic")                 # the 1.0 mm² cpc too: √20 000 / 115 = 1.23 mm²
-    assert cpc.status == "fail" and cpc.limit == pytest.approx(math.sqrt(20000) / 115)
+    assert cpc.status == "fail" and cpc.limit == pytest.approx(1.2298, abs=0.00005)   # √20 000 = 141.42; ÷ 115
 
 
 def test_class_1_breaker_has_only_the_time_bound(site_factory):
@@ -232,7 +234,8 @@ def test_type_d_on_a_five_second_circuit_uses_ten_in(site_factory):
       - {id: kiln, kind: fixed, power_kw: 7}
 """)["t/DB1/1"]
     fl = r.check("fault-loop")
-    assert fl.limit == pytest.approx(0.95 * 230 / 400) and "10 In" in fl.detail
+    # Cmin 0.95 × 230 V / Ia 400 A = 0.54625 Ω (Table 41.3 5 s column: 0.55 Ω; worked above)
+    assert fl.limit == pytest.approx(0.54625, abs=0.000005) and "10 In" in fl.detail
 
 
 @pytest.mark.parametrize("kind,rating,time_s,ohm", [

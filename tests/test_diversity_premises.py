@@ -11,7 +11,6 @@ import pytest
 from tracker.checks.site import evaluate_site
 from tracker.loading import load_estate
 
-U0 = 230.0
 
 
 def _circuit(cid, name, kind, rating, loads, csa=2.5, method="C", curve="B", topology="radial"):
@@ -114,7 +113,8 @@ class TestCookerAllowance:
     def test_household_without_a_socket(self, tmp_path):
         sr = _site(tmp_path, "domestic", [_circuit("1", "Cooker", "cooker", 32, [self.COOKER], csa=6)])
         # 10 A + 30 % of (50 − 10) A = 22 A (household column, cooking appliances)
-        assert sr.circuits["s/DB1/1"].ib_a == pytest.approx(10 + 0.3 * (11500 / U0 - 10))
+        # 11 500 W / 230 V = 50 A: 10 + 0.3 × 40 = 22 A
+        assert sr.circuits["s/DB1/1"].ib_a == pytest.approx(22.0)
         assert sr.boards["s/DB1"].demand.demand_a == pytest.approx(22)
 
     def test_household_with_a_socket_in_the_control_unit(self, tmp_path):
@@ -135,8 +135,9 @@ class TestCookerAllowance:
 def test_motor_current_with_power_factor_and_efficiency(tmp_path):
     load = "{id: m, kind: motor, power_kw: 2.2, power_factor: 0.85, efficiency: 0.8}"
     sr = _site(tmp_path, "shop-office", [_circuit("1", "Saw", "motor", 20, [load], curve="C")])
-    # input power = output / efficiency; I = P / (U0 × pf) (physics): 2200 / 0.8 / (230 × 0.85)
-    assert sr.circuits["s/DB1/1"].ib_a == pytest.approx(2200 / 0.8 / (230 * 0.85))
+    # input power = output / efficiency; I = P / (U0 × pf) (physics): 2200 W / 0.8 = 2750 W;
+    # 230 V × 0.85 = 195.5 V; 2750 / 195.5 = 14.066 A
+    assert sr.circuits["s/DB1/1"].ib_a == pytest.approx(14.066, abs=0.0005)
     assert "efficiency 0.8" in sr.circuits["s/DB1/1"].check("design-current").detail
 
 

@@ -208,9 +208,9 @@ class TestHeadroomApart:
         sr = evaluate_site(_site("orchard-end"))
         r = sr.circuits["orchard-end/CU1/3"]           # the cooker: passes
         assert r.status == "pass"
-        # Its own: In 32 A − Ib 22 A (10 A + 30 % of (50 − 10) A, household cooker allowance) = 10 A
-        # × 230 V = 2.30 kW.
-        assert headroom_kw(sr, r) == pytest.approx((32 - (10 + 0.3 * (11500 / 230 - 10))) * 230 / 1000)
+        # Its own: In 32 A − Ib 22 A (11 500 W / 230 V = 50 A; 10 A + 30 % of (50 − 10) A, household
+        # cooker allowance, IET On-Site Guide Appendix A) = 10 A × 230 V = 2.30 kW.
+        assert headroom_kw(sr, r) == pytest.approx(2.30)
         # The board: its demand against the 100 A main switch, apart.
         b = sr.boards["orchard-end/CU1"]
         spare, by = board_spare_kw(sr, "orchard-end/CU1")
@@ -248,7 +248,7 @@ class TestNameplateRounding:
         # 7.4 kW / 230 V = 32.17 A > 32 A, but 32 A × 230 V = 7.36 kW, which a nameplate gives as
         # 7.4 kW (one decimal): not shown to exceed In, and no B40 proposed.
         r, dc = self._dc(tmp_path, "7.4")
-        assert dc.status == "not-assessed" and dc.value == pytest.approx(7400 / 230)
+        assert dc.status == "not-assessed" and dc.value == pytest.approx(32.174, abs=0.0005)   # 7400 W / 230 V
         assert "7.36 kW rounded" in dc.detail and "rated_current_a" in dc.detail
         fix = remedy.find(r)
         assert fix is None or "B40" not in fix["text"]
@@ -259,10 +259,14 @@ class TestNameplateRounding:
         assert dc.status == "fail"
 
 
-def test_check_json_carries_both_figures_and_the_board_remedies():
-    from tracker.output.json_out import check_document
+def test_check_json_carries_both_figures_and_the_board_remedies(capsys):
+    import json
+
+    from tracker.cli import main
+
     sr = evaluate_site(_site("orchard-end"))
-    doc = check_document([sr])
+    main(["check", str(DEMO / "orchard-end"), "--json"])      # the public path: `izwatch check --json`
+    doc = json.loads(capsys.readouterr().out)
     cooker = next(c for c in doc["circuits"] if c["ref"] == "orchard-end/CU1/3")
     assert cooker["headroom_kw"] == pytest.approx(2.3, abs=0.005)     # its own: (32 − 22) A × 230 V
     ws1 = next(b for b in doc["boards"] if b["ref"] == "orchard-end/WS1")

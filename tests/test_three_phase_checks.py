@@ -4,15 +4,14 @@ sub-main, fault level, demand per line with its imbalance and neutral current, t
 moving a circuit to another line, and the JSON's per-line figures."""
 from __future__ import annotations
 
-import cmath
-import math
+import json
 import textwrap
 
 import pytest
 
 from tracker.checks.site import evaluate_site, headroom_kw
 from tracker.loading import load_estate
-from tracker.output.json_out import check_document
+from tracker.cli import main
 
 SUPPLY = """\
 site: {{name: "Test unit"}}
@@ -61,13 +60,14 @@ def test_balanced_motor_design_current_capacity_and_drop(site_factory):
     # BS 7671 Table 4E4A column 3 (three- or four-core, method C), 4 mm²: 42 A (seen).
     assert r.iz_a == pytest.approx(42.0)
     # BS 7671 Table 4E4B three-phase column, 4 mm²: 10 mV/A/m (seen); 10 × 12.74 × 25 / 1000 =
-    # 3.19 V line to line = 0.80 % of 400 V (balanced: the same as the line's share of U0).
+    # 3.185 V line to line = 0.796 % of 400 V (balanced: the same as the line's share of U0).
     vd = r.check("voltage-drop")
-    assert vd.value == pytest.approx(10 * 12.74 * 25 / 1000 / 400 * 100, abs=0.01)
-    # a balanced three-phase load: headroom in kW is √3 × U_L × the spare current (physics)
-    hk = headroom_kw(sr, r)
-    spare = min(20 - r.ib_a, sr.boards["flat-1/DB1"].margin_a)
-    assert hk == pytest.approx(math.sqrt(3) * 400 * spare / 1000, rel=1e-6)
+    assert vd.value == pytest.approx(0.796, abs=0.01)
+    # a balanced three-phase load: headroom in kW is √3 × U_L × the spare current (physics); the
+    # C20 limits it (the board's 100 A main switch leaves more): Ib = 7500 W / (1.7321 × 400 V ×
+    # 0.85) = 12.736 A, 20 − 12.736 = 7.264 A × 1.7321 × 400 V = 5.033 kW
+    assert sr.boards["flat-1/DB1"].margin_a > 20 - 12.736
+    assert headroom_kw(sr, r) == pytest.approx(5.033, abs=0.0005)
 
 
 def test_unbalanced_load_takes_its_largest_line(site_factory):
@@ -83,12 +83,11 @@ def test_unbalanced_load_takes_its_largest_line(site_factory):
     r = sr.circuits["flat-1/DB1/1"]
     assert r.ib_a == 20 and r.ib_phases_a == (20, 12, 5)
     # The worst line carries its own current and the neutral's: the neutral is the phasor sum
-    # (physics), 20/12/5 A → 13.08 A; each conductor (10 mV/A/m)/√3 per ampere per metre (Table
-    # 4E4B, three-phase column, 6 mm²: 6.8 mV/A/m).
-    a = cmath.exp(2j * math.pi / 3)
-    neutral = abs(20 + 12 * a ** 2 + 5 * a)
-    expected_v = 6.8 / math.sqrt(3) * (20 + neutral) * 10 / 1000
-    assert r.check("voltage-drop").value == pytest.approx(expected_v / 230 * 100, abs=0.005)
+    # (physics), 20∠0° + 12∠−120° + 5∠120° A: real 20 − 6 − 2.5 = 11.5, imaginary
+    # (−12 + 5) × 0.8660 = −6.062, |IN| = √(132.25 + 36.75) = 13.00 A; each conductor
+    # (mV/A/m)/√3 per ampere per metre (Table 4E4B, three-phase column, 6 mm²: 6.8 mV/A/m):
+    # 6.8 / 1.7321 = 3.926 mV/A/m × (20 + 13.00) A × 10 m = 1.2956 V = 0.5633 % of 230 V.
+    assert r.check("voltage-drop").value == pytest.approx(0.5633, abs=0.005)
 
 
 def test_single_phase_share_of_a_three_phase_sub_main(site_factory):
@@ -128,12 +127,12 @@ def test_single_phase_share_of_a_three_phase_sub_main(site_factory):
     # drop to neutral is the three-phase drop / √3 (physics). Table 4E4B three-phase 16 mm²:
     # 2.5 mV/A/m (seen): 2.5 × 12 × 30 / 1000 = 0.9 V line to line → 0.520 V to neutral.
     board = sr.boards["flat-1/DB2"]
-    assert board.ctx.vd_phase_v == pytest.approx((0.9 / math.sqrt(3),) * 3, abs=1e-4)
+    assert board.ctx.vd_phase_v == pytest.approx((0.5196,) * 3, abs=1e-4)   # 0.9 V / 1.7321
     # the L1 heater starts from L1's share and adds its own single-phase drop (whatever that
     # circuit's own method gives: the sum is what is held against the limit)
     vd = _chk(sr, "DB2/1", "voltage-drop")
     working = sr.circuits["flat-1/DB2/1"].working
-    assert working["vd_upstream_v"] == pytest.approx(0.9 / math.sqrt(3), abs=1e-4)
+    assert working["vd_upstream_v"] == pytest.approx(0.5196, abs=1e-4)       # L1's share, above
     assert vd.value == pytest.approx((working["vd_upstream_v"] + working["vd_circuit_v"]) / 230 * 100, abs=1e-6)
     assert "upstream on L1" in vd.detail
 
@@ -160,7 +159,8 @@ def test_demand_per_line_imbalance_and_neutral(site_factory):
     # EV charging has no diversity (BS 7671 722.311): lines 32 / 16 / 0 A.
     assert d.phases_a == (32, 16, 0) and d.demand_a == 32
     # neutral: the phasor sum of 32 A, 16 A and 0 A 120° apart (physics) = 27.71 A
-    assert d.neutral_a == pytest.approx(abs(32 + 16 * cmath.exp(-2j * math.pi / 3)), abs=1e-9)
+    # 32∠0° + 16∠−120°: real 32 − 8 = 24, imaginary −16 × 0.86603 = −13.856; √(576 + 192) = √768
+    assert d.neutral_a == pytest.approx(27.7128, abs=0.00005)
     assert d.neutral_a == pytest.approx(27.71, abs=0.01)
     # imbalance (common practice): mean 16 A, largest deviation 16 A → 100 %
     assert d.imbalance_pct == pytest.approx(100.0)
@@ -265,7 +265,7 @@ def test_triple_harmonics(site_factory, pct, ch, neutral, status):
         assert cap.limit == 40
 
 
-def test_json_carries_per_line_figures(site_factory):
+def test_json_carries_per_line_figures(site_factory, capsys):
     circuits = MOTOR + """\
 - id: "2"
   board: DB1
@@ -275,8 +275,10 @@ def test_json_carries_per_line_figures(site_factory):
   cable: {kind: twin-earth-70, csa_mm2: 1.5, cpc_mm2: 1, length_m: 10, method: C}
   loads: [{id: l, kind: lighting, power_kw: 0.3}]
 """
-    site, sr = _site(site_factory, circuits)
-    doc = check_document([sr])
+    root = site_factory(SUPPLY.format(pfc="pfc_ka: 10", fuse=100, switch=100) + "circuits:\n"
+                        + textwrap.indent(textwrap.dedent(circuits), "  "))
+    main(["check", str(root), "--json"])            # the public path: `izwatch check --json`
+    doc = json.loads(capsys.readouterr().out)
     motor, light = doc["circuits"]
     assert motor["phases"] == 3 and set(motor["ib_phases_a"]) == {"L1", "L2", "L3"}
     assert light["phases"] == 1 and light["phase"] == "L2" and "ib_phases_a" not in light

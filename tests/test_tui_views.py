@@ -142,7 +142,7 @@ def test_the_working_is_the_engines_own(live):
         assert g.ratio == utilisation(c) and g.status == c.status
     cap = next(g for g in wk.gauges if g.check_id == "capacity")
     # needed over Iz: the ring's 20 A (433.1.204) over Iz 18.90 A (above)
-    assert cap.ratio == pytest.approx(20.0 / 18.9)
+    assert cap.ratio == pytest.approx(1.0582, abs=0.00005)          # 20 A / 18.9 A
     assert cap.word == "FAIL"
     # every check the engine ran, but a check on readings with nothing measured (said in "As measured")
     assert [c.check_id for c in wk.checks] == [c.id for c in r.checks if not unmeasured(c)]

@@ -60,27 +60,12 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
     text of any one circuit when it is shown).
     """
     sup = supply_context(site.supply, site.premises == "domestic", site.premises, site.diversity)
-    allow = demand_checks.allowances(site.premises, site.diversity)
-    u0 = sup.u0_v
-    u_line = sup.u_line_v or three_phase.line_voltage_v(u0)
     on_board: dict[str, list[Circuit]] = {b.id: [] for b in site.boards}
     for c in site.circuits:
         on_board[c.board].append(c)
     boards = {b.id: b for b in site.boards}
-    demands: dict[str, demand_checks.Demand] = {}
-
-    def demand_of(board_id: str) -> demand_checks.Demand:
-        if board_id not in demands:
-            fed = {c.feeds: demand_of(c.feeds).demand_a for c in on_board[board_id] if c.feeds}
-            if boards[board_id].three_phase:
-                fed_phases = {c.feeds: demand_of(c.feeds).phases_a for c in on_board[board_id]
-                              if c.feeds and c.three_phase}
-                demands[board_id] = demand_checks.three_phase_board_demand(on_board[board_id], u0, u_line, fed,
-                                                                           fed_phases, allow)
-            else:
-                demands[board_id] = demand_checks.board_demand(on_board[board_id], u0, fed, allow)
-        return demands[board_id]
-
+    allow = demand_checks.allowances(site.premises, site.diversity)
+    demand_of = _demands(sup, on_board, boards, allow)
     out = SiteResult(site)
     readings = latest_readings(site)
     old = previous.circuits if previous is not None else {}
@@ -112,6 +97,39 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
     origin_boards = [b.id for b in site.boards if b.at_origin]
     for board_id in origin_boards:
         visit(board_id, origin_context(site, board_id, sup))
+    _origin(out, sup, origin_boards, boards, demand_of, allow)
+    # Report circuits in the order of the site files.
+    out.circuits = {f"{site.id}/{c.board}/{c.id}": out.circuits[f"{site.id}/{c.board}/{c.id}"] for c in site.circuits}
+    _margins(out, on_board, origin_boards)
+    return out
+
+
+def _demands(sup, on_board: dict[str, list[Circuit]], boards: dict, allow):
+    """The demand of a board (bottom-up: a board's own circuits and the demand of every board it
+    feeds), each computed once, as a function of the board's id."""
+    u0 = sup.u0_v
+    u_line = sup.u_line_v or three_phase.line_voltage_v(u0)
+    demands: dict[str, demand_checks.Demand] = {}
+
+    def demand_of(board_id: str) -> demand_checks.Demand:
+        if board_id not in demands:
+            fed = {c.feeds: demand_of(c.feeds).demand_a for c in on_board[board_id] if c.feeds}
+            if boards[board_id].three_phase:
+                fed_phases = {c.feeds: demand_of(c.feeds).phases_a for c in on_board[board_id]
+                              if c.feeds and c.three_phase}
+                demands[board_id] = demand_checks.three_phase_board_demand(on_board[board_id], u0, u_line, fed,
+                                                                           fed_phases, allow)
+            else:
+                demands[board_id] = demand_checks.board_demand(on_board[board_id], u0, fed, allow)
+        return demands[board_id]
+
+    return demand_of
+
+
+def _origin(out: SiteResult, sup, origin_boards: list[str], boards: dict, demand_of, allow) -> None:
+    """The origin's demand against the supplier's fuse (per line on a three-phase origin) and the
+    network operator's route."""
+    site = out.site
     if sup.three_phase:
         lines = [0.0, 0.0, 0.0]
         for b in origin_boards:
@@ -124,17 +142,14 @@ def evaluate_site(site: Site, previous: SiteResult | None = None, recheck: set[s
         out.supply_check = demand_checks.supply_lines_check(site.id, out.supply_phases_a,
                                                             site.supply.service_fuse_a, origin_boards,
                                                             allow.upper_bound)
+        most_loaded = max(out.supply_phases_a)
     else:
         total = sum(demand_of(b).demand_a for b in origin_boards)
         out.supply_check = demand_checks.supply_check(site.id, total, site.supply.service_fuse_a, origin_boards,
                                                      allow.upper_bound)
+        most_loaded = total
     # the network operator's criteria are per phase: the most loaded line on a three-phase origin
-    out.notification = notification.origin_state(
-        site, max(out.supply_phases_a) if out.supply_phases_a is not None else total)
-    # Report circuits in the order of the site files.
-    out.circuits = {f"{site.id}/{c.board}/{c.id}": out.circuits[f"{site.id}/{c.board}/{c.id}"] for c in site.circuits}
-    _margins(out, on_board, origin_boards)
-    return out
+    out.notification = notification.origin_state(site, most_loaded)
 
 
 def _margins(out: SiteResult, on_board: dict[str, list[Circuit]], origin_boards: list[str]) -> None:

@@ -94,21 +94,3 @@ def supply_entry(sr: SiteResult) -> dict:
     if sr.notification is not None:
         entry["notification"] = sr.notification.as_json()
     return entry
-
-
-def check_document(results, errors=(), warnings=()) -> dict:
-    """`results`: SiteResults in order; `errors`/`warnings`: InputError / LoadWarning."""
-    circuits, boards, supplies = [], [], []
-    for sr in results:
-        circuits.extend(circuit_entry(sr, r) for r in sr.circuits.values())
-        boards.extend(board_entry(b, sr) for b in sr.boards.values())
-        supplies.append(supply_entry(sr))
-    return {
-        "schema": SCHEMA,
-        "circuits": circuits,
-        "boards": boards,
-        "errors": [e.as_json() for e in errors],
-        "supplies": supplies,
-        "warnings": [w.as_json() for w in warnings],
-        "caution": CAUTION,
-    }
