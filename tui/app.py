@@ -51,7 +51,7 @@ def news_lines(news: list[News]) -> tuple[list[str], list[str]]:
             continue
         if n.loads_again:
             good.append(f"✓ loads again: {n.file}")
-        bad.extend(f"! warning: {w}" for w in n.warnings)
+        bad.extend(f"! warning: {warning}" for warning in n.warnings)
         for e in n.events:
             if e["transition"] in ("newly-failing", "worse"):
                 word = "▲ newly failing" if e["transition"] == "newly-failing" else "▼ worse"
@@ -206,9 +206,9 @@ class IzwatchApp(App):
         self.post_message(AckDone(written))
 
     def on_ack_done(self, message: AckDone) -> None:
-        w = message.written
-        self.notify(escape(f"△ {w.ref} acknowledged ({', '.join(w.checks)}) as revision {w.revision} "
-                           f"by {clean(w.author)}"), timeout=5)
+        written = message.written
+        self.notify(escape(f"△ {written.ref} acknowledged ({', '.join(written.checks)}) as revision {written.revision} "
+                           f"by {clean(written.author)}"), timeout=5)
         if self.screen is self.overview:
             self.overview.hold_position()
         self.live.request_refresh()

@@ -64,7 +64,7 @@ class News:
         o = u.outcome
         return cls(clean(o.file), o.valid, o.first_record, tuple(o.events), tuple(clean(e) for e in o.errors),
                    clean(u.recorded.author), u.recorded.id, o.loads_again,
-                   tuple(clean(t) for t in o.misspelt) + tuple(clean(w) for w in o.new_warnings))
+                   tuple(clean(t) for t in o.misspelt) + tuple(clean(warning) for warning in o.new_warnings))
 
 
 @dataclass

@@ -376,7 +376,7 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     errors = tuple(e for rel in sorted(state.errors) for e in state.errors[rel])
     in_force = frozenset(f for sr in results for f in sr.site.files)
     head, _ = history.head()
-    warnings = tuple(sort_problems([w for files in state.good.values() for f in files.values() for w in f.warnings]))
+    warnings = tuple(sort_problems([warning for files in state.good.values() for f in files.values() for warning in f.warnings]))
     return Snapshot(tuple(rows), by_ref, {sr.site.id: sr for sr in results}, errors, counts,
                     n_circuits, history.count(), head, kept_since, first_record, in_force, warnings)
 

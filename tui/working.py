@@ -19,7 +19,6 @@ from tracker.checks.cpc_adiabatic import CpcAdiabaticWorking
 from tracker.checks.design_current import DesignCurrentWorking
 from tracker.checks.fault_loop import FaultLoopWorking
 from tracker.checks.line_adiabatic import LineAdiabaticWorking
-from tracker.checks.measured_zs import MeasuredZsWorking
 from tracker.checks.readings import unmeasured
 from tracker.inspection.suggest import LABEL, suggestions
 from tracker.checks.rcd import RcdWorking
@@ -210,7 +209,7 @@ def _as_measured(r: CircuitResult, chk: dict) -> tuple[Line, ...]:
     if rd is None:
         return (Line("readings", "none recorded for this circuit (inspections: results in the site files)"),)
     m = rd.measurement
-    zs_rec, cont_rec = r.working.of(MeasuredZsWorking), r.working.of(ContinuityWorking)
+    cont_rec = r.working.of(ContinuityWorking)
     fl_rec = r.working.of(FaultLoopWorking)
     lines = [Line("inspection", f"{rd.date.isoformat()} by {clean(rd.by)}"
                                 + (f", Ze {plain(rd.ze_ohm)} Ω measured" if rd.ze_ohm is not None else ""))]

@@ -285,10 +285,10 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
     sockets = rules.has_kind(circuit, "socket-outlets")
     cable = circuit.cable
     route = cpc_route(circuit)
-    r_line_v = catalogue.conductor_resistance(cable.csa_mm2)
-    r_line = r_line_v.value if r_line_v else None
+    r_line_held = catalogue.conductor_resistance(cable.csa_mm2)
+    r_line_mohm_per_m = r_line_held.value if r_line_held else None
     if route == ARMOUR:
-        cpc, r_cpc, cpc_how = _armour_cpc(cable, circuit.three_phase)
+        cpc, r_cpc_mohm_per_m, cpc_how = _armour_cpc(cable, circuit.three_phase)
     else:
         if cable.cpc_mm2 is not None:
             cpc, cpc_how = cable.cpc_mm2, ""
@@ -296,26 +296,28 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
             cpc = kind.default_cpc_mm2(cable.csa_mm2) if kind else None
             cpc_how = (f"cpc {cpc:g} mm² assumed (standard construction of {kind.kind})" if cpc is not None
                        else "cpc size not given (cable.cpc_mm2)")
-        r_cpc_v = catalogue.conductor_resistance(cpc) if cpc is not None else None
-        r_cpc = r_cpc_v.value if r_cpc_v else None
+        r_cpc_held = catalogue.conductor_resistance(cpc) if cpc is not None else None
+        r_cpc_mohm_per_m = r_cpc_held.value if r_cpc_held else None
     multiplier = kind.resistance_multiplier if kind else impedance.resistance_multiplier(70.0)
     loop = zs = zln = None
     zs_why = zln_why = ""
-    if r_line is not None and r_cpc is not None:
-        loop = impedance.loop_resistance_ohm(r_line, r_cpc, cable.length_m, multiplier, circuit.is_ring)
+    if r_line_mohm_per_m is not None and r_cpc_mohm_per_m is not None:
+        loop = impedance.loop_resistance_ohm(r_line_mohm_per_m, r_cpc_mohm_per_m, cable.length_m, multiplier,
+                                             circuit.is_ring)
     if ctx.z_ext_ohm is None:
         zs_why = ctx.unknown_z or "the loop impedance at the board is unknown"
     elif loop is None:
-        zs_why = cpc_how if (cpc is None or r_cpc is None) and cpc_how else "no conductor resistance held for that size"
+        zs_why = (cpc_how if (cpc is None or r_cpc_mohm_per_m is None) and cpc_how
+                  else "no conductor resistance held for that size")
     else:
         zs = ctx.z_ext_ohm + loop
     if ctx.z_ln_ohm is None:
         zln_why = ctx.supply.z_ln_source_how
-    elif r_line is None:
+    elif r_line_mohm_per_m is None:
         zln_why = "no conductor resistance held for that size"
     else:
-        zln = ctx.z_ln_ohm + impedance.loop_resistance_ohm(r_line, r_line, cable.length_m, multiplier,
-                                                           circuit.is_ring)
+        zln = ctx.z_ln_ohm + impedance.loop_resistance_ohm(r_line_mohm_per_m, r_line_mohm_per_m, cable.length_m,
+                                                           multiplier, circuit.is_ring)
     own_electrode = circuit.earthing_measure == "tt-electrode" and circuit.electrode_ohm is not None
     system = "TT" if own_electrode else sup.system
     t_req = disconnection.required_disconnection_s(system, circuit.is_submain, in_a, sockets)
@@ -324,7 +326,8 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
         in_a=in_a, ib_a=ib, ib_how=how, ib_vd_a=ib if ib is not None else in_a,
         sockets=sockets, lighting=rules.has_kind(circuit, "lighting"), distribution=circuit.is_submain,
         rcd_ma=_min_rcd(circuit.rcd_ma, ctx.rcd_ma), cpc_mm2=cpc, cpc_how=cpc_how, cpc_route=route,
-        r_line_mohm_per_m=r_line, r_cpc_mohm_per_m=r_cpc, multiplier=multiplier, loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
+        r_line_mohm_per_m=r_line_mohm_per_m, r_cpc_mohm_per_m=r_cpc_mohm_per_m, multiplier=multiplier,
+        loop_ohm=loop, zs_ohm=zs, zs_why=zs_why,
         zln_far_ohm=zln, zln_why=zln_why, t_req_s=t_req, readings=readings,
         ib_phases_a=ib_phases,
         rcds=_rcd_at(circuit, "this circuit") + ctx.rcds, system=system,

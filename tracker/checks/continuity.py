@@ -63,7 +63,7 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
     if m is None or (m.r1_r2_ohm is None and not ring_given):
         return not_assessed(ID, "ohm", "<=", "nothing measured (no r1_r2_ohm or ring readings in an "
                                              "inspection's results)"), {}
-    w: dict = {"measured_on": rd.date.isoformat()}
+    working: dict = {"measured_on": rd.date.isoformat()}
     findings: list[tuple[str, str]] = []
     value = limit = None
     temp = rd.test_temp_c
@@ -73,12 +73,12 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
     cable = f"{c.cable.length_m:g} m of {c.cable.csa_mm2:g}/{f.cpc_mm2:g} mm²" if f.cpc_mm2 else ""
     if m.r1_r2_ohm is not None:
         value = m.r1_r2_ohm
-        w["r1_r2_measured_ohm"] = value
+        working["r1_r2_measured_ohm"] = value
         if model_known:
             expected = measured.expected_r1_r2_ohm(*per_m, c.cable.length_m, temp, c.is_ring)
             implied = measured.implied_length_m(m.r1_r2_ohm, *per_m, temp, c.is_ring)
             limit = expected + _tolerance(expected)
-            w.update(r1_r2_expected_ohm=expected, implied_length_m=implied)
+            working.update(r1_r2_expected_ohm=expected, implied_length_m=implied)
             findings.append(_against_model(m.r1_r2_ohm, expected, implied, c.cable.length_m, cable, temp, c.is_ring))
         else:
             findings.append((PASS, f"R1+R2 {fmt(m.r1_r2_ohm, 3)} Ω recorded; no conductor resistance held to "
@@ -96,7 +96,7 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
     findings.extend(_loop_cross_check(f, rd))
     status = worst(s for s, _ in findings) if findings else PASS
     head = f"measured {rd.date.isoformat()}: "
-    return CheckResult(ID, status, value, limit, "ohm", "<=", head + "; ".join(t for _, t in findings)), w
+    return CheckResult(ID, status, value, limit, "ohm", "<=", head + "; ".join(t for _, t in findings)), working
 
 
 def _against_model(r1_r2: float, expected: float, implied: float, length_m: float, cable: str, temp: float,

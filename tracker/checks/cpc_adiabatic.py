@@ -86,11 +86,11 @@ def run(f: Facts, done) -> Outcome:
         energy = protection.fault_energy(f, adiabatic.fault_current_a(u0, z), z, rcd=True)
         trials.append((where, z, protection.withstand(energy, k, f.cpc_mm2)))
     # The deciding end: the worst verdict; among passes, the one needing the larger cpc.
-    where, z, w = min(trials, key=lambda t: (_ORDER[t[2].status], -(t[2].min_mm2 or 0.0)))
+    where, z, withstand = min(trials, key=lambda t: (_ORDER[t[2].status], -(t[2].min_mm2 or 0.0)))
     far_current = trials[0][2].energy.current_a
-    e = w.energy
-    deciding = e.lower_a2s if w.status == FAIL else e.upper_a2s
-    rec = CpcAdiabaticWorking(earth_fault_a=far_current, cpc_min_mm2=w.min_mm2, k_cpc=k, t_disconnect_s=e.t_s,
+    e = withstand.energy
+    deciding = e.lower_a2s if withstand.status == FAIL else e.upper_a2s
+    rec = CpcAdiabaticWorking(earth_fault_a=far_current, cpc_min_mm2=withstand.min_mm2, k_cpc=k, t_disconnect_s=e.t_s,
                               cpc_let_through_a2s=deciding,
                               earth_fault_board_end_a=trials[1][2].energy.current_a if len(trials) > 1 else None)
     extra = f"; {f.cpc_how}" if f.cpc_how else ""
@@ -98,25 +98,25 @@ def run(f: Facts, done) -> Outcome:
         return Outcome(not_assessed(ID, "mm2", ">=", f"earth fault current {e.current_a:.0f} A at the {where}: "
                                                       f"{e.how}", value=f.cpc_mm2), rec)
     where_txt = f"at the {where}" if len(trials) > 1 else "at the far end"
-    if w.status in (PASS, FAIL):
-        return Outcome(CheckResult(ID, w.status, f.cpc_mm2, w.min_mm2, "mm2", ">=", ""), rec,
-                       words(_text, f.cpc_mm2, where_txt, u0, z, e, k_how, w, deciding, k, extra))
-    need = f"S ≥ {w.min_mm2:.2f} mm² > cpc {f.cpc_mm2:g} mm²" if w.min_mm2 is not None else "no figure"
+    if withstand.status in (PASS, FAIL):
+        return Outcome(CheckResult(ID, withstand.status, f.cpc_mm2, withstand.min_mm2, "mm2", ">=", ""), rec,
+                       words(_text, f.cpc_mm2, where_txt, u0, z, e, k_how, withstand, deciding, k, extra))
+    need = f"S ≥ {withstand.min_mm2:.2f} mm² > cpc {f.cpc_mm2:g} mm²" if withstand.min_mm2 is not None else "no figure"
     return Outcome(not_assessed(ID, "mm2", ">=", f"{_working_text(where_txt, u0, z, e, k_how)}: {need}; "
-                                + protection.undecided_reason(w, "the cpc", f.label,
+                                + protection.undecided_reason(withstand, "the cpc", f.label,
                                                               f.circuit.device.kind in protection.BREAKERS)
                                 + extra,
-                                value=f.cpc_mm2, limit=w.min_mm2), rec)
+                                value=f.cpc_mm2, limit=withstand.min_mm2), rec)
 
 
 def _working_text(where_txt: str, u0: float, z: float, e, k_how: str) -> str:
     return f"earth fault {where_txt}: I = U0/Z = {u0:g}/{z:.3f} = {e.current_a:.0f} A; {e.how}; {k_how}"
 
 
-def _text(cpc_mm2: float, where_txt: str, u0: float, z: float, e, k_how: str, w, deciding: float, k: float,
+def _text(cpc_mm2: float, where_txt: str, u0: float, z: float, e, k_how: str, withstand, deciding: float, k: float,
           extra: str) -> str:
     working = _working_text(where_txt, u0, z, e, k_how)
-    if w.status == PASS:
-        return f"{working}: S ≥ √(I²t)/k = {w.min_mm2:.2f} mm² ≤ cpc {cpc_mm2:g} mm² — 543.1.3{extra}"
-    return (f"{working}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > cpc "
+    if withstand.status == PASS:
+        return f"{working}: S ≥ √(I²t)/k = {withstand.min_mm2:.2f} mm² ≤ cpc {cpc_mm2:g} mm² — 543.1.3{extra}"
+    return (f"{working}: even the published {deciding:,.0f} A²s needs S ≥ {withstand.min_mm2:.2f} mm² > cpc "
             f"{cpc_mm2:g} mm² (k²S² = {(k * cpc_mm2) ** 2:,.0f} A²s) — 543.1.3{extra}")

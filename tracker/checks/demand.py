@@ -14,7 +14,6 @@ from tracker.engine import diversity as dv
 from tracker.engine import three_phase
 from tracker.checks.design_current import load_current_a
 from tracker.model import PHASES, Board, Circuit
-from tracker.checks.design_current import load_current_a
 
 ID = "demand"
 CHECK = CheckSpec(id=ID, rank=10, scope=BOARD, name="maximum demand", unit="A", compare="<=", gauge="demand/limit")

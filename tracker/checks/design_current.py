@@ -134,7 +134,7 @@ def _cooker_ib(circuit: Circuit, u0_v: float, premises: str, own: tuple) -> tupl
         how = (f"cooker allowance {rule['full_a']:g} A + {rule['rest_pct']:g} % of "
                f"({connected:.2f} − {rule['full_a']:g}) A")
     elif "by_rank_pct" in rule:
-        how = (f"cooker allowance " + " + ".join(f"{p:g} %" for p in rule["by_rank_pct"][:len(currents)])
+        how = ("cooker allowance " + " + ".join(f"{p:g} %" for p in rule["by_rank_pct"][:len(currents)])
                + (f" + {rule['others_pct']:g} % of the rest" if len(currents) > len(rule["by_rank_pct"]) else "")
                + f" of {', '.join(f'{a:.2f}' for a in sorted(currents, reverse=True))} A")
     else:

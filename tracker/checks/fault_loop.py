@@ -50,7 +50,6 @@ def _text(f: Facts, limit: float | None, limit_how: str) -> str:
 
 
 def _verdict(f: Facts, how: str, limit: float | None, limit_how: str) -> CheckResult:
-    sup = f.ctx.supply
     t_txt = f"disconnection in {f.t_req_s:g} s ({'distribution circuit' if f.distribution else 'final circuit'})"
     if f.system == "TT":
         return _tt(f, how, limit, limit_how, t_txt)

@@ -47,7 +47,7 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
     u0 = f.ctx.supply.u0_v
     row, row_test_v, minimum = measured.table64_row(u0)
     test_v = rd.measurement.ir_test_v
-    w = {"ir_mohm": ir, "ir_min_mohm": minimum, "measured_on": rd.date.isoformat()}
+    working = {"ir_mohm": ir, "ir_min_mohm": minimum, "measured_on": rd.date.isoformat()}
     head = f"{fmt(ir)} MΩ measured {rd.date.isoformat()}"
     table = f"Table 64, circuits {row}: {minimum:g} MΩ at {row_test_v:g} V d.c."
     if test_v is None:
@@ -60,11 +60,11 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
         note = f"at {test_v:g} V (above the row's {row_test_v:g} V)"
     else:
         return not_assessed(ID, UNIT, ">=", f"{head} at {test_v:g} V, a test voltage Table 64 does not name for "
-                                            f"this circuit ({table})", value=ir, limit=minimum), w
+                                            f"this circuit ({table})", value=ir, limit=minimum), working
     if ir < minimum:
-        return CheckResult(ID, FAIL, ir, minimum, UNIT, ">=", f"{head} {note} < {table} — 643.3.2"), w
+        return CheckResult(ID, FAIL, ir, minimum, UNIT, ">=", f"{head} {note} < {table} — 643.3.2"), working
     if test_v is not None and test_v < row_test_v:
         return CheckResult(ID, WARN, ir, minimum, UNIT, ">=",
                            f"{head} {note} ≥ {minimum:g} MΩ; a test at {row_test_v:g} V with the equipment "
-                           f"disconnected would show the cables' insulation itself ({table})"), w
-    return CheckResult(ID, PASS, ir, minimum, UNIT, ">=", f"{head} {note} ≥ {table} — 643.3.2"), w
+                           f"disconnected would show the cables' insulation itself ({table})"), working
+    return CheckResult(ID, PASS, ir, minimum, UNIT, ">=", f"{head} {note} ≥ {table} — 643.3.2"), working

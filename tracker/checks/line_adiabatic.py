@@ -105,23 +105,23 @@ def _computed(f: Facts, board_end: bool) -> Outcome:
     for where, z in ends:
         energy = protection.fault_energy(f, adiabatic.fault_current_a(u0, z), z)
         trials.append((where, z, protection.withstand(energy, k, csa)))
-    where, z, w = min(trials, key=lambda t: (_ORDER[t[2].status], -(t[2].min_mm2 or 0.0)))
-    e = w.energy
-    deciding = e.lower_a2s if w.status == FAIL else e.upper_a2s
-    rec = LineAdiabaticWorking(short_circuit_min_a=trials[0][2].energy.current_a, line_min_mm2=w.min_mm2, k_line=k,
+    where, z, withstand = min(trials, key=lambda t: (_ORDER[t[2].status], -(t[2].min_mm2 or 0.0)))
+    e = withstand.energy
+    deciding = e.lower_a2s if withstand.status == FAIL else e.upper_a2s
+    rec = LineAdiabaticWorking(short_circuit_min_a=trials[0][2].energy.current_a, line_min_mm2=withstand.min_mm2, k_line=k,
                                line_let_through_a2s=deciding,
                                short_circuit_board_a=trials[1][2].energy.current_a if len(trials) > 1 else None)
     if e.upper_a2s is None and e.lower_a2s is None:
         return Outcome(not_assessed(ID, "mm2", ">=", f"{where} {e.current_a:.0f} A: {e.how}", value=csa), rec)
     working = (where, z == f.zln_far_ohm, u0, z, e, k_how)
-    if w.status in (PASS, FAIL):
-        return Outcome(CheckResult(ID, w.status, csa, w.min_mm2, "mm2", ">=", ""), rec,
-                       words(_text, working, w, csa, deciding, k))
-    need = f"S ≥ {w.min_mm2:.2f} mm² > {csa:g} mm²" if w.min_mm2 is not None else "no figure"
+    if withstand.status in (PASS, FAIL):
+        return Outcome(CheckResult(ID, withstand.status, csa, withstand.min_mm2, "mm2", ">=", ""), rec,
+                       words(_text, working, withstand, csa, deciding, k))
+    need = f"S ≥ {withstand.min_mm2:.2f} mm² > {csa:g} mm²" if withstand.min_mm2 is not None else "no figure"
     return Outcome(not_assessed(ID, "mm2", ">=", f"{_working_text(*working)}: {need}; "
-                                + protection.undecided_reason(w, "the conductors", f.label,
+                                + protection.undecided_reason(withstand, "the conductors", f.label,
                                                              f.circuit.device.kind in protection.BREAKERS),
-                                value=csa, limit=w.min_mm2), rec)
+                                value=csa, limit=withstand.min_mm2), rec)
 
 
 def _working_text(where: str, far_end: bool, u0: float, z: float, e, k_how: str) -> str:
@@ -130,8 +130,8 @@ def _working_text(where: str, far_end: bool, u0: float, z: float, e, k_how: str)
     return f"{where} {e.current_a / 1000:.2f} kA (cable sized on Ib: checked at its origin too); {e.how}; {k_how}"
 
 
-def _text(working: tuple, w, csa: float, deciding: float, k: float) -> str:
-    if w.status == PASS:
-        return f"{_working_text(*working)}: S ≥ {w.min_mm2:.2f} mm² ≤ {csa:g} mm² — 434.5.2"
-    return (f"{_working_text(*working)}: even the published {deciding:,.0f} A²s needs S ≥ {w.min_mm2:.2f} mm² > "
+def _text(working: tuple, withstand, csa: float, deciding: float, k: float) -> str:
+    if withstand.status == PASS:
+        return f"{_working_text(*working)}: S ≥ {withstand.min_mm2:.2f} mm² ≤ {csa:g} mm² — 434.5.2"
+    return (f"{_working_text(*working)}: even the published {deciding:,.0f} A²s needs S ≥ {withstand.min_mm2:.2f} mm² > "
             f"{csa:g} mm² (k²S² = {(k * csa) ** 2:,.0f} A²s) — 434.5.2")

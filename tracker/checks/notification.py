@@ -112,7 +112,7 @@ def _routes(site: Site, demand_a: float | None, gen_devices, demand_devices, dem
                                       data["demand"]["residential_limit_a"][0])
             if not demand_devices:
                 # other new demand: only the supplier's fuse is in question
-                why = [w for w in why if "supplier's fuse" in w and "exceed" in w]
+                why = [reason for reason in why if "supplier's fuse" in reason and "exceed" in reason]
         demand_route = rule.APPLY_BEFORE if why else (rule.NOTIFY_AFTER if demand_devices else None)
         reasons += why
     if rule.APPLY_BEFORE in (gen_route, demand_route):

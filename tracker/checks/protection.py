@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from functools import cache, lru_cache
+from functools import lru_cache
 from typing import NamedTuple
 
 from tracker import catalogue
@@ -321,9 +321,9 @@ def _settles(label: str, current_a: float, breaker: bool) -> str:
             f"(BS 7671 Appendix 3), given as I² × t in device.let_through_a2s")
 
 
-def undecided_reason(w: Withstand, what: str, label: str, breaker: bool = True) -> str:
+def undecided_reason(withstand: Withstand, what: str, label: str, breaker: bool = True) -> str:
     """Why a withstand is not assessed, and what would settle it."""
-    e = w.energy
+    e = withstand.energy
     settle = _settles(label, e.current_a, breaker)
     if e.upper_a2s is None:
         return f"no upper figure for the energy at {e.current_a:.0f} A, so {what} cannot be shown adequate: {settle}"

@@ -61,14 +61,14 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
                                             "the circuit or its board)", value=t), {"rcd_ms": t}
     delay, delay_how = _delay(f)
     shortest, longest = measured.rcd_time_limits_ms(delay, 1)
-    w = {"rcd_ms": t, "rcd_max_ms": longest, "measured_on": rd.date.isoformat()}
+    working = {"rcd_ms": t, "rcd_max_ms": longest, "measured_on": rd.date.isoformat()}
     standard = f"{f.rcd_ma:g} mA RCD, {delay_how}: BS EN 61008-1/61009-1"
     if t > longest:
         return CheckResult(ID, FAIL, t, longest, UNIT, "<=",
-                           f"{head} > {longest:g} ms ({standard}) — 643.8"), w
+                           f"{head} > {longest:g} ms ({standard}) — 643.8"), working
     if shortest is not None and t < shortest:
         return CheckResult(ID, WARN, t, longest, UNIT, "<=",
                            f"{head} is faster than the {shortest:g} ms a type S must hold off ({standard}): it "
-                           "will not wait for an RCD downstream (selectivity, 536.4.1.4)"), w
+                           "will not wait for an RCD downstream (selectivity, 536.4.1.4)"), working
     band = f"{shortest:g}–{longest:g} ms" if shortest is not None else f"≤ {longest:g} ms"
-    return CheckResult(ID, PASS, t, longest, UNIT, "<=", f"{head}, {band} ({standard}) — 643.8"), w
+    return CheckResult(ID, PASS, t, longest, UNIT, "<=", f"{head}, {band} ({standard}) — 643.8"), working

@@ -20,7 +20,7 @@ from typing import NamedTuple
 from tracker import catalogue
 from tracker.checks import circuit as circuit_checks
 from tracker.checks import registry
-from tracker.checks.breaking_capacity import BREAKING_STEPS_KA, fault_ka
+from tracker.checks.breaking_capacity import BREAKING_STEPS_KA
 from tracker.checks.circuit import CircuitResult
 from tracker.checks.context import device_label
 from tracker.checks.readings import READING_CHECKS
@@ -392,7 +392,7 @@ def find(result: CircuitResult) -> dict | None:
         _rank, words, cand = options[0]
         out["changes"] = words
         out["change"] = _change_record(cand)
-        out["alternatives"] = [{"changes": w, "change": _change_record(k)} for _r, w, k in options[1:]]
+        out["alternatives"] = [{"changes": option_words, "change": _change_record(option)} for _r, option_words, option in options[1:]]
     text = []
     ctx = result.ctx
     vd = result.check("voltage-drop")
@@ -402,7 +402,7 @@ def find(result: CircuitResult) -> dict | None:
                     f"dropped upstream: put the sub-main {ctx.fed_via} right first")
     if options:
         first = "smallest change that passes every check of the circuit: " + "; ".join(options[0][1])
-        text.append(first + "".join(f"; or {'; '.join(w)}" for _r, w, _k in options[1:]))
+        text.append(first + "".join(f"; or {'; '.join(option_words)}" for _r, option_words, _k in options[1:]))
     elif not local:
         text.append("no change to this circuit alone can pass: the cause is upstream")
     else:

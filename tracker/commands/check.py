@@ -63,7 +63,7 @@ class _JsonOut:
     def close(self, errors, warnings) -> None:
         ind = 2 if self.pretty else None
         tail = {"boards": self.boards, "errors": [e.as_json() for e in errors], "supplies": self.supplies,
-                "warnings": [w.as_json() for w in warnings], "caution": self.json_out.CAUTION}
+                "warnings": [warning.as_json() for warning in warnings], "caution": self.json_out.CAUTION}
         body = json.dumps(tail, indent=ind, ensure_ascii=False)
         self.out.write("], " + body[1:] + "\n")
 

@@ -76,16 +76,16 @@ def warning_lines(outcome, recorded, as_json: bool) -> list[str]:
     for text in getattr(outcome, "misspelt", ()):
         out.append(json.dumps({"event": "check-spelling", "transition": "check-spelling", **base, "detail": text},
                               ensure_ascii=False) if as_json else f"CHECK SPELLING  {clean(text)}")
-    for w in getattr(outcome, "new_warnings", ()):
-        out.append(json.dumps({"event": "warning", "transition": "warning", **base, "line": w.line, "col": w.col,
-                               "detail": str(w)}, ensure_ascii=False) if as_json else f"WARNING  {clean(w)}")
+    for warning in getattr(outcome, "new_warnings", ()):
+        out.append(json.dumps({"event": "warning", "transition": "warning", **base, "line": warning.line, "col": warning.col,
+                               "detail": str(warning)}, ensure_ascii=False) if as_json else f"WARNING  {clean(warning)}")
     return out
 
 
 def state_warnings(state) -> list:
     """Every warning of the files as the state holds them (those `check` gives), sorted."""
     from tracker.loading.errors import sort_problems
-    return sort_problems([w for files in state.good.values() for result in files.values() for w in result.warnings])
+    return sort_problems([warning for files in state.good.values() for result in files.values() for warning in result.warnings])
 
 
 def loads_again_line(outcome, recorded, as_json: bool) -> str:

@@ -60,8 +60,8 @@ def run(args) -> int:
         return fail(exc)
     except EstateError as exc:
         return fail(exc)
-    for w in estate.warnings:
-        print(w, file=sys.stderr)
+    for warning in estate.warnings:
+        print(warning, file=sys.stderr)
     for e in estate.errors:
         print(e, file=sys.stderr)
     items = estate_items(estate, on)

@@ -158,7 +158,7 @@ def _all_sites(root: Path, args, since, db: Path) -> int:
     try:
         for site in estate.sites.values():
             doc = gather.build(site, estate.loads[site.folder].files, db, since=since,
-                               warnings=[w for w in estate.warnings if w.file.startswith(site.folder)], reader=reader)
+                               warnings=[warning for warning in estate.warnings if warning.file.startswith(site.folder)], reader=reader)
             pages.append((doc, f"{site.id}.{args.format}", render(doc)))
             progress.advance()
     finally:

@@ -70,8 +70,8 @@ def run(args) -> int:
         for _, errs in sorted(state.errors.items()):
             for e in errs:
                 print(clean(e), file=sys.stderr)
-        for w in state_warnings(state):       # what `check` would warn of, as `check` writes it
-            print(clean(w), file=sys.stderr)
+        for warning in state_warnings(state):       # what `check` would warn of, as `check` writes it
+            print(clean(warning), file=sys.stderr)
         failing = sum(1 for sr in state.site_results() for r in sr.circuits.values() if r.status == "fail")
         first = bool(updates) and all(u.outcome.first_record for u in updates)
         if args.json:

@@ -9,10 +9,8 @@ import datetime
 import difflib
 import math
 
-from tracker.model import (PHASES, Board, Cable, Circuit, Device, Environment, Inspection, Load, Measurement,
-                           Observation, RingReading, Src, Supply)
-from tracker.model import (NO_RCD_DATA, PHASES, Board, Cable, Circuit, Device, Environment, Load, RcdData, Source,
-                           Src, Supply)
+from tracker.model import (NO_RCD_DATA, PHASES, Board, Cable, Circuit, Device, Environment, Inspection, Load,
+                           Measurement, Observation, RcdData, RingReading, Source, Src, Supply)
 from tracker.schemas_access import schema_json
 
 

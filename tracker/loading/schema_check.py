@@ -100,7 +100,7 @@ def _explain(err) -> list[tuple[tuple, str]]:
     if v == "type":
         want = err.validator_value
         wants = want if isinstance(want, list) else [want]
-        words = " or ".join(_TYPE_WORDS.get(w, w) for w in wants)
+        words = " or ".join(_TYPE_WORDS.get(wanted, wanted) for wanted in wants)
         return [(path, f"expected {words}, got {_show(err.instance)}")]
     if v in ("enum", "pattern", "const"):
         if hint:

@@ -84,10 +84,10 @@ def _cell(value):
 
 def _write(header: list[str], rows) -> str:
     buf = io.StringIO(newline="")
-    w = csv.writer(buf, lineterminator="\r\n")
-    w.writerow(header)
+    writer = csv.writer(buf, lineterminator="\r\n")
+    writer.writerow(header)
     for row in rows:
-        w.writerow([_cell(v) for v in row])
+        writer.writerow([_cell(v) for v in row])
     return buf.getvalue()
 
 

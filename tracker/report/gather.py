@@ -383,7 +383,7 @@ def build(site: Site, site_files: dict[str, str | None], db: Path, since: str | 
         "history": history,
         "verification": hist["verification"],
         "inspections": inspection_record.section(sr, now.date()),
-        "warnings": [w.as_json() for w in warnings],
+        "warnings": [warning.as_json() for warning in warnings],
     }
 
 

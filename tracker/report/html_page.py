@@ -257,7 +257,7 @@ def _circuit_row(c: dict) -> Safe:
 
 def _circuits(doc: dict) -> Safe:
     widths = (5, 17, 12, 12, 7, 5, 9, 7, 8, 7, 11)
-    cols = el("colgroup", [el("col", style=f"width:{w}%") for w in widths])
+    cols = el("colgroup", [el("col", style=f"width:{width}%") for width in widths])
     head = el("thead", el("tr", el("th", "Way"), el("th", "Circuit"), el("th", "Protective device"),
                           el("th", "Cable line/cpc"), el("th", "Ib A", class_="n"), el("th", "In A", class_="n"),
                           el("th", "Iz A", class_="n"), el("th", "VD %", class_="n"),
@@ -361,7 +361,7 @@ def _compact(changes: list[dict]) -> list[dict]:
     """Additions and removals of whole circuits carry their loads with them: list the circuit only."""
     whole = {ch["ref"] for ch in changes if ch["change"] in ("added", "removed")}
     return [ch for ch in changes
-            if not (ch["change"] in ("added", "removed") and any(ch["ref"].startswith(w + "/") for w in whole))]
+            if not (ch["change"] in ("added", "removed") and any(ch["ref"].startswith(circuit_ref + "/") for circuit_ref in whole))]
 
 
 def _change_line(ch: dict, site_id: str) -> str:
@@ -467,7 +467,7 @@ def _history(doc: dict) -> Safe:
                el("td", _what_changed(r, doc["site"]["id"])),
                el("td", _what_it_did(r, doc["site"]["id"])), data_revision=r["id"])
             for r in revs]
-    cols = el("colgroup", [el("col", style=f"width:{w}%") for w in (12, 11, 11, 18, 24, 24)])
+    cols = el("colgroup", [el("col", style=f"width:{width}%") for width in (12, 11, 11, 18, 24, 24)])
     table = el("table", cols, el("thead", el("tr", el("th", "Rev."), el("th", "When"), el("th", "Who"), el("th", "Why"),
                                        el("th", "What changed (before → after)"), el("th", "What it did"))),
                el("tbody", rows), class_="data history fixed")
@@ -544,7 +544,7 @@ def _warnings(doc: dict) -> Safe | None:
     if not doc["warnings"]:
         return None
     return el("p", badge(WARN, "Notes on the site files:"), " ",
-              "; ".join(w["text"] for w in doc["warnings"]), class_="note")
+              "; ".join(warning["text"] for warning in doc["warnings"]), class_="note")
 
 
 def _foot(doc: dict) -> Safe:

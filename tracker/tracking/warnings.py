@@ -16,26 +16,26 @@ MAX_IN_NOTE = 5
 _SUGGESTED = re.compile(r"did you mean '([^']+)'")
 
 
-def _key(w) -> tuple:
-    return (tuple(w.path), w.message)
+def _key(warning) -> tuple:
+    return (tuple(warning.path), warning.message)
 
 
 def note_warnings(outcome, now: list, before) -> None:
     """Set the outcome's warnings, those new in this save, and the changes they may explain."""
-    seen = {_key(w) for w in before}
+    seen = {_key(warning) for warning in before}
     outcome.warnings = list(now)
-    outcome.new_warnings = [w for w in now if _key(w) not in seen]
+    outcome.new_warnings = [warning for warning in now if _key(warning) not in seen]
     flagged = []
-    for w in outcome.new_warnings:
-        m = _SUGGESTED.search(w.message)
-        if not m or len(w.path) < 1:
+    for warning in outcome.new_warnings:
+        m = _SUGGESTED.search(warning.message)
+        if not m or len(warning.path) < 1:
             continue
-        meant = ".".join(str(p) for p in w.path[2:-1] if not isinstance(p, int)) if len(w.path) > 2 else ""
+        meant = ".".join(str(p) for p in warning.path[2:-1] if not isinstance(p, int)) if len(warning.path) > 2 else ""
         field = f"{meant}.{m.group(1)}" if meant else m.group(1)
         for c in outcome.changes:
             if c.field == field or (c.field or "").endswith("." + m.group(1)) or c.field == m.group(1):
-                flagged.append(f"{c} comes only from the unknown key '{w.path[-1]}' (did you mean "
-                               f"'{m.group(1)}'?, {w.file}:{w.line})")
+                flagged.append(f"{c} comes only from the unknown key '{warning.path[-1]}' (did you mean "
+                               f"'{m.group(1)}'?, {warning.file}:{warning.line})")
     outcome.misspelt = flagged
 
 
@@ -48,8 +48,8 @@ def warnings_note(outcome, note: str | None) -> str | None:
         parts.append("check the spelling: " + "; ".join(misspelt))
     warnings = getattr(outcome, "warnings", None) or []
     if warnings:
-        shown = "; ".join(f"{format_path(w.path)}: {w.message}" if w.path else w.message
-                          for w in warnings[:MAX_IN_NOTE])
+        shown = "; ".join(f"{format_path(warning.path)}: {warning.message}" if warning.path else warning.message
+                          for warning in warnings[:MAX_IN_NOTE])
         more = f" (and {len(warnings) - MAX_IN_NOTE} more)" if len(warnings) > MAX_IN_NOTE else ""
         parts.append(f"warnings: {shown}{more}")
     return "; ".join(parts) if parts else None

@@ -65,14 +65,14 @@ class WorkingView(Widget):
     def _heading(self, title: str) -> Text:
         return Text(title, style=self._s("heading"))
 
-    def _summary(self, w: Working) -> RenderableType:
+    def _summary(self, working: Working) -> RenderableType:
         row = self.row
         now = self.clock()
         grid = Table.grid(padding=(0, 1))
         grid.add_column(style=self._s("label"), no_wrap=True, min_width=12)
         grid.add_column(ratio=1)
-        state = Text(f"{STATE_MARK[w.state]} {STATE_WORDS[w.state]}", style=self._s(w.state))
-        state.append(f"   engine status: {STATUS_MARK[w.status]} {STATUS_WORD[w.status]}", style=self._status(w.status))
+        state = Text(f"{STATE_MARK[working.state]} {STATE_WORDS[working.state]}", style=self._s(working.state))
+        state.append(f"   engine status: {STATUS_MARK[working.status]} {STATUS_WORD[working.status]}", style=self._status(working.status))
         grid.add_row("state", state)
         if row is not None and row.cause is not None:
             if row.cause.kind == "first-record":
@@ -85,8 +85,8 @@ class WorkingView(Widget):
             note = f": {row.ack.note}" if row.ack.note else ""
             grid.add_row("acknowledged", f"△ {ago(row.ack.at, now)} by {row.ack.author}{note} "
                                          f"(revision {row.ack.revision}; {', '.join(row.ack.checks)})")
-        grid.add_row("headroom", w.headroom)
-        if w.wants_remedy:
+        grid.add_row("headroom", working.headroom)
+        if working.wants_remedy:
             grid.add_row("remedy", self.remedy or "finding the smallest change that passes…")
         return grid
 
@@ -108,12 +108,12 @@ class WorkingView(Widget):
             grid.add_row(g.label, filled, pct, word, Text(g.text, style=self._s("dim")))
         return grid
 
-    def _checks(self, w: Working) -> RenderableType:
+    def _checks(self, working: Working) -> RenderableType:
         now = self.clock()
         grid = Table.grid(padding=(0, 1))
         grid.add_column(no_wrap=True, min_width=20)
         grid.add_column(ratio=1)
-        for c in w.checks:
+        for c in working.checks:
             head = Text(f"{STATUS_MARK[c.status]} {c.check_id}", style=self._status(c.status))
             figures = Text(c.figures + f"  {STATUS_WORD[c.status]}", style=self._status(c.status))
             if c.since_revision is not None:
@@ -123,9 +123,9 @@ class WorkingView(Widget):
             grid.add_row("", Text(c.detail, style=self._s("dim") if c.status == PASS else ""))
         return grid
 
-    def _sections(self, w: Working) -> RenderableType:
+    def _sections(self, working: Working) -> RenderableType:
         parts = []
-        for sec in w.sections:
+        for sec in working.sections:
             grid = Table.grid(padding=(0, 1))
             grid.add_column(style=self._s("label"), no_wrap=True, min_width=16)
             grid.add_column(ratio=1)
@@ -139,15 +139,15 @@ class WorkingView(Widget):
         return Group(*parts)
 
     def render(self) -> RenderableType:
-        w = self.working
-        if w is None:
+        working = self.working
+        if working is None:
             return Text("This element is no longer in the site files.", style=self._s("dim"))
         width = self.size.width or 80
         wide = width >= TWO_COLUMNS
         left_w = int(width * 0.56) if wide else width
-        left = Group(self._summary(w), Text(""), self._heading("Utilisation of each limit"),
-                     self._gauges(w.gauges, left_w), Text(""), self._heading("Checks"), self._checks(w))
-        right = self._sections(w)
+        left = Group(self._summary(working), Text(""), self._heading("Utilisation of each limit"),
+                     self._gauges(working.gauges, left_w), Text(""), self._heading("Checks"), self._checks(working))
+        right = self._sections(working)
         if wide:
             grid = Table.grid(padding=(0, 0, 0, 3))
             grid.add_column(width=left_w - 3)
