@@ -56,3 +56,19 @@ def test_device_ratings_and_fuse_tables_are_consistent():
         # A longer permitted time allows a higher impedance (lower current).
         for rating, v04 in info["max_zs_ohm"]["0.4"].items():
             assert info["max_zs_ohm"]["5"][rating][0] > v04[0]
+
+
+def test_rcd_break_times_are_one_datum():
+    """The longest break times of tracker/data/devices.yaml (read by the fault-loop and adiabatic
+    checks) and those the rcd-operation check holds a measurement against
+    (tracker.engine.measured.RCD_TIMES_MS) are the same figures of BS EN 61008-1 / 61009-1:
+    300 ms at IΔn and 40 ms at 5 IΔn for a general RCD, 500 ms and 150 ms for a type S."""
+    from tracker.engine import measured
+
+    rcd = catalogue.device_info("rcd")
+    for delay, key in (("general", "break_time_s"), ("S", "delayed_break_time_s")):
+        for multiple in (1, 5):
+            held_s = float(rcd[key][multiple][0])
+            assert measured.rcd_time_limits_ms(delay, multiple)[1] == held_s * 1000.0, (delay, multiple)
+    assert [float(rcd["break_time_s"][m][0]) for m in (1, 5)] == [0.3, 0.04]
+    assert [float(rcd["delayed_break_time_s"][m][0]) for m in (1, 5)] == [0.5, 0.15]

@@ -384,7 +384,6 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
 # -- the list's filters -------------------------------------------------------------------
 
 SHOW_NEW, SHOW_FAILING, SHOW_ALL = "new", "failing", "all"
-FILTERS = (SHOW_NEW, SHOW_FAILING, SHOW_ALL)
 
 
 def visible(rows, which: str, needle: str = "") -> list[Row]:

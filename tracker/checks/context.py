@@ -270,6 +270,23 @@ def _armour_cpc(cable, three_phase_circuit: bool = False) -> tuple[float | None,
     return cable.armour_mm2, cable.armour_mohm_per_m, why
 
 
+def _cpc(circuit: Circuit, kind, route: str) -> tuple[float | None, float | None, str]:
+    """(cpc cross-section, its resistance at 20 °C in mΩ/m, why either is unknown or assumed): the
+    armour's from the site file, else the cpc the site gives or the kind's standard construction,
+    with the IEC 60228 resistance of that size."""
+    cable = circuit.cable
+    if route == ARMOUR:
+        return _armour_cpc(cable, circuit.three_phase)
+    if cable.cpc_mm2 is not None:
+        cpc, cpc_how = cable.cpc_mm2, ""
+    else:
+        cpc = kind.default_cpc_mm2(cable.csa_mm2) if kind else None
+        cpc_how = (f"cpc {cpc:g} mm² assumed (standard construction of {kind.kind})" if cpc is not None
+                   else "cpc size not given (cable.cpc_mm2)")
+    r_cpc_held = catalogue.conductor_resistance(cpc) if cpc is not None else None
+    return cpc, (r_cpc_held.value if r_cpc_held else None), cpc_how
+
+
 def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = None,
                 readings=None, fed_phases_a: tuple | None = None) -> Facts:
     sup = ctx.supply
@@ -287,17 +304,7 @@ def build_facts(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None 
     route = cpc_route(circuit)
     r_line_held = catalogue.conductor_resistance(cable.csa_mm2)
     r_line_mohm_per_m = r_line_held.value if r_line_held else None
-    if route == ARMOUR:
-        cpc, r_cpc_mohm_per_m, cpc_how = _armour_cpc(cable, circuit.three_phase)
-    else:
-        if cable.cpc_mm2 is not None:
-            cpc, cpc_how = cable.cpc_mm2, ""
-        else:
-            cpc = kind.default_cpc_mm2(cable.csa_mm2) if kind else None
-            cpc_how = (f"cpc {cpc:g} mm² assumed (standard construction of {kind.kind})" if cpc is not None
-                       else "cpc size not given (cable.cpc_mm2)")
-        r_cpc_held = catalogue.conductor_resistance(cpc) if cpc is not None else None
-        r_cpc_mohm_per_m = r_cpc_held.value if r_cpc_held else None
+    cpc, r_cpc_mohm_per_m, cpc_how = _cpc(circuit, kind, route)
     multiplier = kind.resistance_multiplier if kind else impedance.resistance_multiplier(70.0)
     loop = zs = zln = None
     zs_why = zln_why = ""

@@ -54,7 +54,8 @@ def _rcd(f: Facts, parts: Parts, data: dict):
     clause = rule["clause"]
     rcd = next((r for r in f.rcds if r.idn_ma <= rules.ADDITIONAL_PROTECTION_MA and not r.delayed), None)
     if rcd is None:
-        parts.add(FAIL, f"{clause}: no RCD of 30 mA or less without intended delay protects the charge point")
+        parts.add(FAIL, f"{clause}: no RCD of {rules.ADDITIONAL_PROTECTION_MA:g} mA or less without intended delay "
+                        "protects the charge point")
         return None
     name = f"{rcd.idn_ma:g} mA RCD ({rcd.at})"
     kind = rcd.data.type

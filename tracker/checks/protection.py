@@ -190,8 +190,8 @@ def rcd_time_s(f: Facts, current_a: float) -> tuple[float | None, str, bool]:
     t, status, at, rcd = best
     kind = "time-delayed (S) " if rcd.delayed else ""
     mark = "" if status == "seen" else f" [{status}]"
-    return t, (f"t ≤ {t:g} s ({rcd.idn_ma:g} mA {kind}RCD, {rcd.at}, at ≥ {at:g} IΔn; "
-               f"BS EN 61008-1/61009-1){mark}"), True
+    standard = catalogue.device_info("rcd")["standard"]
+    return t, f"t ≤ {t:g} s ({rcd.idn_ma:g} mA {kind}RCD, {rcd.at}, at ≥ {at:g} IΔn; {standard}){mark}", True
 
 
 class FaultEnergy(NamedTuple):

@@ -3,6 +3,7 @@
 500 ms), as BS 7671:2018 643.8 asks the effectiveness of an RCD to be verified."""
 from __future__ import annotations
 
+from tracker import catalogue
 from tracker.checks.context import Facts
 from tracker.checks.registry import CheckSpec, Outcome
 from tracker.checks.readings import Readings
@@ -62,7 +63,7 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
     delay, delay_how = _delay(f)
     shortest, longest = measured.rcd_time_limits_ms(delay, 1)
     working = {"rcd_ms": t, "rcd_max_ms": longest, "measured_on": rd.date.isoformat()}
-    standard = f"{f.rcd_ma:g} mA RCD, {delay_how}: BS EN 61008-1/61009-1"
+    standard = f"{f.rcd_ma:g} mA RCD, {delay_how}: {catalogue.device_info('rcd')['standard']}"
     if t > longest:
         return CheckResult(ID, FAIL, t, longest, UNIT, "<=",
                            f"{head} > {longest:g} ms ({standard}) — 643.8"), working

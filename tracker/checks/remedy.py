@@ -27,6 +27,7 @@ from tracker.checks.readings import READING_CHECKS
 from tracker.checks.registry import BREAKING, CURVE, RATING, RATING_UP, RCD, SIZE
 from tracker.checks.result import FAIL, NOT_ASSESSED, WARN
 from tracker.checks.rules import ADDITIONAL_PROTECTION_MA
+from tracker.engine import disconnection
 from tracker.model import Cable, Device
 
 RATING_STEPS = (-2, -1, 0, 1, 2, 3, 4, 5)
@@ -345,29 +346,73 @@ def find(result: CircuitResult) -> dict | None:
     fixes = _requirement_fixes(result)
     if not failing:
         return {"changes": [], "load_limit_kw": None, "text": "; ".join(fixes), "alternatives": []} if fixes else None
-    c = result.circuit
     out: dict = {"changes": [], "load_limit_kw": None, "text": "", "alternatives": []}
-    unknown, cautions = _with(result, NOT_ASSESSED), _with(result, WARN)
-    chosen = fallback = None
-    tries = 0
     local = _fixable_here(result, failing)
-    for cand in (_candidate_circuits(result, failing) if local else ()):
+    options = _ranked_options(result, failing, local)
+    if options:
+        _rank, words, cand = options[0]
+        out["changes"] = words
+        out["change"] = _change_record(cand)
+        out["alternatives"] = [{"changes": option_words, "change": _change_record(option)}
+                               for _rank, option_words, option in options[1:]]
+    text = []
+    ctx = result.ctx
+    vd = result.check("voltage-drop")
+    if "voltage-drop" in failing and ctx.fed_via and ctx.vd_v is not None and vd.limit is not None \
+            and ctx.vd_v >= 0.5 * vd.limit / 100.0 * ctx.supply.u0_v:
+        text.append(f"{ctx.vd_v:.2f} V of the allowed {vd.limit / 100.0 * ctx.supply.u0_v:.2f} V is already "
+                    f"dropped upstream: put the sub-main {ctx.fed_via} right first")
+    if options:
+        first = "smallest change that passes every check of the circuit: " + "; ".join(options[0][1])
+        text.append(first + "".join(f"; or {'; '.join(option_words)}" for _rank, option_words, _option in options[1:]))
+    elif not local:
+        text.append("no change to this circuit alone can pass: the cause is upstream")
+    else:
+        text.append(_no_change_why(result, failing))
+    text.extend(_load_limit(result, failing, out))
+    out["text"] = "; ".join(fixes + text)
+    return out
+
+
+def _caution_words(trial: CircuitResult, ids: list[str]) -> str:
+    """The caution a fallback change brings, in a few words (fault protection by an RCD named)."""
+    if "fault-loop" in ids and trial.circuit.rcd_ma is not None:
+        return (f"fault protection relies on the {trial.circuit.rcd_ma:g} mA RCD, "
+                f"Zs ≤ {disconnection.TOUCH_VOLTAGE_V:g} V / IΔn, BS 7671 Table 41.5")
+    return "see the check"
+
+
+def _first_passing(result: CircuitResult, failing: set[str], unknown: set[str], cautions: set[str]):
+    """(chosen, fallback), each (candidate circuit, its results) or None: chosen is the first of
+    the device and cable changes that passes with no new caution, else the fallback, the first that
+    passes (the same object then)."""
+    fallback = None
+    tries = 0
+    for cand in _candidate_circuits(result, failing):
         trial = _passes(cand, result, unknown)
         if trial is None:
             continue
         if _with(trial, WARN) <= cautions:
-            chosen = (cand, trial)
-            break
+            return (cand, trial), fallback
         if fallback is None:
             fallback = (cand, trial)
         tries += 1
         if tries > FALLBACK_TRIES:   # a clean remedy is not close: settle for the first that passes
             break
-    chosen = chosen or fallback
-    options = []      # (rank, words, circuit)
+    return fallback, fallback
+
+
+def _ranked_options(result: CircuitResult, failing: set[str], local: bool) -> list[tuple]:
+    """Every change that passes, as (rank, words, circuit), least change first: a device alone,
+    then fewer circuits grouped, a split ring, a new cable, a new route."""
+    if not local:
+        return []
+    c = result.circuit
+    unknown, cautions = _with(result, NOT_ASSESSED), _with(result, WARN)
+    options = []
+    chosen, fallback = _first_passing(result, failing, unknown, cautions)
     if chosen is not None:
         cand, trial = chosen
-        # a device alone first, then fewer circuits grouped, a split ring, a new cable, a new route
         options.append((0 if cand.cable.csa_mm2 == c.cable.csa_mm2 else 4, _describe(c, cand, trial), cand))
     if chosen is not None and fallback is not None and fallback is not chosen:
         # a change that passes with a caution the circuit did not have (30 mA RCD protection on a TN
@@ -379,58 +424,36 @@ def find(result: CircuitResult) -> dict | None:
         if added:
             words[-1] += f" (then with a caution on {', '.join(added)}: {_caution_words(trial, added)})"
         options.append((6, words, cand))
-    if local:
-        seen_ranks = set()
-        for rank, words, cand in itertools.chain(_device_kind_changes(result), _route_changes(result, failing)):
-            if rank in seen_ranks:
-                continue           # the least change of each kind that passes
-            if _passes(cand, result, unknown) is not None:
-                seen_ranks.add(rank)
-                options.append((rank, words, cand))
+    seen_ranks = set()
+    for rank, words, cand in itertools.chain(_device_kind_changes(result), _route_changes(result, failing)):
+        if rank in seen_ranks:
+            continue           # the least change of each kind that passes
+        if _passes(cand, result, unknown) is not None:
+            seen_ranks.add(rank)
+            options.append((rank, words, cand))
     options.sort(key=lambda o: o[0])
-    if options:
-        _rank, words, cand = options[0]
-        out["changes"] = words
-        out["change"] = _change_record(cand)
-        out["alternatives"] = [{"changes": option_words, "change": _change_record(option)} for _r, option_words, option in options[1:]]
-    text = []
-    ctx = result.ctx
-    vd = result.check("voltage-drop")
-    if "voltage-drop" in failing and ctx.fed_via and ctx.vd_v is not None and vd.limit is not None \
-            and ctx.vd_v >= 0.5 * vd.limit / 100.0 * ctx.supply.u0_v:
-        text.append(f"{ctx.vd_v:.2f} V of the allowed {vd.limit / 100.0 * ctx.supply.u0_v:.2f} V is already "
-                    f"dropped upstream: put the sub-main {ctx.fed_via} right first")
-    if options:
-        first = "smallest change that passes every check of the circuit: " + "; ".join(options[0][1])
-        text.append(first + "".join(f"; or {'; '.join(option_words)}" for _r, option_words, _k in options[1:]))
-    elif not local:
-        text.append("no change to this circuit alone can pass: the cause is upstream")
-    else:
-        text.append(_no_change_why(result, failing))
-    if _load_limited(result, failing) and result.own_margin_a() is not None and c.loads \
-            and not socket_circuit(c) and c.design_current_a is None:
-        limit_a = result.ib_a + result.own_margin_a()
-        kw = sum(ld.power_kw for ld in c.loads if ld.power_kw is not None)
-        if kw > 0 and limit_a > 0 and all(ld.power_kw is not None for ld in c.loads):
-            limit_kw = limit_a * kw / result.ib_a   # the same loads, scaled down to the limiting current
-            out["load_limit_kw"] = round(limit_kw, 2)
-            fixed = [ld for ld in c.loads if ld.kind in FIXED_APPLIANCES]
-            if len(c.loads) == 1 and fixed:
-                # an appliance draws its rated current: the circuit takes a smaller appliance, not "less load"
-                text.append(f"or keep the circuit as it is with a {fixed[0].kind.replace('-', ' ')} of at most "
-                            f"{limit_kw:.2f} kW")
-            else:
-                text.append(f"or keep the circuit as it is and limit its load to {limit_kw:.2f} kW")
-    out["text"] = "; ".join(fixes + text)
-    return out
+    return options
 
 
-def _caution_words(trial: CircuitResult, ids: list[str]) -> str:
-    """The caution a fallback change brings, in a few words (fault protection by an RCD named)."""
-    if "fault-loop" in ids and trial.circuit.rcd_ma is not None:
-        return (f"fault protection relies on the {trial.circuit.rcd_ma:g} mA RCD, Zs ≤ 50 V / IΔn, "
-                "BS 7671 Table 41.5")
-    return "see the check"
+def _load_limit(result: CircuitResult, failing: set[str], out: dict) -> list[str]:
+    """Keeping the circuit as it is with less load, where the load is what fails it: the words, and
+    `out['load_limit_kw']`."""
+    c = result.circuit
+    if not (_load_limited(result, failing) and result.own_margin_a() is not None and c.loads
+            and not socket_circuit(c) and c.design_current_a is None):
+        return []
+    limit_a = result.ib_a + result.own_margin_a()
+    kw = sum(ld.power_kw for ld in c.loads if ld.power_kw is not None)
+    if not (kw > 0 and limit_a > 0 and all(ld.power_kw is not None for ld in c.loads)):
+        return []
+    limit_kw = limit_a * kw / result.ib_a   # the same loads, scaled down to the limiting current
+    out["load_limit_kw"] = round(limit_kw, 2)
+    fixed = [ld for ld in c.loads if ld.kind in FIXED_APPLIANCES]
+    if len(c.loads) == 1 and fixed:
+        # an appliance draws its rated current: the circuit takes a smaller appliance, not "less load"
+        return [f"or keep the circuit as it is with a {fixed[0].kind.replace('-', ' ')} of at most "
+                f"{limit_kw:.2f} kW"]
+    return [f"or keep the circuit as it is and limit its load to {limit_kw:.2f} kW"]
 
 
 def _no_change_why(result: CircuitResult, failing: set[str]) -> str:

@@ -43,7 +43,6 @@ def check_phases(supply: Supply | None, boards: list[Board], circuits: list[Circ
         if feeder is not None and not feeder.three_phase:
             yield _err(b, ("phases",), f"board {b.id} is three-phase but its sub-main {b.fed_by} is single-phase "
                                        f"(give {b.fed_by} phases: 3, or make the board single-phase)")
-    kinds = catalogue.cable_kinds()
     for c in circuits:
         board = by_id.get(c.board)
         yield from _check_loads(c)
@@ -53,26 +52,7 @@ def check_phases(supply: Supply | None, boards: list[Board], circuits: list[Circ
         if board is None:
             continue
         if c.three_phase:
-            if not board.three_phase:
-                yield _err(c, ("phases",), f"a three-phase circuit on single-phase board {board.id} "
-                                           f"(give board {board.id} phases: 3, or make the circuit single-phase)")
-            if c.phase is not None:
-                yield _err(c, ("phase",), "a three-phase circuit takes all three lines: remove 'phase'")
-            if c.is_ring:
-                yield _err(c, ("topology",), "a three-phase circuit cannot be a ring final circuit")
-            kind = kinds.get(c.cable.kind)
-            if kind is not None and not kind.three_phase:
-                usable = ", ".join(sorted(k for k, v in kinds.items() if v.three_phase))
-                yield _err(c, ("cable", "kind"), f"{kind.kind} has no three-phase ratings in the catalogue "
-                                                 f"(three-phase cable kinds: {usable})")
-            elif kind is not None and c.cable.method in kind.methods and c.cable.method not in kind.methods_for(3):
-                yield _err(c, ("cable", "method"), f"no three-phase ratings of {kind.kind} by method "
-                                                   f"{c.cable.method} ({', '.join(kind.methods_for(3))})")
-            target = by_id.get(c.feeds) if c.feeds else None
-            if target is not None and not target.three_phase:
-                yield _err(c, ("feeds",), f"a three-phase sub-main feeds single-phase board {target.id} "
-                                          f"(give {target.id} phases: 3, or make this sub-main single-phase on "
-                                          "one line with 'phase')")
+            yield from _check_three_phase_circuit(c, board, by_id)
         elif board.three_phase:
             if c.phase is None:
                 yield _err(c, (), f"a single-phase circuit on three-phase board {board.id} names the line it "
@@ -80,6 +60,32 @@ def check_phases(supply: Supply | None, boards: list[Board], circuits: list[Circ
         elif c.phase is not None:
             yield _err(c, ("phase",), f"board {board.id} is single-phase: remove 'phase' (or give the board "
                                       "phases: 3)")
+
+
+def _check_three_phase_circuit(c: Circuit, board: Board, by_id: dict):
+    """The problems of a three-phase circuit: its board, line, topology, cable kind and method, and
+    the board it feeds."""
+    kinds = catalogue.cable_kinds()
+    if not board.three_phase:
+        yield _err(c, ("phases",), f"a three-phase circuit on single-phase board {board.id} "
+                                   f"(give board {board.id} phases: 3, or make the circuit single-phase)")
+    if c.phase is not None:
+        yield _err(c, ("phase",), "a three-phase circuit takes all three lines: remove 'phase'")
+    if c.is_ring:
+        yield _err(c, ("topology",), "a three-phase circuit cannot be a ring final circuit")
+    kind = kinds.get(c.cable.kind)
+    if kind is not None and not kind.three_phase:
+        usable = ", ".join(sorted(k for k, v in kinds.items() if v.three_phase))
+        yield _err(c, ("cable", "kind"), f"{kind.kind} has no three-phase ratings in the catalogue "
+                                         f"(three-phase cable kinds: {usable})")
+    elif kind is not None and c.cable.method in kind.methods and c.cable.method not in kind.methods_for(3):
+        yield _err(c, ("cable", "method"), f"no three-phase ratings of {kind.kind} by method "
+                                           f"{c.cable.method} ({', '.join(kind.methods_for(3))})")
+    target = by_id.get(c.feeds) if c.feeds else None
+    if target is not None and not target.three_phase:
+        yield _err(c, ("feeds",), f"a three-phase sub-main feeds single-phase board {target.id} "
+                                  f"(give {target.id} phases: 3, or make this sub-main single-phase on "
+                                  "one line with 'phase')")
 
 
 def _check_supply(supply: Supply):

@@ -347,14 +347,7 @@ class EstateState:
             self.errors.pop(rel, None)
             self.good.pop(folder, None)
             return self._remove_site(rel, folder, site_state)
-        along = self._saved_alongside(good, alongside or {})
-        loaded = self._assemble(folder, {**good, **{f: r for f, (_, r) in along.items()}})
-        if loaded.site is None and along:
-            as_on_disk = loaded.errors          # what `check` would say of the files as they are
-            along = {}
-            loaded = self._assemble(folder, good)
-            if loaded.site is None:
-                loaded.errors = as_on_disk
+        loaded, along = self._assemble_along(folder, good, alongside or {})
         if loaded.site is None:
             if result is None:   # a deleted file is gone whatever else is wrong
                 self.good[folder] = good
@@ -368,6 +361,21 @@ class EstateState:
         if result is not None:
             note_warnings(outcome, result.warnings, held.warnings if held is not None else ())
         return outcome
+
+    def _assemble_along(self, folder: str, good: dict[str, FileResult], alongside: dict[str, bytes]):
+        """(the folder's site assembled, the other files taken with it): with every other file of
+        `alongside` that was saved too and loads on its own; if the site does not assemble so, with
+        this file alone (the others wait for their own saves), the errors being those of the files
+        as they are on disk."""
+        along = self._saved_alongside(good, alongside)
+        loaded = self._assemble(folder, {**good, **{f: r for f, (_, r) in along.items()}})
+        if loaded.site is None and along:
+            as_on_disk = loaded.errors          # what `check` would say of the files as they are
+            along = {}
+            loaded = self._assemble(folder, good)
+            if loaded.site is None:
+                loaded.errors = as_on_disk
+        return loaded, along
 
     def _saved_alongside(self, good: dict[str, FileResult], alongside: dict[str, bytes]) -> dict[str, tuple]:
         """The files of `alongside` whose content is not the one held and loads on its own:
