@@ -321,3 +321,24 @@ def test_the_dates_revision_on_a_team_history(site_factory, pg_schema):
         for w, h in ((w1, h1), (w2, h2)):
             w.stop()
             h.close()
+
+
+def test_izwatchs_own_name_is_not_erased(site_factory, capsys):
+    """`erase` is for a person's data: the date's author stays, so the trail keeps saying that no
+    person made those revisions."""
+    from tracker.cli import main
+
+    root = site_factory(RENTED + INSPECTION)
+    clock = Clock(EVE)
+    w, h = _watcher(root, clock)
+    clock.day = FIRST_LATE
+    assert len(w.date_passed()) == 1
+    w.stop()
+    h.close()
+    assert main(["erase", str(root), "--person", DATE_AUTHOR]) == 2
+    assert "izwatch's own name, not a person's" in capsys.readouterr().err
+    h = History.open(root / ".izwatch" / "history.sqlite")
+    try:
+        assert [r["author"] for r in query.revisions(h) if r["source"] == "date"] == [DATE_AUTHOR]
+    finally:
+        h.close()

@@ -37,6 +37,10 @@ def erase(args) -> int:
     from tracker.history.verify import verify
     try:
         check_root(args.path)
+        if args.person.strip().casefold().startswith("izwatch ("):
+            # izwatch's own name (the date's revisions) is no person's data; erasing it would hide
+            # from the trail that no person made those revisions
+            raise CommandError(f"{clean(args.person)!s} is izwatch's own name, not a person's: nothing to erase")
         location = db_path(args)
         if not location_exists(location):
             raise CommandError(f"no history at {shown_location(location)}")
