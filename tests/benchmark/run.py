@@ -31,7 +31,10 @@ process so that one measurement cannot warm the next:
   edits to each size of --growth (700 and 10,700 revisions; tests/benchmark/grow.py), the report
   timed at each (best of three);
 - once: every hostile input of tests/reliability/test_hostile_yaml.py refused by `izwatch check`
-  (the slowest refusal; the reliability suite checks that each is refused, this how quickly).
+  (the slowest refusal; the reliability suite checks that each is refused, this how quickly);
+  every file past the size limits of tests/reliability/test_size_limits.py (the slowest refusal
+  and its peak memory), and the costliest files within them: 50,000 keys under an ignored key
+  (100,000 marks, the most a file holds) and a site file of 1,500 generated circuits.
 
 It prints one JSON document: the figures, the ratios and each target with whether it is met (and
 if not, by how much); and on stderr one line per target: the figure, its limit, the ratio to the
@@ -292,6 +295,41 @@ def hostile_inputs(workdir: Path) -> dict:
             "median_s": statistics.median(times.values())}
 
 
+def size_limits(workdir: Path) -> dict:
+    """Files past the size limits refused by `izwatch check` in a fresh process (wall time, peak
+    memory), and the costliest files within the limits read and checked."""
+    import random
+
+    from tests.benchmark.generate import site_text
+    from tests.conftest import MINIMAL
+    from tests.reliability.test_size_limits import PAST_THE_LIMITS
+    site = workdir / "limits" / "flat-1"
+    site.mkdir(parents=True, exist_ok=True)
+    (site / "site.yaml").write_text(MINIMAL)
+    past = {}
+    for name, make in sorted(PAST_THE_LIMITS.items()):
+        (site / "big.yaml").write_text(make(), newline="")
+        wall, peak, _ = run_timed([sys.executable, "-m", "tracker.cli", "check", str(site.parent)], ok=(2,))
+        past[name] = {"s": round(wall, 3), "peak_mib": round(peak, 1)}
+    within = {}
+    (site / "big.yaml").write_text("x_notes:\n" + "".join(f"  k{i}: 1\n" for i in range(49_990)))
+    wall, peak, _ = run_timed([sys.executable, "-m", "tracker.cli", "check", str(site.parent)])
+    within["50,000 keys under an ignored key"] = {"s": round(wall, 3), "peak_mib": round(peak, 1)}
+    (site / "big.yaml").unlink()
+    big = workdir / "limits" / "big-site"
+    big.mkdir(parents=True, exist_ok=True)
+    for name, text in site_text(random.Random(5), 1, 1_500).items():
+        (big / name).write_text(text)
+    wall, peak, _ = run_timed([sys.executable, "-m", "tracker.cli", "check", str(big), "--jobs", "1"])
+    within["a site file of 1,500 circuits"] = {"s": round(wall, 3), "peak_mib": round(peak, 1)}
+    slowest = max(past, key=lambda k: past[k]["s"])
+    costliest = max(within, key=lambda k: within[k]["s"])
+    return {"past": past, "within": within, "slowest_refusal": slowest, "slowest_refusal_s": past[slowest]["s"],
+            "refusal_peak_mib": max(v["peak_mib"] for v in past.values()),
+            "costliest_within": costliest, "costliest_within_s": within[costliest]["s"],
+            "within_peak_mib": max(v["peak_mib"] for v in within.values())}
+
+
 def end_to_end(path: Path, edits: int) -> dict:
     """The watcher on the estate: its first start; `edits` saves alternating between a plain
     write and an atomic rename (each breaks a circuit, then is undone), timed from the save to its
@@ -431,6 +469,7 @@ def main() -> None:
         print(f"# report --site as the history grows done ({time.perf_counter() - t_all:.0f} s)", file=sys.stderr,
               flush=True)
     hostile = hostile_inputs(workdir)
+    limits = size_limits(workdir)
     targets = []
 
     def target(name, value, limit, unit=""):
@@ -485,10 +524,12 @@ def main() -> None:
         target("check peak memory at 100k", res[100000]["check_peak_mib"], 600, "MiB")
         target("watch peak memory at 100k", res[100000]["end_to_end"]["watch_peak_mib"], 100, "MiB")
     target("slowest hostile input refused", hostile["slowest_s"], 10, "s")
+    target("slowest file past the size limits refused (whole check, fresh process)", limits["slowest_refusal_s"], 1, "s")
+    target("costliest file within the size limits read and checked", limits["costliest_within_s"], 5, "s")
     doc = {"benchmark": "izwatch/1", "python": platform.python_version(), "machine": platform.machine(),
            "cpus": os.cpu_count(), "total_s": round(time.perf_counter() - t_all, 1),
            "sizes": res, "incremental_process_peak_mib": inc_peak, "report_growth": growth_res,
-           "hostile_inputs": hostile, "targets": targets, "all_met": all(t["met"] for t in targets)}
+           "hostile_inputs": hostile, "size_limits": limits, "targets": targets, "all_met": all(t["met"] for t in targets)}
     text = json.dumps(doc, indent=2)
     print(text)
     print(summary(targets), file=sys.stderr)
