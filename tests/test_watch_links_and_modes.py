@@ -106,6 +106,29 @@ def test_a_change_of_attributes_makes_the_file_read_again(demo_copy, tmp_path):
         h.close()
 
 
+def test_a_change_of_a_site_folder_s_attributes_reads_its_files_again(demo_copy, tmp_path):
+    """As above for a site folder made listable again: its files are looked at after the (short)
+    settle interval, not at the minute's scan."""
+    w, h, _ = start_watcher(demo_copy, debounce_s=0.1)
+    try:
+        path = demo_copy / SHOWER
+        outside = tmp_path / "elsewhere.yaml"
+        os.link(path, outside)
+        text = path.read_text(encoding="utf-8")
+        with open(outside, "r+", encoding="utf-8") as fh:
+            fh.write(text.replace("power_kw: 7.5", "power_kw: 9.5", 1))
+            fh.truncate()
+        assert not settle(w, seconds=2.0)                      # nothing seen yet (no event)
+        os.chmod(path.parent, 0o750)
+        got = _until(w, {SHOWER})
+        mine = [u for u in got if u.outcome.file == SHOWER]
+        assert mine and mine[0].outcome.valid and any(c.field == "power_kw" for c in mine[0].outcome.changes)
+    finally:
+        os.chmod(demo_copy / "quill-court-2", 0o755)
+        w.stop()
+        h.close()
+
+
 @pytest.mark.skipif(os.geteuid() == 0, reason="root reads a file of mode 000 all the same")
 def test_a_file_made_readable_again_is_read_at_once(demo_copy):
     w, h, _ = start_watcher(demo_copy, debounce_s=0.1)
