@@ -204,7 +204,7 @@ def test_one_site_read_by_index_gives_what_the_whole_history_gives(demo_copy, ca
     try:
         for site in estate.sites.values():
             files = estate.loads[site.folder].files
-            one = gather.HistoryReader(db, site=site.id)
+            one = gather.HistoryReader(db, scoped=True)
             try:
                 a, b = one.for_site(site, files, None), whole.for_site(site, files, None)
             finally:
@@ -214,3 +214,61 @@ def test_one_site_read_by_index_gives_what_the_whole_history_gives(demo_copy, ca
             assert a["revisions"] == b["revisions"] and a["verification"] == b["verification"]
     finally:
         whole.close()
+
+
+# -- report --all-sites, streamed ------------------------------------------------------------------
+
+def _estate_of(tmp_path, sites: int):
+    from tests.benchmark.generate import generate
+    root = tmp_path / "estate"
+    generate(root, sites, 2, seed=5)
+    return root
+
+
+def _pages(out):
+    return {p.name: p.read_text(encoding="utf-8") for p in sorted(out.iterdir())}
+
+
+def test_all_sites_over_workers_writes_what_one_process_writes(tmp_path, capsys):
+    """Pages written by worker processes as they are rendered, renamed into place in order: the
+    same pages and index as in one process, nothing staged left behind, the history's folder as
+    it was (no -wal/-shm left by a worker's connection)."""
+    from tracker.tracking.authors import Authors
+    from tracker.tracking.startup import start
+    root = _estate_of(tmp_path, 45)       # over parallel.MIN_ITEMS_FOR_WORKERS: workers are used
+    db = root / ".izwatch" / "history.sqlite"
+    h = History.open(db)
+    start(root, h, Authors(root), jobs=1)
+    h.close()
+    before = sorted(p.name for p in db.parent.iterdir())
+    got = {}
+    for jobs in ("1", "2"):
+        out = tmp_path / f"out-{jobs}"
+        code, _, err = run(capsys, "report", root, "--all-sites", "--format", "json", "--jobs", jobs, "-o", out)
+        assert code == 0, err
+        pages = _pages(out)
+        assert not [n for n in pages if n.startswith(".")]
+        index = json.loads(pages.pop("index.json"))
+        assert len(pages) == 45 and [s["report"] for s in index["sites"]] == sorted(pages)
+        assert index["verification"]["state"] == "intact"
+        got[jobs] = ({n: {k: v for k, v in json.loads(t).items() if k != "generated_at"} for n, t in pages.items()},
+                     [s for s in index["sites"]])
+    assert got["1"] == got["2"]
+    assert sorted(p.name for p in db.parent.iterdir()) == before
+
+
+def test_all_sites_keeps_the_first_of_two_sites_with_one_id(tmp_path, capsys):
+    root = _estate_of(tmp_path, 3)
+    folders = sorted(p for p in root.iterdir() if p.is_dir())
+    text = (folders[2] / "site.yaml").read_text()
+    first_id = folders[0].name
+    (folders[2] / "site.yaml").write_text(text.replace(f"id: {folders[2].name}", f"id: {first_id}", 1))
+    out = tmp_path / "out"
+    code, _, err = run(capsys, "report", root, "--all-sites", "--format", "json", "-o", out)
+    assert code == 2 and f"site id '{first_id}' is already used" in err
+    index = json.loads((out / "index.json").read_text())
+    assert sorted(p.name for p in out.iterdir()) == sorted([f"{first_id}.json", f"{folders[1].name}.json",
+                                                            "index.json"])
+    page = json.loads((out / f"{first_id}.json").read_text())
+    assert page["site"]["folder"] == folders[0].name          # the first folder's page, not overwritten
+    assert any(s["errors"] for s in index["sites"])

@@ -171,6 +171,8 @@ def _command_report(sub) -> None:
     p.add_argument("-o", "--output", required=True, metavar="FILE",
                    help="the file to write ('-': standard output); with --all-sites, a folder")
     p.add_argument("--since", metavar="DATE", help="history section: only revisions at or after DATE (YYYY-MM-DD)")
+    p.add_argument("--jobs", type=_jobs, default=0, metavar="N",
+                   help="with --all-sites: worker processes (default: one per core; 1: a single process)")
     _add_db(p, creates=False)
     p.set_defaults(func=_run("tracker.commands.report"))
 

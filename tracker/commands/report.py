@@ -16,8 +16,10 @@ from tracker.commands.common import CommandError, check_root, db_path, disk_full
 from tracker.commands.history import DATE
 from tracker.output.terminal_text import clean
 from tracker.progress import Progress
-from tracker.loading import load_estate, load_site
-from tracker.loading.estate import EstateError, inside, site_folders
+from tracker.history import history_location
+from tracker.loading import load_site
+from tracker.loading.estate import EstateError, duplicate_site_id, inside, site_folders
+from tracker.loading.discover import split_problems
 
 
 def _renderers(fmt: str):
@@ -140,47 +142,142 @@ def _one_site(root: Path, args, since, db: Path) -> int:
 
 
 def _all_sites(root: Path, args, since, db: Path) -> int:
+    """One page per site, each written as soon as it is rendered (by worker processes, site by
+    site), and the index: only the index's rows are kept, never the estate or the pages."""
+    from tracker.parallel import each_in_runs
     from tracker.report import gather
     if args.output == "-":
         raise CommandError("--all-sites writes a folder: give -o FOLDER")
     out = Path(args.output)
-    estate = load_estate(root)
-    _print_problems(estate.warnings)
-    _print_problems(estate.errors)
+    try:
+        single, folders, problems = site_folders(root)
+    except EstateError as exc:
+        raise CommandError(str(exc)) from None
+    top_errors, top_warnings = split_problems(problems)
+    _print_problems(top_warnings)
+    _print_problems(top_errors)
     protected = _Protected(root, db)
     if out.exists() and not out.is_dir():
         protected.check(out)
         raise CommandError(f"-o {out}: not a folder (--all-sites writes one file per site and an index into it)")
-    render, render_index = _renderers(args.format)
-    pages = []
-    reader = gather.HistoryReader(db)   # the history read once for every site
-    progress = Progress(len(estate.sites), "writing reports")
-    try:
-        for site in estate.sites.values():
-            doc = gather.build(site, estate.loads[site.folder].files, db, since=since,
-                               warnings=[warning for warning in estate.warnings if warning.file.startswith(site.folder)], reader=reader)
-            pages.append((doc, f"{site.id}.{args.format}", render(doc)))
-            progress.advance()
-    finally:
-        reader.close()
-        progress.close()
-    loaded_folders = {s.folder for s in estate.sites.values()}
-    failed = [(folder or root.name, loaded.errors or [e for e in estate.errors if e.file.startswith(folder)])
-              for folder, loaded in estate.loads.items() if folder not in loaded_folders]
-    index = gather.index([(doc, name) for doc, name, _ in pages], failed, str(root))
+    suffix = f".{args.format}"
+    if out.is_dir():     # a page would replace what is there: nothing protected may be there
+        for entry in sorted(out.iterdir()):
+            if entry.name.endswith(suffix):
+                protected.check(entry)
+    protected.check(out / f"index{suffix}")
     try:
         out.mkdir(exist_ok=True)
     except OSError as exc:
         raise CommandError(f"cannot make the folder {out}: {exc.strerror or exc}") from None
-    for _, name, _text in pages:
-        protected.check(out / name)
-    protected.check(out / f"index.{args.format}")
-    for _, name, text in pages:
-        _write(out / name, text)
-    _write(out / f"index.{args.format}", render_index(index))
-    print(f"{len(pages)} report{'s' if len(pages) != 1 else ''} and index.{args.format} written to {out}"
+    # The chain verified once, here; this connection is closed after every worker's, so that the
+    # last one to close (which removes SQLite's -wal/-shm companions) is always this one.
+    reader = gather.HistoryReader(db, scoped=True)
+    checked = reader.checked()
+    shared = _PageJob(root, str(db), args.format, since, protected, out, checked)
+    items = [(n, str(folder), rel) for n, (folder, rel) in enumerate(folders)]
+    rows, failed, errors, seen, verification = [], [], list(top_errors), {}, None
+    progress = Progress(len(items), "writing reports")
+    staged: list[Path] = []
+    try:
+        for result in each_in_runs(_site_page, items, shared, _jobs(args, len(items))):
+            progress.advance()
+            _print_problems(result["warnings"])
+            _print_problems(result["errors"])
+            errors += result["errors"]
+            if result["row"] is None:
+                failed.append((result["rel"] or root.name, result["errors"]))
+                continue
+            page = Path(result["staged"])
+            staged.append(page)
+            site_id, first = result["row"]["id"], result["first_file"]
+            if site_id in seen:      # site ids are unique across an estate: the first keeps its page
+                dup = duplicate_site_id(site_id, first, seen[site_id])
+                _print_problems([dup])
+                errors.append(dup)
+                failed.append((result["rel"] or root.name, [dup]))
+                page.unlink(missing_ok=True)
+                continue
+            seen[site_id] = first
+            target = out / result["row"]["report"]
+            protected.check(target)
+            try:
+                os.replace(page, target)
+            except OSError as exc:
+                raise CommandError(f"cannot write {target}: {exc.strerror or exc}") from None
+            rows.append(result["row"])
+            verification = verification or result["verification"]
+    finally:
+        progress.close()
+        _close_reader()      # the pages worked in this process
+        reader.close()
+        for page in staged:
+            if page.exists():
+                page.unlink(missing_ok=True)
+    index = gather.index_of(rows, failed, str(root), verification=verification)
+    _write(out / f"index{suffix}", _renderers(args.format)[1](index))
+    print(f"{len(rows)} report{'s' if len(rows) != 1 else ''} and index{suffix} written to {out}"
           + (f"; {len(failed)} site(s) did not load (listed in the index)" if failed else ""), file=sys.stderr)
-    return EXIT_INPUT if estate.errors else EXIT_OK
+    return EXIT_INPUT if errors else EXIT_OK
+
+
+def _jobs(args, items: int) -> int:
+    """Worker processes for --all-sites: --jobs, else one per core."""
+    return getattr(args, "jobs", 0) or os.cpu_count() or 1
+
+
+class _PageJob:
+    """What every worker of --all-sites needs, sent once (picklable)."""
+
+    def __init__(self, root: Path, db: str, fmt: str, since, protected: _Protected, out: Path, checked: dict):
+        self.root, self.db, self.fmt, self.since = root, db, fmt, since
+        self.protected, self.out, self.checked = protected, out, checked
+
+
+_READER = None   # a worker's own reader of the history (query only), opened at its first site
+
+
+def _reader(job: _PageJob):
+    global _READER
+    if _READER is None or _READER.db != history_location(job.db):
+        import multiprocessing
+        from multiprocessing.util import Finalize
+        from tracker.report import gather
+        _close_reader()
+        _READER = gather.HistoryReader(history_location(job.db), scoped=True, checked=job.checked)
+        if multiprocessing.parent_process() is not None:
+            # a worker: closed as it ends, so that SQLite removes its -wal/-shm companions
+            Finalize(None, _close_reader, exitpriority=10)
+    return _READER
+
+
+def _close_reader() -> None:
+    global _READER
+    if _READER is not None:
+        _READER.close()
+        _READER = None
+
+
+def _site_page(job: _PageJob, item) -> dict:
+    """One site folder: loaded, its report built and rendered, and written under a staging name in
+    the output folder (the parent renames it into place); what the index needs is returned."""
+    from tracker.report import gather
+    n, folder, rel = item
+    loaded = load_site(Path(folder), rel, job.root)
+    out = {"rel": rel, "warnings": loaded.warnings, "errors": loaded.errors, "row": None, "staged": None,
+           "first_file": None, "verification": None}
+    if loaded.site is None:
+        return out
+    render = _renderers(job.fmt)[0]
+    doc = gather.build(loaded.site, loaded.files, job.db, since=job.since, warnings=loaded.warnings,
+                       reader=_reader(job))
+    name = f"{loaded.site.id}.{job.fmt}"
+    staged = job.out / f".{n:06d}.{name}.part"
+    job.protected.check(staged)
+    _write(staged, render(doc))
+    out.update(row=gather.index_row(doc, name), staged=str(staged), first_file=loaded.site.files[0],
+               verification=doc["verification"])
+    return out
 
 
 def run(args) -> int:

@@ -254,13 +254,19 @@ class HistoryReader:
     every site of the estate — failure causes, acknowledgements, files' latest states, the chain's
     verification — worked out once; `for_site` adds the site's own revisions. Never writes."""
 
-    def __init__(self, db: Path, site: str | None = None):
-        """`site`: the report of that site only — its failures, acknowledgements and files are read
-        by index, so that the cost follows the site's rows and not the history's."""
+    def __init__(self, db: Path, scoped: bool = False, checked: dict | None = None):
+        """`scoped`: each site's failures, acknowledgements and files are read by index when its
+        report is built, so that the cost follows the site's rows and not the history's (else they
+        are read once for the whole history). `checked`: the chain's verification as another
+        reader of the same history found it (`checked()`), not done again."""
         self.db = history_location(db)
-        self.site = site
         self.history = None
         self.error: str | None = None
+        self.report = None
+        self.failing = self.acks = self.latest = None
+        if checked is not None and checked["error"] is not None:
+            self.error = checked["error"]
+            return
         if not location_exists(self.db):
             return
         try:
@@ -269,16 +275,21 @@ class HistoryReader:
             self.error = str(exc)
             return
         try:
-            self.report = verify_tail(self.history)
-            self.failing = query.failing_since(self.history, ref=site)
-            self.acks = query.latest_acks(self.history, ref=site)
-            self.latest = None if site else self.history.latest_by_file()
+            self.report = checked["report"] if checked is not None else verify_tail(self.history)
+            if not scoped:
+                self.failing = query.failing_since(self.history)
+                self.acks = query.latest_acks(self.history)
+                self.latest = self.history.latest_by_file()
         except HistoryError as exc:   # rows izwatch did not write: the report says so (verify names where)
             self.error = str(exc)
         except sqlite3.DatabaseError as exc:
             if not is_damage(exc):
                 raise
             self.error = damaged_read(self.db, exc)
+
+    def checked(self) -> dict:
+        """The verification found here, for readers in other processes (picklable)."""
+        return {"report": self.report, "error": self.error}
 
     def close(self) -> None:
         if self.history is not None:
@@ -304,6 +315,8 @@ class HistoryReader:
         try:
             everything = query.revisions(self.history, ref=site.id)
             latest = self.history.latest_by_file(site_files) if self.latest is None else self.latest
+            failing = query.failing_since(self.history, ref=site.id) if self.failing is None else self.failing
+            acks = query.latest_acks(self.history, ref=site.id) if self.acks is None else self.acks
         except sqlite3.DatabaseError as exc:
             if not is_damage(exc):
                 raise
@@ -321,8 +334,8 @@ class HistoryReader:
         out["revisions_of_site"] = len(everything)
         out["latest_at"] = everything[-1]["at"] if everything else None
         out["revisions"] = ([r for r in everything if r["at"] >= since] if since else everything)
-        out["failing"] = self.failing
-        out["acks"] = {ref: a for ref, a in self.acks.items() if ref.split("/")[0] == site.id}
+        out["failing"] = failing
+        out["acks"] = {ref: a for ref, a in acks.items() if ref.split("/")[0] == site.id}
         out["files"] = _file_states(site_files, {f: v for f, v in latest.items() if f in site_files})
         rep = self.report
         out["verification"].update(state="intact" if rep.ok else "broken", ok=rep.ok, revisions=rep.revisions,
@@ -335,7 +348,7 @@ class HistoryReader:
 
 def _read_history(db: Path, site: Site, site_files: dict, since: str | None) -> dict:
     """What the report of one site needs from the history, read in one go."""
-    reader = HistoryReader(db, site=site.id)
+    reader = HistoryReader(db, scoped=True)
     try:
         return reader.for_site(site, site_files, since)
     finally:
@@ -400,25 +413,35 @@ def _revision(r: dict) -> dict:
 INDEX_SCHEMA = "izwatch.report-index/1"
 
 
+def index_row(doc: dict, name: str) -> dict:
+    """A site's row of the index of `--all-sites`: its report document's summary, `name` its file."""
+    return {"id": doc["site"]["id"], "name": doc["site"]["name"], "report": name,
+            "status": doc["summary"]["status"], "circuits": doc["summary"]["circuits"],
+            "problems": doc["summary"]["problems"], "unacknowledged": doc["summary"]["unacknowledged"],
+            "last_change": doc["history"]["latest_at"], "errors": []}
+
+
 def index(docs: list[tuple[dict, str]], failed: list[tuple[str, list]], estate: str,
           now: datetime | None = None, verification: dict | None = None) -> dict:
     """The index of `--all-sites`: `docs` as (report document, its file name), `failed` as
     (site folder, input errors) for the sites that did not load."""
+    if verification is None and docs:
+        verification = docs[0][0]["verification"]
+    return index_of([index_row(doc, name) for doc, name in docs], failed, estate, now, verification)
+
+
+def index_of(rows: list[dict], failed: list[tuple[str, list]], estate: str, now: datetime | None = None,
+             verification: dict | None = None) -> dict:
+    """The index from its rows (`index_row`), kept without the documents they came from."""
     now = now or datetime.now(timezone.utc)
-    sites = []
-    for doc, name in docs:
-        sites.append({"id": doc["site"]["id"], "name": doc["site"]["name"], "report": name,
-                      "status": doc["summary"]["status"], "circuits": doc["summary"]["circuits"],
-                      "problems": doc["summary"]["problems"], "unacknowledged": doc["summary"]["unacknowledged"],
-                      "last_change": doc["history"]["latest_at"], "errors": []})
+    sites = list(rows)
     for folder, errors in failed:
         sites.append({"id": folder, "name": None, "report": None, "status": None, "circuits": None,
                       "problems": None, "unacknowledged": None, "last_change": None,
                       "errors": [e.as_json() for e in errors]})
     sites.sort(key=lambda s: s["id"])
     if verification is None:
-        verification = docs[0][0]["verification"] if docs else {
-            "state": "none", "ok": None, "revisions": None, "head_hash": None, "problem": "no site loaded",
-            "first_bad": None, "scope": VERIFY_SCOPE, "verified_in_full": None}
+        verification = {"state": "none", "ok": None, "revisions": None, "head_hash": None, "problem": "no site loaded",
+                        "first_bad": None, "scope": VERIFY_SCOPE, "verified_in_full": None}
     return {"schema": INDEX_SCHEMA, "generated_at": _iso(now), "tool": {"name": "izwatch", "version": __version__},
             "caution": CAUTION, "estate": estate, "verification": verification, "sites": sites}

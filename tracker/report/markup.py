@@ -7,6 +7,7 @@ or the history can never become markup by being forgotten somewhere.
 from __future__ import annotations
 
 import html
+from functools import lru_cache
 
 
 class Safe(str):
@@ -38,13 +39,18 @@ def cat(*parts) -> Safe:
 VOID = {"br", "hr", "img", "meta", "link", "col", "wbr"}
 
 
+@lru_cache(maxsize=None)
+def _attribute(key: str) -> str:
+    """SVG's mixed-case names (viewBox) are kept; otherwise class_ → class, data_ref → data-ref."""
+    return key if any(ch.isupper() for ch in key) else key.rstrip("_").replace("_", "-")
+
+
 def _opening(tag: str, attrs: dict) -> str:
     parts = [tag]
     for key, value in attrs.items():
         if value is None or value is False:
             continue
-        # SVG's mixed-case names (viewBox) are kept; otherwise class_ → class, data_ref → data-ref.
-        name = key if any(ch.isupper() for ch in key) else key.rstrip("_").replace("_", "-")
+        name = _attribute(key)
         parts.append(name if value is True else f'{name}="{esc(value)}"')
     return "<" + " ".join(parts)
 

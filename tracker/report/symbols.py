@@ -3,6 +3,8 @@ own colour, so the state reads the same in grey print and for readers who do not
 colours apart."""
 from __future__ import annotations
 
+from functools import lru_cache
+
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.report.markup import Safe, cat, el, svg_el
 
@@ -19,8 +21,9 @@ COLOUR = {PASS: "#1d7a46", FAIL: "#c0262d", WARN: "#e3a21a", NOT_ASSESSED: "#566
 ORDER = (FAIL, NOT_ASSESSED, WARN, PASS)
 
 
+@lru_cache(maxsize=None)
 def shape(status: str) -> Safe:
-    """The mark drawn in a 16 × 16 box."""
+    """The mark drawn in a 16 × 16 box (the same markup for every use of a state: made once)."""
     c = COLOUR[status]
     if status == PASS:
         return cat(svg_el("circle", cx=8, cy=8, r=7, fill=c),
