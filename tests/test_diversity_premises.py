@@ -55,22 +55,22 @@ class TestPremisesTables:
     def test_household(self, tmp_path):
         parts, b = _parts(_site(tmp_path, "domestic", LIGHTS + HEATERS + SOCKETS))
         assert parts["lighting"] == pytest.approx(6.6)          # 66 % of 10 A (household column)
-        assert parts["heating-power"] == pytest.approx(10 + 0.5 * 30)   # 10 A + 50 % of the rest
-        assert parts["socket-circuits"] == pytest.approx(32 + 0.4 * 52)  # largest + 40 % of every other
+        assert parts["heating-power"] == pytest.approx(25.0)   # 10 A + 50 % of the other 30 A = 25 A
+        assert parts["socket-circuits"] == pytest.approx(52.8)  # largest 32 A + 40 % of the other 52 A = 52.8 A
         assert "households" in b.check.detail and "On-Site Guide" in b.check.detail
 
     def test_small_shops_stores_offices(self, tmp_path):
         parts, b = _parts(_site(tmp_path, "shop-office", LIGHTS + HEATERS + SOCKETS))
         assert parts["lighting"] == pytest.approx(9.0)          # 90 % of total demand (shops column)
-        assert parts["heating-power"] == pytest.approx(20 + 0.75 * 20)   # 100 % X + 75 % (Y + Z)
-        assert parts["socket-circuits"] == pytest.approx(32 + 0.5 * 52)  # 100 % X + 50 % (Y + Z)
+        assert parts["heating-power"] == pytest.approx(35.0)   # 100 % X 20 A + 75 % of (Y + Z) 20 A = 35 A
+        assert parts["socket-circuits"] == pytest.approx(58.0)  # 100 % X 32 A + 50 % of (Y + Z) 52 A = 58 A
         assert "small shops, stores, offices" in b.check.detail
 
     def test_small_hotels_and_guest_houses(self, tmp_path):
         parts, b = _parts(_site(tmp_path, "hotel", LIGHTS + HEATERS + SOCKETS))
         assert parts["lighting"] == pytest.approx(7.5)          # 75 % of total demand (hotels column)
-        assert parts["heating-power"] == pytest.approx(20 + 0.8 * 10 + 0.6 * 10)   # 100 % X + 80 % Y + 60 % Z
-        assert parts["socket-circuits"] == pytest.approx(32 + 0.5 * 52)  # 100 % X + 50 % (Y + Z)
+        assert parts["heating-power"] == pytest.approx(34.0)   # 100 % X 20 A + 80 % Y 8 A + 60 % Z 6 A = 34 A
+        assert parts["socket-circuits"] == pytest.approx(58.0)  # 100 % X 32 A + 50 % of (Y + Z) 52 A = 58 A
         assert "small hotels" in b.check.detail
 
     def test_motors_count_apart_outside_households(self, tmp_path):
@@ -78,14 +78,14 @@ class TestPremisesTables:
                            curve="C") for i, a in ((1, 20), (2, 10), (3, 10))]
         (tmp_path / "a").mkdir()
         shop, _ = _parts(_site(tmp_path / "a", "shop-office", motors))
-        assert shop["motors"] == pytest.approx(20 + 0.8 * 10 + 0.6 * 10)   # shops: 100 % X + 80 % Y + 60 % Z
+        assert shop["motors"] == pytest.approx(34.0)   # shops: 100 % X 20 A + 80 % Y 8 A + 60 % Z 6 A
         (tmp_path / "b").mkdir()
         hotel, _ = _parts(_site(tmp_path / "b", "hotel", motors))
-        assert hotel["motors"] == pytest.approx(20 + 0.5 * 20)              # hotels: 100 % X + 50 % (Y + Z)
+        assert hotel["motors"] == pytest.approx(30.0)              # hotels: 100 % X 20 A + 50 % (Y + Z) 10 A
         (tmp_path / "c").mkdir()
         home, _ = _parts(_site(tmp_path / "c", "domestic", motors))
         assert "motors" not in home                                         # households: not applicable,
-        assert home["heating-power"] == pytest.approx(10 + 0.5 * 30)       # counted as heating and power
+        assert home["heating-power"] == pytest.approx(25.0)       # counted as heating and power: 10 + 50 % of 30 A
 
     def test_premises_of_no_class_count_in_full_and_a_failure_is_not_assessed(self, tmp_path):
         sr = _site(tmp_path, "other", LIGHTS + HEATERS + SOCKETS)

@@ -4,7 +4,6 @@ error shown without disturbing the list, the estate tree, help, and the keyboard
 from __future__ import annotations
 
 import io
-import time
 
 from rich.console import Console
 from textual.widgets import Static
@@ -195,18 +194,17 @@ def test_a_passing_circuit_cannot_be_acknowledged(demo_copy):
     run(go())
 
 
-def test_a_saved_edit_appears_at_the_top_within_a_second(demo_copy):
+def test_a_saved_edit_appears_at_the_top(demo_copy):
+    """How soon is the benchmark's (tests/benchmark/run.py, the UI's save to row on screen): the
+    suite holds no timed assertion."""
     async def go():
         app = make_app(demo_copy)
         async with app.run_test(size=(80, 24)) as pilot:
             await loaded(pilot)
             lst = app.screen.query_one(ProblemList)
             lst.move_to("orchard-end/CU1/1")
-            t0 = time.monotonic()
             edit(demo_copy / "quill-court-2" / "site.yaml", "power_kw: 7.5", "power_kw: 8.5")
             await until(pilot, lambda: lst.rows and lst.rows[0].ref == SHOWER, timeout=5)
-            took = time.monotonic() - t0
-            assert took < 1.0, took
             top = lst.rows[0]
             assert top.state == NEW and top.cause.text == "shower power 7.5 → 8.5 kW"
             assert lst.current.ref == "orchard-end/CU1/1"     # the cursor stayed where it was

@@ -62,8 +62,8 @@ def test_a_hundred_thousand_rows(monkeypatch):
             assert lst.move_to(many[10].ref) and lst.cursor == 10
             return filled, jumped, moved, refilled
 
-    filled, jumped, moved, refilled = run(go())
-    # generous bounds for a loaded machine: measured here 0.07 s to fill, 0.08 s to jump to the end,
-    # 0.25 s for three moves (pilot key presses take about 0.05 s each) and 0.05 s to refill
-    assert filled < 1.0 and refilled < 1.0, (filled, refilled)
-    assert jumped < 1.0 and moved < 1.5, (jumped, moved)
+    timings = run(go())
+    # How fast (measured once at 0.07 s to fill, 0.08 s to jump to the end, 0.25 s for three moves
+    # and 0.05 s to refill) is printed, not asserted: the suite holds no timed assertion (the
+    # benchmark, tests/benchmark/run.py, measures the UI).
+    print("fill, jump, moves, refill (s):", ", ".join(f"{t:.3f}" for t in timings))

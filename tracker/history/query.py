@@ -47,7 +47,25 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
     rows = db.execute(sql, args).fetchall()
     if not rows:
         return []
-    ids = [r[0] for r in rows]
+    changes, events, acks = _details(db, [r[0] for r in rows])
+    out = []
+    for rid, at, source, file, site, chash, valid, author, note, hsh, signature, signer in rows:
+        ch, ev = changes.get(rid, []), events.get(rid, [])
+        if ref:
+            ch = [c for c in ch if _matches(c["ref"], ref)]
+            ev = [e for e in ev if _matches(e["ref"], ref) or (e["transition"] == "input-error" and _matches(ref, e["ref"]))]
+        entry = {"id": rid, "at": at, "author": author, "note": note, "source": source, "file": file, "site": site,
+                 "content_hash": chash, "valid": bool(valid), "hash": hsh, "changes": ch, "events": ev}
+        if rid in acks:
+            entry["ack"] = acks[rid]
+        if signature is not None:      # the change arrived as a git commit: how it was signed
+            entry["signature"] = {"status": signature, "signer": signer}
+        out.append(entry)
+    return out
+
+
+def _details(db, ids: list[int]) -> tuple[dict, dict, dict]:
+    """(changes, events, acknowledgement) of each of the revisions `ids`, by revision id."""
     marks = ",".join("?" * len(ids))
     changes: dict[int, list] = {}
     for rid, ref_, kind, fld, old, new in db.execute(
@@ -69,20 +87,7 @@ def revisions(history: History, ref: str | None = None, since: str | None = None
         acks[rid] = {"ref": r, "checks": _load(c, rid)}
         if later is not None:
             acks[rid]["superseded_by"] = later
-    out = []
-    for rid, at, source, file, site, chash, valid, author, note, hsh, signature, signer in rows:
-        ch, ev = changes.get(rid, []), events.get(rid, [])
-        if ref:
-            ch = [c for c in ch if _matches(c["ref"], ref)]
-            ev = [e for e in ev if _matches(e["ref"], ref) or (e["transition"] == "input-error" and _matches(ref, e["ref"]))]
-        entry = {"id": rid, "at": at, "author": author, "note": note, "source": source, "file": file, "site": site,
-                 "content_hash": chash, "valid": bool(valid), "hash": hsh, "changes": ch, "events": ev}
-        if rid in acks:
-            entry["ack"] = acks[rid]
-        if signature is not None:      # the change arrived as a git commit: how it was signed
-            entry["signature"] = {"status": signature, "signer": signer}
-        out.append(entry)
-    return out
+    return changes, events, acks
 
 
 def _load(text, rid: int | None = None):
