@@ -10,7 +10,7 @@ from tracker import catalogue
 from tracker.checks import rules
 from tracker.checks.context import Facts
 from tracker.checks.registry import RCD, CheckSpec, Outcome
-from tracker.checks.result import FAIL, PASS, WARN, CheckResult
+from tracker.checks.result import FAIL, PASS, WARN, CheckResult, words
 from tracker.checks.working import figure, record
 
 ID = "rcd"
@@ -32,7 +32,12 @@ CHECK = CheckSpec(
 
 
 def run(f: Facts, done) -> Outcome:
-    return Outcome(_verdict(f), RcdWorking(rcd_ma=f.rcd_ma))
+    # The verdict; its text (the same verdict's, built again) only where it is shown.
+    return Outcome(_verdict(f)._replace(detail=""), RcdWorking(rcd_ma=f.rcd_ma), words(_text, f))
+
+
+def _text(f: Facts) -> str:
+    return _verdict(f).detail
 
 
 def _additional(f: Facts):

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 from collections.abc import Callable
+from functools import lru_cache
 from typing import NamedTuple
 
 PASS, FAIL, WARN, NOT_ASSESSED = "pass", "fail", "warn", "not-assessed"
@@ -72,7 +73,14 @@ def worst(statuses) -> str:
 
 
 def not_assessed(check_id: str, unit: str, compare: str, why: str, value=None, limit=None) -> CheckResult:
-    return CheckResult(check_id, NOT_ASSESSED, value, limit, unit, compare, f"not assessed: {why}")
+    return CheckResult(check_id, NOT_ASSESSED, value, limit, unit, compare, _reason(why))
+
+
+@lru_cache(maxsize=4096)
+def _reason(why: str) -> str:
+    """One text object for each reason: the same words on every circuit of an estate (nothing
+    measured yet, a datum missing) are held once in a state kept in memory."""
+    return f"not assessed: {why}"
 
 
 def verdict(ok: bool) -> str:
