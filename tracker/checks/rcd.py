@@ -32,12 +32,10 @@ CHECK = CheckSpec(
 
 
 def run(f: Facts, done) -> Outcome:
-    # The verdict; its text (the same verdict's, built again) only where it is shown.
-    return Outcome(_verdict(f)._replace(detail=""), RcdWorking(rcd_ma=f.rcd_ma), words(_text, f))
-
-
-def _text(f: Facts) -> str:
-    return _verdict(f).detail
+    # The verdict's text costs nothing beside it (it is built with the verdict): it is given only
+    # where text is shown, and a state kept without text does not hold it.
+    result = _verdict(f)
+    return Outcome(result._replace(detail=""), RcdWorking(rcd_ma=f.rcd_ma), words(str, result.detail))
 
 
 def _additional(f: Facts):
