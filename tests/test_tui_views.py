@@ -308,4 +308,7 @@ def test_a_patched_snapshot_is_the_fresh_one_after_every_edit(tmp_path):
         assert dict(cached.by_ref) == dict(fresh.by_ref) and dict(cached.since) == dict(fresh.since)
         assert S.visible(cached.rows, S.SHOW_FAILING) == [r for r in fresh.rows if r.status == FAIL]
         assert S.visible(cached.rows, S.SHOW_NEW) == [r for r in fresh.rows if r.state == NEW]
+        assert S.visible(cached.rows, S.SHOW_FAILING, counts=cached.counts) == S.visible(fresh.rows, S.SHOW_FAILING)
+        assert S.visible(cached.rows, S.SHOW_NEW, counts=cached.counts) == S.visible(fresh.rows, S.SHOW_NEW)
+        assert cached.sites == fresh.sites and cached.files_in_force == fresh.files_in_force
     assert fresh.counts[NEW] + fresh.counts[ACKED] > 0          # the edits made something fail

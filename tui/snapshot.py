@@ -180,8 +180,11 @@ class _Merged:
     def __init__(self, order: list[str], pieces: dict[str, _Piece]):
         self.order = order
         self.position = {sid: k for k, sid in enumerate(order)}
-        self.failing = {st: sorted((kr for sid in order for kr in pieces[sid].failing.get(st, ())), key=itemgetter(0))
-                        for st in (NEW, ACKED)}
+        # the failing rows of each state: their sort keys and the rows, in one order
+        self.failing: dict[str, tuple[list, list]] = {}
+        for st in (NEW, ACKED):
+            keyed = sorted((kr for sid in order for kr in pieces[sid].failing.get(st, ())), key=itemgetter(0))
+            self.failing[st] = ([k for k, _ in keyed], [r for _, r in keyed])
         self.others = {st: [r for sid in order for r in pieces[sid].by_state.get(st, ())]
                        for st in STATES if st not in (NEW, ACKED)}
         self.share = {st: [len(pieces[sid].by_state.get(st, ())) for sid in order] for st in self.others}
@@ -190,6 +193,8 @@ class _Merged:
         self.refs: dict[str, dict] = {}
         self.kept: dict[str, dict] = {}
         self.n_refs = self.n_kept = 0
+        self.sites: dict[str, SiteResult] | None = None      # by site id, in site order
+        self.in_force: frozenset = frozenset()
         for sid in order:
             self._add(pieces[sid])
 
@@ -207,16 +212,19 @@ class _Merged:
         """Put `new` in the place of `old` (the same site)."""
         sid = new.sr.site.id
         k = self.position[sid]
-        for st, rows in self.failing.items():
+        for st, (keys, rows) in self.failing.items():
             gone, come = old.failing.get(st, ()), new.failing.get(st, ())
             if not gone and not come:
                 continue
-            rows = list(rows)                       # the last snapshot keeps its own list
+            keys, rows = list(keys), list(rows)      # the last snapshot keeps its own lists
             for key, _row in gone:
-                del rows[bisect_left(rows, (key,))]
-            for kr in come:
-                rows.insert(bisect_left(rows, (kr[0],)), kr)
-            self.failing[st] = rows
+                i = bisect_left(keys, key)
+                del keys[i], rows[i]
+            for key, row in come:
+                i = bisect_left(keys, key)
+                keys.insert(i, key)
+                rows.insert(i, row)
+            self.failing[st] = (keys, rows)
         for st, rows in self.others.items():
             share = self.share[st]
             came = new.by_state.get(st, [])
@@ -232,7 +240,7 @@ class _Merged:
         out: list[Row] = []
         for st in STATES:
             if st in self.failing:
-                out.extend(r for _, r in self.failing[st])
+                out.extend(self.failing[st][1])
             else:
                 out.extend(self.others[st])
         return tuple(out)
@@ -369,16 +377,26 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
         for old, new in replaced:
             merged.patch(old, new)
     rows = merged.rows()
+    if merged.sites is None:
+        merged.sites = {sr.site.id: sr for sr in results}
+        merged.in_force = frozenset(f for sr in results for f in sr.site.files)
+    elif replaced:
+        merged.sites = dict(merged.sites)           # the last snapshot keeps its own
+        moved = False
+        for old, new in replaced:
+            merged.sites[new.sr.site.id] = new.sr
+            moved |= old.sr.site.files != new.sr.site.files
+        if moved:
+            merged.in_force = frozenset(f for sr in results for f in sr.site.files)
     by_ref = _BySite(dict(merged.refs), merged.n_refs, _site_of_ref)
     kept_since = _BySite(dict(merged.kept), merged.n_kept, _site_of_key)
     counts, n_circuits = dict(merged.counts), merged.circuits
     # By file; within a file in the loader's order (its own errors before what they cause).
     errors = tuple(e for rel in sorted(state.errors) for e in state.errors[rel])
-    in_force = frozenset(f for sr in results for f in sr.site.files)
     head, _ = history.head()
     warnings = tuple(sort_problems([warning for files in state.good.values() for f in files.values() for warning in f.warnings]))
-    return Snapshot(tuple(rows), by_ref, {sr.site.id: sr for sr in results}, errors, counts,
-                    n_circuits, history.count(), head, kept_since, first_record, in_force, warnings)
+    return Snapshot(rows, by_ref, merged.sites, errors, counts,
+                    n_circuits, history.count(), head, kept_since, first_record, merged.in_force, warnings)
 
 
 # -- the list's filters -------------------------------------------------------------------
@@ -386,15 +404,16 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
 SHOW_NEW, SHOW_FAILING, SHOW_ALL = "new", "failing", "all"
 
 
-def visible(rows, which: str, needle: str = "") -> list[Row]:
+def visible(rows, which: str, needle: str = "", counts: dict[str, int] | None = None) -> list[Row]:
     """The rows a filter and a search leave, in list order. `rows` are a snapshot's, in its
     order: the failing ones (newly broken, then acknowledged) lead, so the failing filters read
-    only the rows they keep and the one after."""
+    only the rows they keep and the one after; with the snapshot's `counts`, not even those."""
     needle = needle.strip().lower()
     if which == SHOW_NEW:
-        out = list(takewhile(lambda r: r.state == NEW, rows))
+        out = list(rows[:counts[NEW]]) if counts is not None else list(takewhile(lambda r: r.state == NEW, rows))
     elif which == SHOW_FAILING:
-        out = list(takewhile(lambda r: r.status == FAIL, rows))
+        out = (list(rows[:counts[NEW] + counts[ACKED]]) if counts is not None
+               else list(takewhile(lambda r: r.status == FAIL, rows)))
     else:
         out = list(rows)
     if needle:

@@ -109,7 +109,7 @@ class OverviewScreen(Screen):
         lst = self.problem_list
         keep = lst.current.ref if lst.current and not self._hold_position else None
         self._hold_position = False
-        rows = visible(self.snapshot.rows, self.which, self.needle)
+        rows = visible(self.snapshot.rows, self.which, self.needle, self.snapshot.counts)
         lst.set_rows(rows, keep=keep, empty_text=self._empty_text())
 
     def current_row(self) -> Row | None:
