@@ -49,7 +49,12 @@ class _JsonOut:
         if self.json_out is None:
             from tracker.output import json_out
             self.json_out = json_out
-        out.text = ", ".join(self._dump(self.json_out.circuit_entry(result, r)) for r in result.circuits.values())
+        entries = [self.json_out.circuit_entry(result, r) for r in result.circuits.values()]
+        if self.pretty:
+            out.text = ", ".join(self._dump(e) for e in entries)
+        else:
+            # one dump per site: a list's items come out joined by ", ", as the document joins them
+            out.text = json.dumps(entries, ensure_ascii=False)[1:-1]
         out.boards = [self.json_out.board_entry(b, result) for b in result.boards.values()]
         out.supply = self.json_out.supply_entry(result)
 
