@@ -179,6 +179,7 @@ class _Merged:
 
     def __init__(self, order: list[str], pieces: dict[str, _Piece]):
         self.order = order
+        self.pieces = [pieces[sid] for sid in order]          # each site's piece, in site order
         self.position = {sid: k for k, sid in enumerate(order)}
         # the failing rows of each state: their sort keys and the rows, in one order
         self.failing: dict[str, tuple[list, list]] = {}
@@ -233,6 +234,7 @@ class _Merged:
             start = sum(share[:k])
             self.others[st] = rows[:start] + came + rows[start + share[k]:]
             share[k] = len(came)
+        self.pieces[k] = new
         self._add(old, -1)
         self._add(new)
 
@@ -259,6 +261,9 @@ class RowCache:
         self._seen = 0                                   # the newest revision folded in
         self._versions: dict[str, int] = {}              # site id -> how often its history moved
         self._merged: _Merged | None = None
+        self._moved: set[str] = set()                    # sites whose history moved since the last snapshot
+        self._raw_ids: list[str] | None = None           # the state's sites, in its order, at the last snapshot
+        self._by_id_order: list[int] = []                # their places, in site id order
 
     def fold(self, history: History) -> None:
         head, _ = history.head()
@@ -268,6 +273,7 @@ class RowCache:
             for ref in refs_touched(history, self._seen, head):
                 site = ref.split("/", 1)[0]
                 self._versions[site] = self._versions.get(site, 0) + 1
+                self._moved.add(site)
         failing_since(history, self._since, self._seen, head)
         latest_acks(history, self._acks, self._seen, head)
         self._seen = head
@@ -360,20 +366,29 @@ def build(state: EstateState, history: History, cache: RowCache | None = None,
     """
     cache = cache or RowCache()
     cache.fold(history)
-    results = sorted(state.site_results(), key=lambda sr: sr.site.id)
-    cache.keep_only(sr.site.id for sr in results)
+    raw = state.site_results()
+    raw_ids = [sr.site.id for sr in raw]
+    same_sites = raw_ids == cache._raw_ids
+    if not same_sites:                                 # sites came, went or were renamed: sort again
+        cache._by_id_order = sorted(range(len(raw)), key=raw_ids.__getitem__)
+        cache._raw_ids = raw_ids
+        cache.keep_only(raw_ids)
+    results = [raw[i] for i in cache._by_id_order]
     pieces = cache._pieces
-    dirty = []
-    for sr in results:
-        piece = pieces.get(sr.site.id)
-        if piece is None or piece.sr is not sr or piece.version != cache._versions.get(sr.site.id, 0):
-            dirty.append(sr)
-    replaced = _pieces_for(dirty, cache, history) if dirty else []
-    order = [sr.site.id for sr in results]
     merged = cache._merged
-    if merged is None or merged.order != order or any(old is None for old, _ in replaced):
-        merged = cache._merged = _Merged(order, pieces)     # the first snapshot, or sites came or went
+    moved, cache._moved = cache._moved, set()
+    if merged is None or not same_sites:
+        dirty = [sr for sr in results if (p := pieces.get(sr.site.id)) is None or p.sr is not sr
+                 or p.version != cache._versions.get(sr.site.id, 0)]
+        if dirty:
+            _pieces_for(dirty, cache, history)
+        merged = cache._merged = _Merged([sr.site.id for sr in results], pieces)
+        replaced = []
     else:
+        # the same sites in the same order: the merged list's pieces beside the results; a result
+        # not the one its rows were built from, or a site whose history moved, is rebuilt and patched in
+        dirty = [sr for sr, p in zip(results, merged.pieces) if p.sr is not sr or sr.site.id in moved]
+        replaced = _pieces_for(dirty, cache, history) if dirty else []
         for old, new in replaced:
             merged.patch(old, new)
     rows = merged.rows()
