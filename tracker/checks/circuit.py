@@ -97,6 +97,20 @@ def evaluate(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None = N
     return result, f
 
 
+def any_result(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None, stop) -> bool:
+    """Whether `stop(check_result)` holds for any check of the circuit, as `evaluate(circuit, ctx,
+    fed_demand_a, explain=False)` would give them: the checks run in the same order on the same
+    facts, and the run ends at the first that stops it (for a search that only needs to know a
+    candidate is out)."""
+    f = build_facts(circuit, ctx, fed_demand_a, False, None, None)
+    done: dict[str, Outcome] = {}
+    for spec in registry.plan(circuit).run:
+        out = done[spec.id] = spec.run(f, done)
+        if stop(out.result):
+            return True
+    return False
+
+
 def _record(done: dict[str, Outcome], check_id: str):
     found = done.get(check_id)
     return found.record if found is not None else None

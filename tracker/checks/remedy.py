@@ -266,6 +266,12 @@ def _fixable_here(result: CircuitResult, failing: set[str]) -> bool:
 def _passes(cand, result: CircuitResult, unknown: set[str]):
     """The candidate's result where it passes every check and leaves nothing unassessed that was
     assessed before; else None."""
+    def out(r) -> bool:      # what rules a candidate out below, known from one check alone
+        return (r.status == FAIL and _sized(r.id)) or (r.status == NOT_ASSESSED and r.id not in READING_CHECKS
+                                                        and r.id not in unknown)
+
+    if circuit_checks.any_result(cand, result.ctx, result.fed_demand_a, out):
+        return None          # most candidates end here, at their first such check
     trial, _ = circuit_checks.evaluate(cand, result.ctx, result.fed_demand_a, explain=False)
     if _failing(trial) or not _with(trial, NOT_ASSESSED) <= unknown:
         return None
