@@ -102,7 +102,7 @@ def any_result(circuit: Circuit, ctx: BoardContext, fed_demand_a: float | None, 
     fed_demand_a, explain=False)` would give them: the checks run in the same order on the same
     facts, and the run ends at the first that stops it (for a search that only needs to know a
     candidate is out)."""
-    f = build_facts(circuit, ctx, fed_demand_a, False, None, None)
+    f = build_facts(circuit, ctx, fed_demand_a, None, None)
     done: dict[str, Outcome] = {}
     for spec in registry.plan(circuit).run:
         out = done[spec.id] = spec.run(f, done)
