@@ -42,7 +42,7 @@ def run(f: Facts, done) -> Outcome:
     rec = FaultLoopWorking(zs_ohm=f.zs_ohm, r1_r2_ohm=f.loop_ohm, t_required_s=f.t_req_s, max_zs_ohm=limit)
     # The verdict without the working of Zs; its text, the same verdict with it, when shown.
     result = _verdict(f, "", limit, limit_how)
-    return Outcome(result._replace(detail=""), rec, words(_text, f, limit, limit_how))
+    return Outcome(result.with_detail(""), rec, words(_text, f, limit, limit_how))
 
 
 def _text(f: Facts, limit: float | None, limit_how: str) -> str:

@@ -35,7 +35,7 @@ def run(f: Facts, done) -> Outcome:
     # The verdict's text costs nothing beside it (it is built with the verdict): it is given only
     # where text is shown, and a state kept without text does not hold it.
     result = _verdict(f)
-    return Outcome(result._replace(detail=""), RcdWorking(rcd_ma=f.rcd_ma), words(str, result.detail))
+    return Outcome(result.with_detail(""), RcdWorking(rcd_ma=f.rcd_ma), words(str, result.detail))
 
 
 def _additional(f: Facts):

@@ -47,7 +47,7 @@ class Outcome(NamedTuple):
 
     def worded(self) -> CheckResult:
         """The verdict with its text."""
-        return self.result if self.words is None else self.result._replace(detail=self.words.text())
+        return self.result if self.words is None else self.result.with_detail(self.words.text())
 
 
 def _nothing(circuit: Circuit) -> tuple[str, ...]:

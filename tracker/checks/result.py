@@ -27,6 +27,11 @@ class CheckResult(NamedTuple):
     # holds (the engine's own figure, from which headroom is derived). None: independent of Ib.
     ib_limit_a: float | None = None
 
+    def with_detail(self, detail: str) -> CheckResult:
+        """The same verdict with `detail` as its text (as `_replace`, without its cost: a whole
+        estate's verdicts pass through here)."""
+        return tuple.__new__(CheckResult, (*self[:6], detail, self[7]))
+
     def margin(self) -> float | None:
         """How far inside the limit (negative: how far over), in the check's unit."""
         if self.value is None or self.limit is None:
