@@ -47,6 +47,7 @@ from tracker.history import History
 from tracker.history.store import Recorded
 from tracker.loading.discover import STATE_DIR, EstateError, site_folders, split_problems
 from tracker.output.terminal_text import clean
+from tracker.tracking import warm
 from tracker.tracking.authors import Authors
 from tracker.tracking.datepassed import DatePassed, record_date
 from tracker.tracking.outcome import FileOutcome, to_revisions
@@ -149,14 +150,29 @@ class Watcher:
         # large estate a full collection over it would take seconds and stall every edit.
         gc.disable()
         try:
-            self.state, done = start(self.root, self.history, self.authors, progress=progress, today=self.today)
+            briefs = warm.load(self._warm_path)
+            self.state, done = start(self.root, self.history, self.authors, progress=progress, today=self.today,
+                                     briefs=briefs)
             first = self._stat_all()
         finally:
             gc.freeze()
             gc.enable()
+        self._save_briefs(briefs)
         self._scanner = threading.Thread(target=self._safety_scans, args=(first,), name="izwatch-scan", daemon=True)
         self._scanner.start()
         return [Update(o, r, "startup") for o, r in done]
+
+    @property
+    def _warm_path(self):
+        return warm.record_path(getattr(self.history, "path", None))
+
+    def _save_briefs(self, before: dict | None = None) -> None:
+        """Keep each clean folder's brief for the next start (tracker.tracking.warm)."""
+        if self.state is None:
+            return
+        now = self.state.briefs()
+        if now != before:
+            warm.save(self._warm_path, now)
 
     def _safety_scans(self, previous: dict) -> None:
         """Every minute: files whose size, time or inode changed since the last scan, or that came
@@ -184,6 +200,10 @@ class Watcher:
             self._observer.join(timeout=5)
         if self._scanner is not None:
             self._scanner.join(timeout=5)
+        try:
+            self._save_briefs()
+        except Exception:  # noqa: BLE001 - the briefs only make the next start faster
+            pass
         # detached last: watchdog's own notes while stopping are not an overflow, nor for stderr
         for name in ("watchdog.observers.inotify_c", "watchdog.observers.inotify"):
             logging.getLogger(name).removeHandler(self._listener)

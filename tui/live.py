@@ -7,6 +7,7 @@ after an acknowledgement) are flags the loop reads between waits, so the UI neve
 """
 from __future__ import annotations
 
+import os
 import threading
 import time
 from collections.abc import Callable
@@ -119,6 +120,8 @@ class LiveEstate:
         def start() -> None:
             try:
                 box["updates"] = watcher.start(progress)
+                # the UI shows every circuit: sites taken from their briefs are read through now
+                watcher.state.wake_all(os.cpu_count() or 1)
             except BaseException as exc:  # noqa: BLE001 - handed back to the loop below
                 box["error"] = exc
 

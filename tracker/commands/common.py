@@ -85,7 +85,7 @@ def warning_lines(outcome, recorded, as_json: bool) -> list[str]:
 def state_warnings(state) -> list:
     """Every warning of the files as the state holds them (those `check` gives), sorted."""
     from tracker.loading.errors import sort_problems
-    return sort_problems([warning for files in state.good.values() for result in files.values() for warning in result.warnings])
+    return sort_problems(state.warnings())
 
 
 def loads_again_line(outcome, recorded, as_json: bool) -> str:

@@ -65,14 +65,12 @@ def run(args) -> int:
         emit_updates(updates, args.json, args.verbose)
         emit_dates(watcher.date_passed(), args.json)    # overdue since the history last looked
         state = watcher.state
-        n_sites = len([s for s in state.sites.values() if s.site is not None])
-        n_circuits = sum(len(s.site.circuits) for s in state.sites.values() if s.site is not None)
+        n_sites, n_circuits, failing = state.counts()
         for _, errs in sorted(state.errors.items()):
             for e in errs:
                 print(clean(e), file=sys.stderr)
         for warning in state_warnings(state):       # what `check` would warn of, as `check` writes it
             print(clean(warning), file=sys.stderr)
-        failing = sum(1 for sr in state.site_results() for r in sr.circuits.values() if r.status == "fail")
         first = bool(updates) and all(u.outcome.first_record for u in updates)
         if args.json:
             _print(json.dumps({"event": "ready", "sites": n_sites, "circuits": n_circuits,

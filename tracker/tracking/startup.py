@@ -20,7 +20,8 @@ from tracker.events import input_error_event
 from tracker.inspection.events import deadline_events
 from tracker.tracking.outcome import FileOutcome, to_revision, to_revisions
 from tracker.parallel import available_cores
-from tracker.tracking.state import EstateState, seed_in_parallel
+from tracker.tracking.state import EstateState, seed_folder, seed_in_parallel
+from tracker.tracking.warm import SiteBrief
 from tracker.tracking.transitions import compare
 
 
@@ -49,17 +50,26 @@ def _first_record(state: EstateState, contents: dict[str, bytes]):
 
 
 def start(root: Path, history: History, authors: Authors, folders: set[str] | None = None,
-          jobs: int | None = None, progress=None, today=None) -> tuple[EstateState, list[tuple]]:
+          jobs: int | None = None, progress=None, today=None,
+          briefs: dict[str, SiteBrief] | None = None) -> tuple[EstateState, list[tuple]]:
     """(state, [(outcome, recorded)]) with every difference between disk and history recorded.
 
     `folders` limits the work to some site folders (a `replace` or `ack` needs only its site);
     `jobs` worker processes seed the folders (default: one per core; 1: in this process);
     `progress` (a tracker.progress.Progress, or None) is advanced once per site folder;
-    `today` (a function giving a date; default the local date) is the day deadlines are judged on.
+    `today` (a function giving a date; default the local date) is the day deadlines are judged on;
+    `briefs` (tracker.tracking.warm.load): a folder whose files are all as its brief and the
+    history's latest revisions say is taken from its brief, unread until first needed.
     """
     state = EstateState(root)
     if today is not None:
         state.today = today
+
+    def recorded_content(rel: str, digest: str) -> bytes | None:
+        raw = _read(state.root / rel)
+        return raw if raw is not None and sha256_hex(raw) == digest else history.blob(digest)
+
+    state.recorded_content = recorded_content
     recorded = history.latest_by_file()
     if folders is not None:
         recorded = {f: v for f, v in recorded.items() if state.folder_of(f) in folders}
@@ -76,7 +86,7 @@ def start(root: Path, history: History, authors: Authors, folders: set[str] | No
     if not recorded:
         done = _record_first(state, disk, history, authors, jobs, progress)
     else:
-        done = _catch_up(state, disk, recorded, history, authors, jobs, progress, odd)
+        done = _catch_up(state, disk, recorded, history, authors, jobs, progress, odd, briefs or {})
     for rel in sorted(odd):
         latest = recorded.get(rel)
         if latest is not None and latest[1] is None and not latest[2]:
@@ -149,12 +159,34 @@ def _record_first(state: EstateState, disk: dict[str, Path], history: History, a
     return list(zip(outcomes, recorded))
 
 
+def _as_briefed(folder: str, rels: set[str], disk: dict[str, Path], recorded: dict,
+                brief: SiteBrief | None) -> bool:
+    """Whether every file of the folder, on disk and in the history, has the content its brief
+    names, each file's latest revision loaded, and no file came or went."""
+    if brief is None:
+        return False
+    files = brief.files()
+    if set(files) != rels:
+        return False
+    for rel, digest in files.items():
+        rec = recorded.get(rel)
+        if rec is None or rec[1] != digest or not rec[2] or rel not in disk:
+            return False
+        raw = _read(disk[rel])
+        if raw is None or sha256_hex(raw) != digest:
+            return False
+    return True
+
+
 def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history: History, authors: Authors,
-              jobs: int, progress, odd: set[str] = frozenset()) -> list[tuple]:
-    """A history with revisions: every folder seeded from disk; those that differ from the
-    history are set to their recorded state and brought up to date file by file. A file of
-    `odd` (its name holds no regular file, or it cannot be read) stands at its last good
-    content: it is neither a change nor a deletion (its input error is recorded after)."""
+              jobs: int, progress, odd: set[str] = frozenset(),
+              briefs: dict[str, SiteBrief] | None = None) -> list[tuple]:
+    """A history with revisions: every folder seeded from disk (or taken from its brief where
+    nothing changed); those that differ from the history are set to their recorded state and
+    brought up to date file by file. A file of `odd` (its name holds no regular file, or it
+    cannot be read) stands at its last good content: it is neither a change nor a deletion (its
+    input error is recorded after)."""
+    briefs = briefs or {}
     stand_in = {rel: raw for rel in sorted(odd) if rel in recorded
                 and (raw := history.latest_good_content(rel)) is not None}
     on_disk = _by_folder(state, disk)
@@ -166,9 +198,25 @@ def _catch_up(state: EstateState, disk: dict[str, Path], recorded: dict, history
     redo: list[str] = []
     if progress is not None:
         progress.total = len(on_disk)
+    briefed = {f for f, rels in on_disk.items()
+               if _as_briefed(f, set(rels) | known.get(f, set()), disk, recorded, briefs.get(f))}
+    seeded = seed_in_parallel(state, {f: rels for f, rels in on_disk.items() if f not in briefed}, jobs)
+
+    def seeds():
+        # every folder in order (a site id two folders claim goes to the first, as before)
+        for folder in sorted(on_disk):
+            if folder not in briefed:
+                yield next(seeded)
+            elif state.adopt_brief(folder, briefs[folder]):
+                if progress is not None:
+                    progress.advance()
+            else:   # its site id is taken: read as any other folder (which reports it)
+                yield seed_folder(folder, state.folder_name(folder),
+                                  {rel: raw for rel in on_disk[folder] if (raw := _read(disk[rel])) is not None})
+
     # Seed every folder from disk (in worker processes for a large estate); a folder whose files
     # all match the history is taken as it is — the common case, as fast as a plain check.
-    for seed in seed_in_parallel(state, on_disk, jobs):
+    for seed in seeds():
         rels = set(on_disk[seed.folder]) | known.get(seed.folder, set())
         # (a file whose latest revision did not load, and that loads now, is a change to record:
         # the state it is part of was never recorded)

@@ -17,6 +17,7 @@ from pathlib import Path, PurePosixPath
 import networkx as nx
 
 from tracker import graph
+from tracker.checks.result import FAIL
 from tracker.checks.site import SiteResult, evaluate_site, explain_circuit
 from tracker.loading.discover import is_site_folder, not_a_file, read_regular, site_files
 from tracker.loading.errors import InputError
@@ -29,17 +30,55 @@ from tracker.tracking import impact
 from tracker.tracking.diff import ADDED, REMOVED, Change, diff_file, elements
 from tracker.events import input_error_event
 from tracker.tracking.outcome import FileOutcome
+from tracker.tracking.warm import SiteBrief
 from tracker.tracking.warnings import note_warnings
 from tracker.tracking.transitions import compare
 
 __all__ = ["EstateState", "FileOutcome", "FolderSeed", "SiteState", "seed_folder", "seed_in_parallel"]
 
 
-@dataclass
 class SiteState:
-    folder: str
-    site: Site | None = None
-    result: SiteResult | None = None
+    """One site folder's site and results. A folder taken at a start from its brief
+    (tracker.tracking.warm) holds only the brief until something needs its site or results: it
+    is then read through from the content the brief names (`wake`)."""
+
+    __slots__ = ("folder", "_site", "_result", "brief", "_wake")
+
+    def __init__(self, folder: str, site: Site | None = None, result: SiteResult | None = None,
+                 brief: SiteBrief | None = None, wake: Callable[["SiteState"], None] | None = None):
+        self.folder, self._site, self._result, self.brief, self._wake = folder, site, result, brief, wake
+
+    @property
+    def site(self) -> Site | None:
+        if self.brief is not None:
+            self._wake(self)
+        return self._site
+
+    @site.setter
+    def site(self, value: Site | None) -> None:
+        self._site = value
+
+    @property
+    def result(self) -> SiteResult | None:
+        if self.brief is not None:
+            self._wake(self)
+        return self._result
+
+    @result.setter
+    def result(self, value: SiteResult | None) -> None:
+        self._result = value
+
+    @property
+    def site_id(self) -> str | None:
+        """The site's id, without reading a site held as a brief."""
+        if self.brief is not None:
+            return self.brief.site_id
+        return self._site.id if self._site is not None else None
+
+    @property
+    def asleep(self) -> bool:
+        """Held as a brief only (nothing read yet)."""
+        return self.brief is not None
 
 
 @dataclass
@@ -135,6 +174,9 @@ class EstateState:
         self.by_id: dict[str, str] = {}              # site id -> folder
         self._id_of: dict[str, str] = {}             # folder -> site id
         self.today = datetime.date.today              # the day deadlines are judged on (tests set it)
+        # (file, sha256) -> that content, for reading a site held as a brief (startup sets it:
+        # the file on disk where it still has that content, else the history's copy)
+        self.recorded_content: Callable[[str, str], bytes | None] | None = None
 
     # -- where files belong ----------------------------------------------------------------
 
@@ -154,7 +196,97 @@ class EstateState:
         return self.root.resolve().name if folder == "" else folder
 
     def site_results(self) -> list[SiteResult]:
+        """Every site's results (a site held as a brief is read through first)."""
         return [s.result for s in self.sites.values() if s.result is not None]
+
+    def counts(self) -> tuple[int, int, int]:
+        """(sites, circuits, failing circuits) of the sites that load, without reading a site
+        held as a brief."""
+        sites = circuits = failing = 0
+        for s in self.sites.values():
+            if s.brief is not None:
+                sites, circuits, failing = sites + 1, circuits + s.brief.circuits, failing + s.brief.failing
+            elif s.site is not None:
+                sites, circuits = sites + 1, circuits + len(s.site.circuits)
+                if s.result is not None:
+                    failing += sum(1 for r in s.result.circuits.values() if r.status == FAIL)
+        return sites, circuits, failing
+
+    def warnings(self) -> list:
+        """Every warning of the files as the state holds them (LoadWarning), unsorted."""
+        out = [w for files in self.good.values() for f in files.values() for w in f.warnings]
+        for s in self.sites.values():
+            if s.brief is not None:
+                out.extend(s.brief.warnings)
+        return out
+
+    # -- sites held as briefs ----------------------------------------------------------------
+
+    def adopt_brief(self, folder: str, brief: SiteBrief) -> bool:
+        """Take a clean folder from its brief (tracker.tracking.warm) without reading it; False
+        (nothing taken) where another folder already holds its site id."""
+        if self._id_taken(brief.site_id, folder):
+            return False
+        self.hashes.update(brief.hashes)
+        self.good.pop(folder, None)
+        self._place(SiteState(folder, brief=brief, wake=self._wake))
+        return True
+
+    def _wake(self, site_state: SiteState) -> None:
+        """Read a site held as a brief through, from the content its brief names."""
+        contents = {}
+        for rel, digest in site_state.brief.hashes:
+            raw = self.recorded_content(rel, digest) if self.recorded_content is not None else None
+            if raw is None or sha256_hex(raw) != digest:
+                raise RuntimeError(f"the content of {rel} last checked ({digest[:12]}) is neither on disk "
+                                   "nor in the history")
+            contents[rel] = raw
+        self._awake(site_state, seed_folder(site_state.folder, self.folder_name(site_state.folder), contents))
+
+    def _awake(self, site_state: SiteState, seed: FolderSeed) -> None:
+        brief = site_state.brief
+        if seed.site is None or seed.errors or seed.site.id != brief.site_id or seed.hashes != brief.files():
+            raise RuntimeError(f"site folder {site_state.folder!r} no longer reads as its brief says")
+        site_state.brief = None
+        self.good[site_state.folder] = seed.good
+        site_state.site, site_state.result = seed.site, seed.result
+        graph.add_site(self.graph, seed.site)
+
+    def wake_all(self, jobs: int = 1) -> None:
+        """Read every site held as a brief through (in worker processes for many): for a reader
+        of every site's results (the terminal UI)."""
+        asleep = {s.folder: s for s in self.sites.values() if s.brief is not None}
+        if not asleep:
+            return
+        folders = {f: [rel for rel, _ in s.brief.hashes] for f, s in asleep.items()}
+        for seed in seed_in_parallel(self, folders, jobs):
+            site_state = asleep[seed.folder]
+            if seed.hashes == site_state.brief.files():
+                self._awake(site_state, seed)
+            else:   # changed on disk since: from the content the brief names
+                self._wake(site_state)
+
+    def briefs(self) -> dict[str, SiteBrief]:
+        """folder -> brief of every folder whose files all load and whose site stands."""
+        errors = {self.folder_of(rel) for rel in self.errors}
+        files: dict[str, set[str]] = {}
+        for rel in self.hashes:
+            files.setdefault(self.folder_of(rel), set()).add(rel)
+        out = {}
+        for folder, s in self.sites.items():
+            if s.brief is not None:
+                out[folder] = s.brief
+                continue
+            good = self.good.get(folder)
+            site, result = s.site, s.result
+            if (folder in errors or site is None or result is None or not good or set(good) != files.get(folder)
+                    or any(self.hashes.get(rel) != r.sha256 for rel, r in good.items())):
+                continue
+            out[folder] = SiteBrief(site.id, tuple((rel, good[rel].sha256) for rel in sorted(good)),
+                                    len(site.circuits),
+                                    sum(1 for r in result.circuits.values() if r.status == FAIL),
+                                    tuple(w for rel in sorted(good) for w in good[rel].warnings))
+        return out
 
     def site_by_id(self, site_id: str) -> SiteState | None:
         folder = self.by_id.get(site_id)
@@ -185,7 +317,7 @@ class EstateState:
         folder = site_state.folder
         self.sites[folder] = site_state
         old = self._id_of.get(folder)
-        new = site_state.site.id if site_state.site is not None else None
+        new = site_state.site_id
         if old is not None and old != new and self.by_id.get(old) == folder:
             del self.by_id[old]
         if new is not None:
@@ -323,6 +455,9 @@ class EstateState:
         digest = sha256_hex(raw) if raw is not None else None
         if self.hashes.get(rel) == digest:
             return None
+        asleep = self.sites.get(folder)
+        if asleep is not None and asleep.brief is not None:
+            self._wake(asleep)
         result = read_content(raw, rel, digest) if raw is not None else None
         if result is not None and result.errors and read_again is not None:
             later = read_again()
