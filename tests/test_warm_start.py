@@ -3,6 +3,7 @@ brief says (tracker.tracking.warm) is taken from the brief, unread until first n
 it gives is what reading it through gives; anything else is read as before."""
 from __future__ import annotations
 
+import datetime
 import json
 import shutil
 
@@ -178,6 +179,57 @@ def test_every_site_read_through_at_once_gives_a_fresh_evaluation(demo_copy):
         w.state.wake_all(jobs=1)
         assert not any(s.asleep for s in w.state.sites.values())
         assert snapshot(w.state) == snapshot(cold_state(demo_copy))
+    finally:
+        w.stop()
+        h.close()
+
+
+def _items(items):
+    return sorted((i.ref, i.what, i.due, i.source, i.duty, i.about, i.done_on, i.status) for i in items)
+
+
+def test_a_brief_tells_the_deadlines_overdue_on_each_day_as_the_site_read_through_does(demo_copy):
+    from tracker.inspection.events import overdue_items
+    from tests.test_date_passed import INSPECTION, RENTED
+    (demo_copy / "flat-1").mkdir()
+    (demo_copy / "flat-1" / "site.yaml").write_text(RENTED + INSPECTION, encoding="utf-8")
+    cold = cold_state(demo_copy)
+    record = demo_copy / "briefs.json"
+    told = 0
+    for made in (datetime.date(2025, 6, 1), datetime.date(2026, 3, 12), datetime.date(2026, 4, 7)):
+        cold.today = lambda made=made: made
+        warm.save(record, cold.briefs())
+        briefs = warm.load(record)         # (through the file: what a start reads)
+        assert set(briefs) == set(cold.sites)
+        for folder, s in cold.sites.items():
+            b = briefs[folder]
+            for n in range(-3, 2400, 3):
+                day = made + datetime.timedelta(days=n)
+                got = b.overdue_on(day)
+                if got is None:
+                    assert day < made or (b.due_until is not None and day >= b.due_until)
+                    continue
+                told += 1
+                assert _items(got) == _items(overdue_items(s.site, day, s.result.notification)), (folder, day)
+    assert told > 1000
+
+
+def test_a_deadline_the_date_passes_is_recorded_without_reading_the_site(site_factory):
+    from tests.test_date_passed import EVE, FIRST_LATE, INSPECTION, RENTED, Clock, _date_events, _watcher
+    root = site_factory(RENTED + INSPECTION)
+    clock = Clock(EVE)
+    w, h = _watcher(root, clock)
+    w.stop()
+    h.close()
+    clock.day = FIRST_LATE
+    w, h = _watcher(root, clock)
+    try:
+        assert all(s.asleep for s in w.state.sites.values())
+        passed = w.date_passed()
+        assert [(e["ref"], e["transition"], e["due"]) for p in passed for e in p.events] == [
+            ("flat-1/CU1/1", "newly-failing", "2026-04-07")]   # SI 2020/312 reg. 3(4)(a): 28 days from 2026-03-11
+        assert all(s.asleep for s in w.state.sites.values())
+        assert _date_events(h)[-1][3:] == ("flat-1/CU1/1", "newly-failing")
     finally:
         w.stop()
         h.close()

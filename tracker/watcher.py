@@ -366,9 +366,16 @@ class Watcher:
         day = self.today()
         if day == self._day or self.state is None:
             return []
-        sites = [(s.site, s.result.notification if s.result is not None else None)
-                 for s in self.state.sites.values() if s.site is not None]
-        passed = record_date(sites, self.history, day)
+        sites, overdue = [], {}
+        for s in list(self.state.sites.values()):
+            if s.brief is not None:      # a site not read: its brief knows its deadlines, unless too old
+                items = s.brief.overdue_on(day)
+                if items is not None:
+                    overdue[s.brief.site_id] = items
+                    continue
+            if s.site is not None:
+                sites.append((s.site, s.result.notification if s.result is not None else None))
+        passed = record_date(sites, self.history, day, overdue)
         self._day = day      # after the record: a write that failed is tried again
         return passed
 

@@ -33,12 +33,14 @@ def note_for(on: datetime.date) -> str:
             "(recorded by izwatch)")
 
 
-def record_date(sites, history, on: datetime.date) -> list[DatePassed]:
+def record_date(sites, history, on: datetime.date, overdue: dict | None = None) -> list[DatePassed]:
     """Record, for each of `sites` ((Site, its network-operator outcome or None) pairs), the
     deadlines overdue on `on` that the history does not hold as overdue; the recorded revisions,
-    one per site with anything new."""
+    one per site with anything new. `overdue`: site id -> its items overdue on `on`, for sites
+    not read (from their briefs: tracker.tracking.warm)."""
     candidates = {s.id: items for s, origin in sites
                   if s is not None and (items := overdue_items(s, on, origin))}
+    candidates.update({site_id: items for site_id, items in (overdue or {}).items() if items})
     if not candidates:
         return []
     planned: list[tuple[str, list[dict]]] = []

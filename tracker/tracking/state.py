@@ -30,7 +30,7 @@ from tracker.tracking import impact
 from tracker.tracking.diff import ADDED, REMOVED, Change, diff_file, elements
 from tracker.events import input_error_event
 from tracker.tracking.outcome import FileOutcome
-from tracker.tracking.warm import SiteBrief
+from tracker.tracking.warm import SiteBrief, deadline_brief
 from tracker.tracking.warnings import note_warnings
 from tracker.tracking.transitions import compare
 
@@ -269,6 +269,7 @@ class EstateState:
     def briefs(self) -> dict[str, SiteBrief]:
         """folder -> brief of every folder whose files all load and whose site stands."""
         errors = {self.folder_of(rel) for rel in self.errors}
+        day = self.today()
         files: dict[str, set[str]] = {}
         for rel in self.hashes:
             files.setdefault(self.folder_of(rel), set()).add(rel)
@@ -285,7 +286,8 @@ class EstateState:
             out[folder] = SiteBrief(site.id, tuple((rel, good[rel].sha256) for rel in sorted(good)),
                                     len(site.circuits),
                                     sum(1 for r in result.circuits.values() if r.status == FAIL),
-                                    tuple(w for rel in sorted(good) for w in good[rel].warnings))
+                                    tuple(w for rel in sorted(good) for w in good[rel].warnings),
+                                    **deadline_brief(site, result.notification, day))
         return out
 
     def site_by_id(self, site_id: str) -> SiteState | None:

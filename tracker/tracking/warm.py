@@ -15,6 +15,8 @@ recorded content) on its first need: an edit, or a reader asking for its model o
 """
 from __future__ import annotations
 
+import dataclasses
+import datetime
 import hashlib
 import json
 import os
@@ -23,6 +25,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
 
+from tracker.inspection.due import OVERDUE, DueItem, site_items, status_on
 from tracker.loading.errors import LoadWarning
 
 FORMAT = "izwatch-warm-start/1"
@@ -37,9 +40,61 @@ class SiteBrief:
     circuits: int
     failing: int                            # circuits whose status is fail
     warnings: tuple[LoadWarning, ...] = ()
+    # Every deadline item of the site on the day `due_from` (tracker.inspection.due.site_items);
+    # the set of items and their dates stay the same until `due_until`, the first later date
+    # written in the site's inspections (an inspection, work done or confirmed on that day is
+    # then counted), so on any day in between only their status is to be worked out again.
+    due: tuple[DueItem, ...] = ()
+    due_from: datetime.date | None = None      # None: not known (the site is read for its deadlines)
+    due_until: datetime.date | None = None     # None: no later date in the site's inspections
 
     def files(self) -> dict[str, str]:
         return dict(self.hashes)
+
+    def overdue_on(self, day: datetime.date) -> list[DueItem] | None:
+        """The site's items overdue on `day` (as tracker.inspection.events.overdue_items gives
+        them); None where the brief cannot tell: a day before it was made, or on or after a date
+        of the site's inspections that lay ahead then."""
+        if self.due_from is None or day < self.due_from or (self.due_until is not None and day >= self.due_until):
+            return None
+        # (whether an item is overdue does not depend on its due-soon days: none are passed)
+        return [dataclasses.replace(i, status=OVERDUE) for i in self.due
+                if status_on(i.due, day, 0, i.done_on) == OVERDUE]
+
+
+def _dates_in(value, out: list) -> None:
+    if isinstance(value, datetime.date):
+        out.append(value)
+    elif dataclasses.is_dataclass(value) and not isinstance(value, type):
+        for f in dataclasses.fields(value):
+            _dates_in(getattr(value, f.name), out)
+    elif isinstance(value, (list, tuple)):
+        for v in value:
+            _dates_in(v, out)
+
+
+def deadline_brief(site, origin, day: datetime.date) -> dict:
+    """The `due`, `due_from` and `due_until` of a site's brief made on `day` (`origin`: the site's
+    network-operator outcome, SiteResult.notification)."""
+    dates: list = []
+    _dates_in(site.inspections, dates)
+    later = [d for d in dates if d > day]
+    return {"due": tuple(site_items(site, day, origin)), "due_from": day, "due_until": min(later) if later else None}
+
+
+def _date(text):
+    return None if text is None else datetime.date.fromisoformat(text)
+
+
+def _item(site_id: str, row) -> DueItem:
+    what, due, source, ref, done_on, duty, about = row
+    return DueItem(site_id, str(what), _date(due), "", str(source), str(ref), _date(done_on), str(duty),
+                   tuple(about))
+
+
+def _item_row(i: DueItem) -> list:
+    return [i.what, i.due.isoformat(), i.source, i.ref, i.done_on.isoformat() if i.done_on else None, i.duty,
+            list(i.about)]
 
 
 @lru_cache(maxsize=1)
@@ -84,11 +139,14 @@ def load(path: Path | None) -> dict[str, SiteBrief]:
             return {}
         out = {}
         for folder, b in doc["sites"].items():
-            out[str(folder)] = SiteBrief(str(b["id"]), tuple((str(f), str(s)) for f, s in b["files"]),
+            site_id = str(b["id"])
+            out[str(folder)] = SiteBrief(site_id, tuple((str(f), str(s)) for f, s in b["files"]),
                                          int(b["circuits"]), int(b["failing"]),
-                                         tuple(_warning(w) for w in b.get("warnings", ())))
+                                         tuple(_warning(w) for w in b.get("warnings", ())),
+                                         tuple(_item(site_id, row) for row in b.get("due", ())),
+                                         _date(b.get("due_from")), _date(b.get("due_until")))
         return out
-    except (OSError, ValueError, KeyError, TypeError, AttributeError):
+    except (OSError, ValueError, KeyError, TypeError, AttributeError):   # (a bad date is a ValueError)
         return {}
 
 
@@ -100,7 +158,10 @@ def save(path: Path | None, briefs: dict[str, SiteBrief]) -> None:
     doc = {"format": FORMAT, "rules": rules_fingerprint(), "sites": {
         folder: {"id": b.site_id, "files": [list(x) for x in b.hashes], "circuits": b.circuits,
                  "failing": b.failing,
-                 "warnings": [[w.file, w.line, w.col, w.message, list(w.path)] for w in b.warnings]}
+                 "warnings": [[w.file, w.line, w.col, w.message, list(w.path)] for w in b.warnings],
+                 "due": [_item_row(i) for i in b.due],
+                 "due_from": b.due_from.isoformat() if b.due_from else None,
+                 "due_until": b.due_until.isoformat() if b.due_until else None}
         for folder, b in sorted(briefs.items())}}
     tmp = None
     try:
