@@ -27,6 +27,11 @@ def _add_db(p: argparse.ArgumentParser, creates: bool = True) -> None:
                         + ("created on first use)" if creates else "only read; never created)"))
 
 
+def _cores() -> str:
+    n = available_cores()
+    return f"{n} core" if n == 1 else f"{n} cores"
+
+
 def _jobs(text: str) -> int:
     try:
         n = int(text) if len(text) < 10 else -1
@@ -36,7 +41,7 @@ def _jobs(text: str) -> int:
         raise argparse.ArgumentTypeError(f"{text!r}: give a whole number of worker processes, 1 or more")
     if n > max_jobs():
         raise argparse.ArgumentTypeError(f"{text!r}: at most {max_jobs()} worker processes here "
-                                         f"({JOBS_PER_CORE} per core, {available_cores()} cores available)")
+                                         f"({JOBS_PER_CORE} per core, {_cores()} available to izwatch)")
     return n
 
 

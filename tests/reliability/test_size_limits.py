@@ -5,7 +5,10 @@ refused by them. How long each refusal took is printed with the reliability figu
 is asserted)."""
 from __future__ import annotations
 
+import os
 import random
+import subprocess
+import sys
 import time
 
 import pytest
@@ -96,3 +99,17 @@ def test_the_watcher_takes_other_saves_at_once_after_a_file_past_the_limits(demo
         w.stop()
         h.close()
     record("a file past the size limits under watch: other saves taken", "yes (an input error for that file)")
+
+
+@pytest.mark.skipif(not hasattr(os, "sched_setaffinity"), reason="no CPU affinity on this system")
+def test_jobs_are_bounded_by_the_cores_this_process_may_use(demo_copy):
+    """A process allowed one core (a container, `taskset`) takes at most 4 worker processes,
+    whatever the machine's count of cores (README, limits)."""
+    code = ("import os, sys; os.sched_setaffinity(0, {min(os.sched_getaffinity(0))}); "
+            "from tracker.cli import main; sys.exit(main(sys.argv[1:]))")
+    many = subprocess.run([sys.executable, "-c", code, "check", str(demo_copy), "--jobs", "5"],
+                          capture_output=True, text=True, timeout=120)
+    assert many.returncode == 2 and "at most 4 worker processes" in many.stderr and "1 core available" in many.stderr
+    four = subprocess.run([sys.executable, "-c", code, "check", str(demo_copy), "--jobs", "4"],
+                          capture_output=True, text=True, timeout=120)
+    assert four.returncode in (0, 1), four.stderr[-500:]
