@@ -67,6 +67,20 @@ def test_an_edit_through_a_link_inside_the_estate_is_taken_at_once(demo_copy, ho
         h.close()
 
 
+@pytest.mark.parametrize("through_link", [False, True])
+def test_a_file_made_in_a_linked_site_folder_is_taken_at_once(demo_copy, through_link):
+    target = _link_site(demo_copy).parent
+    w, h, _ = start_watcher(demo_copy, debounce_s=LONG_SETTLE_S)
+    try:
+        folder = demo_copy / "heron-row" if through_link else target
+        (folder / "notes.yaml").write_text("x_notes: a board file to come\n", encoding="utf-8")
+        got = _until(w, {"heron-row/notes.yaml"})
+        assert "heron-row/notes.yaml" in {u.outcome.file for u in got}
+    finally:
+        w.stop()
+        h.close()
+
+
 def test_a_link_made_while_watching_is_followed_too(demo_copy):
     """(The settle interval is short here, so that the link's creation is looked at; the edit
     after it would otherwise wait for the safety scan all the same.)"""

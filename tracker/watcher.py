@@ -13,8 +13,9 @@ An attribute change (a file or folder made readable again) is looked at as a tou
 
 A site file may be a link to a file elsewhere inside the estate (or lie in a linked site folder):
 the kernel reports an edit under the target's path, so the watcher keeps a map from each target
-to the site files that lead to it (made at start, kept up as such files are looked at, and
-redone by the safety scan) and looks at those site files too.
+to the site files that lead to it, and from each linked site folder's target to the site folder
+(made at start, kept up as such files are looked at, and redone by the safety scan), and looks at
+those site files too (a file made or removed in a linked folder's target among them).
 
 Only the events that can mean a change are asked of the kernel: not opens and closes without a
 write, or the watcher's own reading of every file at start would flood the kernel's queue.
@@ -130,6 +131,7 @@ class Watcher:
         # target rel -> site files (rels) that are links to it or lie in a linked folder; replaced
         # whole (never changed in place) so the observer thread reads it without the lock
         self._linked: dict[str, frozenset[str]] = {}
+        self._linked_folders: dict[str, str] = {}   # target folder rel -> the site folder linked to it
 
     # -- start ----------------------------------------------------------------------------
 
@@ -227,6 +229,12 @@ class Watcher:
         if rel is None:
             return
         through = () if is_directory else self._linked.get(rel, ())   # site files that are links to it
+        if not is_directory and not through:
+            # a file made or removed in the target of a linked site folder: the site's own file
+            parent, _, name = rel.rpartition("/")
+            site = self._linked_folders.get(parent)
+            if site is not None and name.endswith(".yaml"):
+                through = (f"{site}/{name}",)
         if not (is_directory or rel.endswith(".yaml") or through):
             return
         due = time.monotonic() + (0.0 if complete else self.debounce_s)
@@ -261,6 +269,12 @@ class Watcher:
             if target is not None and target != rel:
                 found.setdefault(target, set()).add(rel)
         self._linked = {t: frozenset(rels) for t, rels in found.items()}
+        linked_folders = {}
+        for folder, linked in folders.items():
+            target = self._rel(Path(os.path.realpath(folder))) if linked else None
+            if target is not None:
+                linked_folders[target] = Path(os.path.relpath(folder, self.root)).as_posix()
+        self._linked_folders = linked_folders
         return out
 
     def _target_of(self, path: Path, linked_folders: dict) -> str | None:
