@@ -448,3 +448,25 @@ def test_generated_at_is_the_moment_given(demo_copy):
     doc = gather.build(site, estate.loads[site.folder].files, demo_copy / "none.sqlite", now=moment)
     assert doc["generated_at"] == "2031-04-05T06:07:08Z"
     assert "2031-04-05 06:07 +00:00" in Page(html_page.render(doc)).all_text()      # the suite runs in UTC
+
+
+@pytest.mark.parametrize("schema", [1, 2])
+def test_a_history_an_earlier_izwatch_wrote_is_read_as_it_is_and_left_so(demo_copy, capsys, tmp_path, schema):
+    # A landlord upgrades izwatch and asks for a report before anything has written to the history:
+    # the report reads it (it never migrates a history), says so, and the file keeps its bytes.
+    import shutil
+    from tracker.history import History
+    from tracker.history.store import migrations_dir
+    folder = tmp_path / "earlier"
+    folder.mkdir()
+    for sql in sorted(migrations_dir().glob("*.sql"))[:schema]:
+        shutil.copy(sql, folder)
+    path = demo_copy / ".izwatch" / "history.sqlite"
+    History.open(path, migrations=folder).close()
+    before = path.read_bytes()
+    doc = json.loads(_report(capsys, demo_copy, tmp_path / "r.json", "json"))
+    assert doc["history"]["state"] == "recorded"
+    assert f"history schema {schema} of" in doc["history"]["reason"] and "izwatch verify" in doc["history"]["reason"]
+    page = _report(capsys, demo_copy, tmp_path / "r.html")
+    assert "written by an earlier izwatch" in page and "could not be read" not in page
+    assert path.read_bytes() == before

@@ -376,6 +376,13 @@ class History:
     def _user_version(self) -> int:
         return self.db.execute("PRAGMA user_version").fetchone()[0]
 
+    def schema_behind(self) -> tuple[int, int] | None:
+        """(this history's schema, the schema this izwatch writes) where an earlier izwatch wrote it
+        and nothing has opened it for writing since (a reader never migrates); None where it is up
+        to date."""
+        version, known = self._user_version(), len(migration_files(self._migrations_folder()))
+        return (version, known) if 0 < version < known else None
+
     def _set_user_version(self, number: int) -> None:
         self.db.execute(f"PRAGMA user_version = {int(number)}")
 

@@ -269,11 +269,21 @@ class HistoryReader:
             return
         if not location_exists(self.db):
             return
+        self.older: str | None = None
         try:
-            self.history = History.open_for_reading(self.db)
+            # a history an earlier izwatch wrote is read as it is (a report never migrates it): the
+            # migrations since add a revision source and a table of verified heads, both optional here
+            self.history = History.open_for_reading(self.db, older=True)
+            behind = self.history.schema_behind()
         except HistoryError as exc:
             self.error = str(exc)
             return
+        except sqlite3.DatabaseError as exc:
+            self.error = damaged_read(self.db, exc) if is_damage(exc) else f"{shown_location(self.db)}: {exc}"
+            return
+        if behind is not None:
+            self.older = (f"written by an earlier izwatch (history schema {behind[0]} of {behind[1]}), read as it "
+                          "is; open it once with `izwatch watch` or `izwatch verify` to bring it up to date")
         try:
             self.report = checked["report"] if checked is not None else verify_tail(self.history)
             if not scoped:
@@ -283,9 +293,12 @@ class HistoryReader:
         except HistoryError as exc:   # rows izwatch did not write: the report says so (verify names where)
             self.error = str(exc)
         except sqlite3.DatabaseError as exc:
-            if not is_damage(exc):
+            if is_damage(exc):
+                self.error = damaged_read(self.db, exc)
+            elif self.older is not None:    # a query this earlier schema cannot answer
+                self.error = f"{shown_location(self.db)}: {self.older} ({exc})"
+            else:
                 raise
-            self.error = damaged_read(self.db, exc)
 
     def checked(self) -> dict:
         """The verification found here, for readers in other processes (picklable)."""
@@ -318,9 +331,10 @@ class HistoryReader:
             failing = query.failing_since(self.history, ref=site.id) if self.failing is None else self.failing
             acks = query.latest_acks(self.history, ref=site.id) if self.acks is None else self.acks
         except sqlite3.DatabaseError as exc:
-            if not is_damage(exc):
+            if not is_damage(exc) and self.older is None:
                 raise
-            problem = damaged_read(self.db, exc)
+            problem = (damaged_read(self.db, exc) if is_damage(exc)
+                       else f"{shown_location(db)}: {self.older} ({exc})")
             out.update(state="unreadable", reason=problem)
             out["verification"].update(state="unreadable", ok=False, problem=problem)
             out["files"] = _file_states(site_files, None)
@@ -343,6 +357,7 @@ class HistoryReader:
                                    first_bad=rep.first_bad, scope=verify_scope(rep.verified_head),
                                    verified_in_full=rep.verified_head)
         out["state"] = "recorded"
+        out["reason"] = self.older      # None, or how an earlier izwatch's history was read
         return out
 
 

@@ -84,6 +84,8 @@ def _head(doc: dict) -> Safe:
         "unreadable": f"could not be read: {hist['reason']}",
         "none": "none recorded yet",
     }[ver["state"]]
+    if ver["state"] in ("intact", "broken") and hist.get("reason"):
+        history_line += f" ({hist['reason']})"     # an earlier izwatch's history, read as it is
     meta = [
         ("Site", cat(el("code", site["id"]), f" · rule set {site['rules']} · premises {site['premises']}")),
         ("Site files", cat(*[cat(f, ", ") for f in files[:-1]], files[-1] if files else "—")),
