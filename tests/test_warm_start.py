@@ -233,3 +233,16 @@ def test_a_deadline_the_date_passes_is_recorded_without_reading_the_site(site_fa
     finally:
         w.stop()
         h.close()
+
+
+def test_a_site_file_is_known_by_its_folder_as_before(tmp_path):
+    """The plain-path reading of folder_of gives what the path rules give (common practice of the
+    loader: site folders one level down, *.yaml, hidden names and the state folder left out)."""
+    st = EstateState(tmp_path, single_site=False)
+    cases = {"a/site.yaml": "a", "a/boards.yaml": "a", "a/.hidden.yaml": None, "a/.yaml": None,
+             ".izwatch/x.yaml": None, ".a/site.yaml": None, "site.yaml": None, "a/b/site.yaml": None,
+             "a/site.yml": None, "a/site.yaml.bak": None, "a//site.yaml": "a", "./a/site.yaml": "a",
+             "a/../site.yaml": None}
+    assert {rel: st.folder_of(rel) for rel in cases} == cases
+    one = EstateState(tmp_path, single_site=True)
+    assert [one.folder_of(r) for r in ("site.yaml", "b.yaml", "a/site.yaml", ".x.yaml")] == ["", "", None, None]

@@ -182,6 +182,18 @@ class EstateState:
 
     def folder_of(self, rel: str) -> str | None:
         """The site folder of a site file (relative path), or None if it is not a site file."""
+        if not ("//" in rel or "/./" in rel or rel.startswith(("/", "./")) or rel.endswith("/")):
+            # a plain relative path (as every caller gives): the same answer without PurePosixPath,
+            # which a start asks of every file several times
+            parts = rel.split("/")
+            name = parts[-1]
+            if not name.endswith(".yaml") or name.startswith(".") or name == ".yaml":
+                return None
+            if self.single_site:
+                return "" if len(parts) == 1 else None
+            if len(parts) != 2 or parts[0].startswith(".") or parts[0] == STATE_DIR:
+                return None
+            return parts[0]
         p = PurePosixPath(rel)
         if p.suffix != ".yaml" or p.name.startswith("."):
             return None
