@@ -102,3 +102,26 @@ def test_processes_creating_the_history_at_once(tmp_path):
     shipped = str(len(migration_files(migrations_dir())))     # every migration applied, once
     assert [o[0].strip() for o in outs] == [shipped] * 6, [o[1] for o in outs]
     assert sorted(p.name for p in path.parent.iterdir() if not p.name.startswith("history.sqlite")) == []
+
+
+def test_an_open_that_meets_a_lock_at_once_tries_again(tmp_path, monkeypatch):
+    """SQLite reports some locks at once, without waiting for its busy timeout (two processes
+    switching a new history to WAL together): opening tries again instead of failing."""
+    from tracker.history import History
+    from tracker.history import store
+    path = tmp_path / "h.sqlite"
+    History.open(path).close()
+    real = store.History._open_existing.__func__
+    calls = []
+
+    def locked_once(cls, p, migrations):
+        calls.append(p)
+        if len(calls) == 1:
+            raise store._LockedOnOpen()
+        return real(cls, p, migrations)
+
+    monkeypatch.setattr(store.History, "_open_existing", classmethod(locked_once))
+    monkeypatch.setattr(store.time, "sleep", lambda s: None)
+    h = History.open(path)
+    assert len(calls) == 2
+    h.close()

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import os
+import time
 import re
 import sqlite3
 import tempfile
@@ -27,12 +28,18 @@ from tracker.schemas_access import schema_dir
 
 DB_DIR, DB_NAME = ".izwatch", "history.sqlite"
 BUSY_TIMEOUT_MS = 30_000
+# Opening tries again after a lock SQLite reports without waiting (common practice for SQLite)
+OPEN_ATTEMPTS = 4
+
+
+class _LockedOnOpen(Exception):
+    """An open met a lock SQLite reported at once; `History.open` tries again."""
 
 
 class HistoryError(Exception):
     """The history database cannot be used. `kind` says why, so that a full disk or a read-only
     folder is never reported as damage: "damaged", "unwritable", "full", "foreign", "newer",
-    "missing" or "unusable"."""
+    "missing", "busy" (locked by another process all the while it was opened) or "unusable"."""
 
     def __init__(self, message: str, kind: str = "unusable"):
         super().__init__(message)
@@ -276,6 +283,21 @@ class History:
                                    "restore it from a backup or move it aside", "damaged")
         except OSError as exc:
             raise plain_error(path, exc) from None
+        for attempt in range(OPEN_ATTEMPTS):
+            try:
+                return cls._open_existing(path, migrations)
+            except _LockedOnOpen:
+                if attempt == OPEN_ATTEMPTS - 1:
+                    raise HistoryError(f"{path}: the history stayed locked by another process while it was being "
+                                       "opened; try again", "busy") from None
+                time.sleep(0.2 * (attempt + 1))
+        raise AssertionError("unreachable")
+
+    @classmethod
+    def _open_existing(cls, path: Path, migrations: Path | None) -> History:
+        """One attempt at opening an existing history file (see `open`). A lock that SQLite reports
+        at once, without waiting (two processes switching a new file to WAL or migrating it at the
+        same moment), raises _LockedOnOpen so that `open` tries again."""
         conn = None
         try:
             conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
@@ -300,6 +322,8 @@ class History:
         except (sqlite3.DatabaseError, OSError) as exc:
             if conn is not None:
                 conn.close()
+            if isinstance(exc, sqlite3.OperationalError) and "locked" in str(exc):
+                raise _LockedOnOpen() from None
             raise plain_error(path, exc) from None
         return store
 
