@@ -27,16 +27,6 @@ def test_table_64_names_only_its_test_voltages():
     assert measured.min_insulation_mohm(100) is None
 
 
-@pytest.mark.parametrize("delay, multiple, limits", [
-    ("general", 1, (None, 300.0)),   # BS EN 61008-1 / 61009-1 general type: ≤ 300 ms at IΔn
-    ("general", 5, (None, 40.0)),    # and ≤ 40 ms at 5 IΔn
-    ("S", 1, (130.0, 500.0)),        # time-delayed (S): 130–500 ms at IΔn
-    ("S", 5, (50.0, 150.0)),         # and 50–150 ms at 5 IΔn
-])
-def test_rcd_limits_by_delay(delay, multiple, limits):
-    assert measured.rcd_time_limits_ms(delay, multiple) == limits
-
-
 @pytest.mark.parametrize("ia_multiple, rating_a, table_ohm, measured_ohm", [
     # BS 7671:2018 Table 41.3 (0.4 s, 230 V, Cmin 0.95), and 80 % of the tabulated figure as the
     # most a reading at ambient may show (the 0.8 rule, common practice):

@@ -151,6 +151,18 @@ def device_info(kind: str) -> dict | None:
     return devices().get(kind)
 
 
+def rcd_time_limits_ms(delay: str = "general", multiple: int = 1) -> tuple[float | None, float]:
+    """(shortest, longest) operating time in ms of an RCD at `multiple` × IΔn (1 or 5) by its
+    product standards (devices.yaml `rcd`): `delay` 'general' (no delay, no shortest) or 'S'
+    (time-delayed, with the hold-off it must give). The one source of these figures: the fault-loop
+    and adiabatic checks read the same rows."""
+    rcd = device_info("rcd")
+    if delay == "S":
+        return (float(rcd["delayed_least_time_s"][multiple][0]) * 1000.0,
+                float(rcd["delayed_break_time_s"][multiple][0]) * 1000.0)
+    return None, float(rcd["break_time_s"][multiple][0]) * 1000.0
+
+
 def standard_ratings(kind: str) -> list[float]:
     info = device_info(kind)
     return [float(r) for r in info["ratings_a"]] if info else []

@@ -9,7 +9,6 @@ from tracker.checks.registry import CheckSpec, Outcome
 from tracker.checks.readings import Readings
 from tracker.checks.result import FAIL, PASS, WARN, CheckResult, fmt, not_assessed
 from tracker.checks.working import IF_KNOWN, figure, record
-from tracker.engine import measured
 
 ID = "rcd-operation"
 UNIT = "ms"
@@ -61,7 +60,7 @@ def assess(f: Facts, rd: Readings | None) -> tuple[CheckResult, dict]:
         return not_assessed(ID, UNIT, "<=", f"{head}, but the site file gives no RCD for this circuit (rcd_ma on "
                                             "the circuit or its board)", value=t), {"rcd_ms": t}
     delay, delay_how = _delay(f)
-    shortest, longest = measured.rcd_time_limits_ms(delay, 1)
+    shortest, longest = catalogue.rcd_time_limits_ms(delay, 1)
     working = {"rcd_ms": t, "rcd_max_ms": longest, "measured_on": rd.date.isoformat()}
     standard = f"{f.rcd_ma:g} mA RCD, {delay_how}: {catalogue.device_info('rcd')['standard']}"
     if t > longest:

@@ -1,6 +1,6 @@
-"""Measured test results against their limits: insulation resistance (BS 7671 Table 64), RCD
-operating times, measured earth fault loop impedance against a tabulated maximum, and the R1+R2
-a modelled cable should measure.
+"""Measured test results against their limits: insulation resistance (BS 7671 Table 64), measured
+earth fault loop impedance against a tabulated maximum, and the R1+R2 a modelled cable should
+measure. (RCD operating times are data: tracker/data/devices.yaml, `catalogue.rcd_time_limits_ms`.)
 
 Pure functions of plain numbers. A published figure's status is given beside it (seen: confirmed
 in a public secondary source quoting the table; common practice: a fact of the trade).
@@ -19,15 +19,6 @@ TABLE_64 = (
     ("up to and including 500 V", 500.0, 500.0, 1.0),
     ("above 500 V", float("inf"), 1000.0, 1.0),
 )
-
-# RCD operating-time limits, ms, of the product standards (BS EN 61008-1 RCCBs, BS EN 61009-1
-# RCBOs; seen in secondary sources quoting them): (shortest, longest) at IΔn and at 5 IΔn.
-# The limits depend on the delay, not on the type (AC, A, F, B) of residual current detected
-# (common practice: each type's product standard keeps the same break times).
-RCD_TIMES_MS = {
-    "general": {1: (None, 300.0), 5: (None, 40.0)},
-    "S": {1: (130.0, 500.0), 5: (50.0, 150.0)},
-}
 
 # Measured Zs at the conductors' test temperature against a maximum tabulated for their operating
 # temperature: the rule of thumb of 0.8 (common practice; IET Guidance Note 3 and the On-Site
@@ -55,12 +46,6 @@ def min_insulation_mohm(test_v: float) -> float | None:
         if test_v == row_test_v:
             return min_mohm
     return None
-
-
-def rcd_time_limits_ms(delay: str = "general", multiple: int = 1) -> tuple[float | None, float]:
-    """(shortest, longest) operating time in ms of an RCD at `multiple` × IΔn (1 or 5);
-    `delay` 'general' (no delay) or 'S' (time-delayed)."""
-    return RCD_TIMES_MS[delay][multiple]
 
 
 def measured_zs_limit_ohm(max_zs_ohm: float, factor: float = MEASURED_ZS_FACTOR) -> float:
