@@ -8,7 +8,8 @@ import io
 from rich.console import Console
 from textual.widgets import Static
 
-from tests.tui_helpers import AUTHOR, edit, loaded, make_app, run, until
+from tests.tui_helpers import AUTHOR, loaded, make_app, run, until
+from tests.watch_helpers import edit
 from tracker.history import History, NewRevision
 from tracker.history.query import revisions
 from tui.components.ack_dialog import AckDialog

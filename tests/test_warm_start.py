@@ -7,7 +7,7 @@ import datetime
 import json
 import shutil
 
-from tests.watch_helpers import settle, start_watcher
+from tests.watch_helpers import edit, settle, start_watcher
 from tracker.history.query import revisions
 from tracker.loading.errors import sort_problems
 from tracker.tracking import warm
@@ -15,12 +15,6 @@ from tracker.tracking.state import EstateState
 from tracker.tracking.transitions import checks_by_ref
 
 SHOWER = "quill-court-2/site.yaml"
-
-
-def edit(path, old, new):
-    text = path.read_text(encoding="utf-8")
-    assert old in text
-    path.write_text(text.replace(old, new, 1), encoding="utf-8")
 
 
 def transitions(updates):

@@ -11,19 +11,13 @@ import sys
 import time
 
 from tests.conftest import MINIMAL
-from tests.watch_helpers import settle, start_watcher
+from tests.watch_helpers import edit, settle, start_watcher
 from tracker.history import History
 from tracker.history.query import revisions
 from tracker.history.verify import verify
 from tracker.loading.estate import sha256_hex
 
 SHOWER = "quill-court-2/site.yaml"
-
-
-def edit(path, old, new):
-    text = path.read_text(encoding="utf-8")
-    assert old in text
-    path.write_text(text.replace(old, new, 1), encoding="utf-8")
 
 
 def transitions(updates):

@@ -34,12 +34,6 @@ async def loaded(pilot) -> None:
     await pilot.pause()
 
 
-def edit(path, old, new) -> None:
-    text = path.read_text(encoding="utf-8")
-    assert old in text, old
-    path.write_text(text.replace(old, new, 1), encoding="utf-8")
-
-
 def replace_atomically(path, old, new) -> None:
     """An edit saved the way many editors do it: a whole new file renamed over the old one, so
     a watcher never reads it half-written (snapshots need the same revisions every run)."""

@@ -7,6 +7,13 @@ from tracker.history import History
 from tracker.watcher import Watcher
 
 
+def edit(path, old, new) -> None:
+    """Replace the first `old` of a site file by `new` (which must be there), as a save would."""
+    text = path.read_text(encoding="utf-8")
+    assert old in text, old
+    path.write_text(text.replace(old, new, 1), encoding="utf-8")
+
+
 def start_watcher(root, db=None, debounce_s=0.1):
     history = History.open(db or root / ".izwatch" / "history.sqlite")
     w = Watcher(root, history, debounce_s=debounce_s)
