@@ -321,10 +321,7 @@ class HistoryReader:
             out["files"] = _file_states(site_files, None)
             return out
         if self.error is not None:
-            out.update(state="unreadable", reason=self.error)
-            out["verification"].update(state="unreadable", ok=False, problem=self.error)
-            out["files"] = _file_states(site_files, None)
-            return out
+            return _unreadable(out, self.error, site_files)
         try:
             everything = query.revisions(self.history, ref=site.id)
             latest = self.history.latest_by_file(site_files) if self.latest is None else self.latest
@@ -335,15 +332,9 @@ class HistoryReader:
                 raise
             problem = (damaged_read(self.db, exc) if is_damage(exc)
                        else f"{shown_location(db)}: {self.older} ({exc})")
-            out.update(state="unreadable", reason=problem)
-            out["verification"].update(state="unreadable", ok=False, problem=problem)
-            out["files"] = _file_states(site_files, None)
-            return out
+            return _unreadable(out, problem, site_files)
         except HistoryError as exc:
-            out.update(state="unreadable", reason=str(exc))
-            out["verification"].update(state="unreadable", ok=False, problem=str(exc))
-            out["files"] = _file_states(site_files, None)
-            return out
+            return _unreadable(out, str(exc), site_files)
         out["by_id"] = {r["id"]: r for r in everything}
         out["revisions_of_site"] = len(everything)
         out["latest_at"] = everything[-1]["at"] if everything else None
@@ -359,6 +350,14 @@ class HistoryReader:
         out["state"] = "recorded"
         out["reason"] = self.older      # None, or how an earlier izwatch's history was read
         return out
+
+
+def _unreadable(out: dict, problem: str, site_files: dict) -> dict:
+    """A site's history part where the history could not be read: the reason, and no file states."""
+    out.update(state="unreadable", reason=problem)
+    out["verification"].update(state="unreadable", ok=False, problem=problem)
+    out["files"] = _file_states(site_files, None)
+    return out
 
 
 def _read_history(db: Path, site: Site, site_files: dict, since: str | None) -> dict:
