@@ -9,7 +9,8 @@ import pytest
 from tracker.checks.readings import unmeasured
 from tracker.checks.site import explain_circuit
 
-from tests.tui_helpers import AUTHOR, edit, settle_file
+from tests.tui_helpers import AUTHOR, settle_file
+from tests.watch_helpers import edit
 from tracker.checks.result import FAIL, NOT_ASSESSED, PASS, WARN
 from tracker.history import History, NewRevision
 from tracker.history.query import revisions
